@@ -1,0 +1,54 @@
+#include "fulcrum/core/log.hpp"
+
+#include <unistd.h>
+
+#include <atomic>
+#include <cstdio>
+#include <mutex>
+
+namespace fulcrum {
+
+namespace {
+std::atomic<bool> g_quiet{false};
+std::mutex g_mutex;
+}  // namespace
+
+void set_quiet(bool q) { g_quiet = q; }
+bool quiet() { return g_quiet; }
+
+void warn(const std::string& message) {
+  std::lock_guard<std::mutex> lock(g_mutex);
+  std::fprintf(stderr, "fulcrum: warning: %s\n", message.c_str());
+}
+
+void note(const std::string& message) {
+  if (g_quiet) return;
+  std::lock_guard<std::mutex> lock(g_mutex);
+  std::fprintf(stderr, "%s\n", message.c_str());
+}
+
+Progress::Progress(std::string label, std::size_t total)
+    : label_(std::move(label)), total_(total), active_(!g_quiet && isatty(2)) {}
+
+Progress::~Progress() { finish(); }
+
+void Progress::advance(std::size_t n) {
+  std::lock_guard<std::mutex> lock(g_mutex);
+  done_ += n;
+  if (!active_ || total_ == 0) return;
+  if (done_ * 100 / total_ == last_shown_ * 100 / total_ && done_ != total_) return;
+  last_shown_ = done_;
+  std::fprintf(stderr, "\r%s: %zu/%zu (%zu%%)", label_.c_str(), done_, total_, done_ * 100 / total_);
+  std::fflush(stderr);
+}
+
+void Progress::finish() {
+  if (finished_) return;
+  finished_ = true;
+  if (active_) {
+    std::lock_guard<std::mutex> lock(g_mutex);
+    std::fprintf(stderr, "\r%s: %zu/%zu done\n", label_.c_str(), done_, total_);
+  }
+}
+
+}  // namespace fulcrum

@@ -1,0 +1,234 @@
+// CelestialWcs: the celestial part of a FITS header through wcslib.
+#include "fulcrum/io/wcs.hpp"
+
+#include <wcslib/wcs.h>
+#include <wcslib/wcsfix.h>
+#include <wcslib/wcshdr.h>
+#include <wcslib/wcsutil.h>
+
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <cstring>
+#include <vector>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/io/fits_image.hpp"
+
+namespace fulcrum {
+
+void CelestialWcs::Deleter::operator()(wcsprm* w) const {
+  if (w) {
+    wcsfree(w);
+    std::free(w);
+  }
+}
+
+CelestialWcs::CelestialWcs() = default;
+CelestialWcs::~CelestialWcs() = default;
+CelestialWcs::CelestialWcs(CelestialWcs&&) noexcept = default;
+CelestialWcs& CelestialWcs::operator=(CelestialWcs&&) noexcept = default;
+
+namespace {
+
+wcsprm* new_blank() {
+  auto* w = static_cast<wcsprm*>(std::calloc(1, sizeof(wcsprm)));
+  w->flag = -1;
+  return w;
+}
+
+wcsprm* deep_copy(const wcsprm* src) {
+  wcsprm* dst = new_blank();
+  if (wcssub(1, src, nullptr, nullptr, dst) != 0) {
+    wcsfree(dst);
+    std::free(dst);
+    throw InternalError("wcssub failed to copy a WCS");
+  }
+  wcsset(dst);
+  return dst;
+}
+
+std::string wcs_message(const wcsprm* w, int status) {
+  if (w && w->err && w->err->msg) return w->err->msg;
+  if (status > 0 && status < 15 && wcs_errmsg[status]) return wcs_errmsg[status];
+  return "wcslib error " + std::to_string(status);
+}
+
+bool is_celestial_ctype(const std::string& c) {
+  static const char* prefixes[] = {"RA--", "DEC-", "GLON", "GLAT", "ELON", "ELAT", "SLON", "SLAT"};
+  for (auto* p : prefixes)
+    if (c.rfind(p, 0) == 0) return true;
+  return false;
+}
+
+}  // namespace
+
+CelestialWcs::CelestialWcs(const CelestialWcs& other) : source_(other.source_) {
+  if (other.wcs_) wcs_.reset(deep_copy(other.wcs_.get()));
+}
+
+CelestialWcs& CelestialWcs::operator=(const CelestialWcs& other) {
+  if (this != &other) {
+    wcs_.reset(other.wcs_ ? deep_copy(other.wcs_.get()) : nullptr);
+    source_ = other.source_;
+  }
+  return *this;
+}
+
+CelestialWcs CelestialWcs::from_header(const std::string& header_cards, const std::string& source) {
+  const int nkeyrec = static_cast<int>(header_cards.size() / 80);
+  std::vector<char> buf(header_cards.begin(), header_cards.end());
+  buf.push_back('\0');
+  int nreject = 0, nwcs = 0;
+  wcsprm* all = nullptr;
+  int status = wcspih(buf.data(), nkeyrec, WCSHDR_all, 0, &nreject, &nwcs, &all);
+  if (status != 0 || nwcs < 1 || all == nullptr) {
+    if (all) wcsvfree(&nwcs, &all);
+    throw InputError(source, "cannot parse the WCS keywords of the header");
+  }
+  // Primary description (alternate ' ').
+  wcsprm* prim = &all[0];
+  for (int i = 0; i < nwcs; ++i)
+    if (all[i].alt[0] == ' ' || all[i].alt[0] == '\0') { prim = &all[i]; break; }
+
+  // Locate the celestial axes by CTYPE; they must be pixel axes 1 and 2.
+  int lng = -1, lat = -1;
+  for (int i = 0; i < prim->naxis; ++i) {
+    std::string c(prim->ctype[i]);
+    if (!is_celestial_ctype(c)) continue;
+    if (c.rfind("RA--", 0) == 0 || c.rfind("GLON", 0) == 0 || c.rfind("ELON", 0) == 0 ||
+        c.rfind("SLON", 0) == 0)
+      lng = i;
+    else
+      lat = i;
+  }
+  if (lng < 0 || lat < 0) {
+    wcsvfree(&nwcs, &all);
+    throw InputError(source, "no celestial WCS: CTYPE1/CTYPE2 must name sky axes such as "
+                             "RA---SIN and DEC--SIN");
+  }
+  if (!((lng == 0 && lat == 1) || (lng == 1 && lat == 0))) {
+    wcsvfree(&nwcs, &all);
+    throw InputError(source, "the celestial axes must be the first two axes of the array (found "
+                             "them on axes " + std::to_string(lng + 1) + " and " +
+                             std::to_string(lat + 1) + ")");
+  }
+  // A singular celestial CD matrix is an error, not something to repair.
+  if (prim->altlin & 2) {
+    double a = prim->cd[0 * prim->naxis + 0], b = prim->cd[0 * prim->naxis + 1];
+    double c = prim->cd[1 * prim->naxis + 0], d = prim->cd[1 * prim->naxis + 1];
+    if (std::abs(a * d - b * c) == 0.0) {
+      wcsvfree(&nwcs, &all);
+      throw InputError(source, "the CD matrix of the celestial axes is singular (its determinant "
+                               "is zero)");
+    }
+  }
+  int stat[NWCSFIX];
+  wcsfix(0, nullptr, prim, stat);
+
+  wcsprm* sub = new_blank();
+  int nsub = 2;
+  int axes[2] = {1, 2};
+  status = wcssub(1, prim, &nsub, axes, sub);
+  wcsvfree(&nwcs, &all);
+  if (status != 0 || nsub != 2) {
+    wcsfree(sub);
+    std::free(sub);
+    throw InputError(source, "cannot extract the celestial axes of the WCS");
+  }
+  status = wcsset(sub);
+  if (status != 0) {
+    std::string msg = wcs_message(sub, status);
+    wcsfree(sub);
+    std::free(sub);
+    throw InputError(source, "invalid celestial WCS: " + msg);
+  }
+  CelestialWcs out;
+  out.wcs_.reset(sub);
+  out.source_ = source;
+  // Sanity of the pixel scale: a galaxy map has pixels well below a degree.
+  double c0[2] = {sub->crpix[0], sub->crpix[1]};
+  (void)c0;
+  return out;
+}
+
+namespace {
+std::string card(const std::string& key, const std::string& value, bool quote) {
+  char buf[81];
+  if (quote)
+    std::snprintf(buf, sizeof buf, "%-8.8s= '%s'", key.c_str(), value.c_str());
+  else
+    std::snprintf(buf, sizeof buf, "%-8.8s= %20s", key.c_str(), value.c_str());
+  std::string s(buf);
+  s.resize(80, ' ');
+  return s;
+}
+std::string num(double v) {
+  char buf[32];
+  std::snprintf(buf, sizeof buf, "%.17G", v);
+  return buf;
+}
+}  // namespace
+
+CelestialWcs CelestialWcs::from_cd(const std::string& projection, PixelCoord crpix0,
+                                   WorldCoord crval, const double cd[2][2]) {
+  std::string h;
+  h += card("NAXIS", "2", false);
+  h += card("CTYPE1", "RA---" + projection, true);
+  h += card("CTYPE2", "DEC--" + projection, true);
+  h += card("CRPIX1", num(crpix0.x + 1.0), false);
+  h += card("CRPIX2", num(crpix0.y + 1.0), false);
+  h += card("CRVAL1", num(crval.ra_deg), false);
+  h += card("CRVAL2", num(crval.dec_deg), false);
+  h += card("CD1_1", num(cd[0][0]), false);
+  h += card("CD1_2", num(cd[0][1]), false);
+  h += card("CD2_1", num(cd[1][0]), false);
+  h += card("CD2_2", num(cd[1][1]), false);
+  h += card("RADESYS", "ICRS", true);
+  return from_header(h, "built-in WCS");
+}
+
+WorldCoord CelestialWcs::pixel_to_world(PixelCoord p) const {
+  if (!wcs_) throw InputError(source_, "image has no WCS");
+  double pix[2] = {p.x + 1.0, p.y + 1.0};
+  double img[2], phi, theta, world[2];
+  int stat = 0;
+  int status = wcsp2s(wcs_.get(), 1, 2, pix, img, &phi, &theta, world, &stat);
+  if (status != 0)
+    throw InputError(source_, "pixel (" + num(p.x + 1) + ", " + num(p.y + 1) +
+                                  ") has no sky position: " + wcs_message(wcs_.get(), status));
+  return {world[wcs_->lng], world[wcs_->lat]};
+}
+
+PixelCoord CelestialWcs::world_to_pixel(WorldCoord w) const {
+  if (!wcs_) throw InputError(source_, "image has no WCS");
+  double world[2];
+  world[wcs_->lng] = w.ra_deg;
+  world[wcs_->lat] = w.dec_deg;
+  double img[2], phi, theta, pix[2];
+  int stat = 0;
+  int status = wcss2p(wcs_.get(), 1, 2, world, &phi, &theta, img, pix, &stat);
+  if (status != 0)
+    throw InputError(source_, "sky position (" + num(w.ra_deg) + ", " + num(w.dec_deg) +
+                                  ") deg is not on the map's projection: " +
+                                  wcs_message(wcs_.get(), status));
+  return {pix[0] - 1.0, pix[1] - 1.0};
+}
+
+std::string CelestialWcs::header_cards() const {
+  if (!wcs_) return {};
+  int nkey = 0;
+  char* hdr = nullptr;
+  if (wcshdo(WCSHDO_safe, wcs_.get(), &nkey, &hdr) != 0 || hdr == nullptr)
+    throw InternalError("wcshdo failed to write a WCS header");
+  std::string out(hdr, static_cast<std::size_t>(nkey) * 80);
+  wcsdealloc(hdr);
+  return out;
+}
+
+std::string CelestialWcs::projection() const {
+  if (!wcs_) return {};
+  return std::string(wcs_->cel.prj.code);
+}
+
+}  // namespace fulcrum
