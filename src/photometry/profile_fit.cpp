@@ -52,7 +52,7 @@ class SersicRenderer {
     for (int y = 0; y < rh_; ++y)
       for (int x = 0; x < rw_; ++x) {
         const double d = std::hypot(x - m_ + x0_ - sub_centre.x, y - m_ + y0_ - sub_centre.y);
-        nsub_[x + rw_ * y] = d < 3.0 ? 9 : (d < 8.0 ? 5 : 1);
+        nsub_[x + rw_ * y] = d < 2.0 ? 15 : (d < 5.0 ? 7 : (d < 10.0 ? 3 : 1));
       }
   }
 

@@ -18,7 +18,7 @@
 // which other estimators ran.
 #pragma once
 
-#include <Eigen/Core>
+#include <Eigen/Dense>
 #include <cstdint>
 #include <functional>
 #include <string>

@@ -4,7 +4,7 @@
 // fitted parameters, iterations) for the report.
 #pragma once
 
-#include <Eigen/Core>
+#include <Eigen/Dense>
 #include <nlohmann/json.hpp>
 #include <optional>
 #include <string>

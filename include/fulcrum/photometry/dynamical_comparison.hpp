@@ -19,7 +19,7 @@
 // beside, together with the offset of that mean from K.
 #pragma once
 
-#include <Eigen/Core>
+#include <Eigen/Dense>
 #include <nlohmann/json.hpp>
 #include <optional>
 #include <string>

@@ -23,7 +23,7 @@
 // mean, on the sky) is the systematic part of "where is the centre".
 #pragma once
 
-#include <Eigen/Core>
+#include <Eigen/Dense>
 #include <cstdint>
 #include <nlohmann/json.hpp>
 #include <string>

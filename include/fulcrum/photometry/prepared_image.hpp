@@ -23,7 +23,7 @@
 // moments of its segment.
 #pragma once
 
-#include <Eigen/Core>
+#include <Eigen/Dense>
 #include <cstdint>
 #include <optional>
 #include <string>

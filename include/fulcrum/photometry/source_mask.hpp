@@ -24,7 +24,7 @@
 // space through the Jacobian (arcsec/pixel), so any grid orientation works.
 #pragma once
 
-#include <Eigen/Core>
+#include <Eigen/Dense>
 #include <cstdint>
 #include <optional>
 #include <string>
@@ -42,7 +42,7 @@ struct SourceMaskOptions {
   bool mask_stars_on_galaxy = true;
   double wide_factor = 3.0;
   double star_sigma = 8.0;
-  double star_fraction = 0.3;
+  double star_fraction = 0.1;
   double core_exclusion_fwhm = 2.5;
   std::optional<PixelCoord> galaxy_hint;  // 0-based pixel inside the galaxy
 };
