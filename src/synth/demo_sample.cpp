@@ -3,12 +3,14 @@
 // to show one outcome of the analysis. Positions, names and the cluster are
 // made up; the parameters were chosen by hand (and may be retuned so that the
 // full analysis reaches each expected verdict).
+#include <cstdio>
 #include <filesystem>
 #include <sstream>
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/sky/angle.hpp"
+#include "fulcrum/sky/offset_frame.hpp"
 #include "fulcrum/synth/mock_galaxy.hpp"
 
 namespace fulcrum::synth {
@@ -119,6 +121,14 @@ std::string toml_string(const std::string& s) {
   }
   return o + "\"";
 }
+// A TOML float: always with a decimal point, shortest exact form.
+std::string toml_float(double v) {
+  char b[40];
+  std::snprintf(b, sizeof b, "%.10g", v);
+  std::string s(b);
+  if (s.find_first_of(".eEn") == std::string::npos) s += ".0";
+  return s;
+}
 }  // namespace
 
 std::string write_sample(const std::string& dir, const std::vector<MockGalaxy>& galaxies,
@@ -139,9 +149,9 @@ std::string write_sample(const std::string& dir, const std::vector<MockGalaxy>& 
       << "intensity = " << toml_string(g.name + "/mom0.fits") << "\n"
       << "intensity_error = " << toml_string(g.name + "/mom0_err.fits") << "\n";
     if (p.optical) m << "optical = " << toml_string(g.name + "/opt.fits") << "\n";
-    m << "tail_pa_deg = " << wrap_pa_deg(g.tail_pa_deg) << "\n"
-      << "tail_pa_err_deg = " << g.tail_pa_err_deg << "\n"
-      << "distance_mpc = " << g.distance_mpc << "\n";
+    m << "tail_pa_deg = " << toml_float(wrap_pa_deg(g.tail_pa_deg)) << "\n"
+      << "tail_pa_err_deg = " << toml_float(g.tail_pa_err_deg) << "\n"
+      << "distance_mpc = " << toml_float(g.distance_mpc) << "\n";
   }
   const std::string path = (std::filesystem::path(dir) / "sample.toml").string();
   write_text_file(path, m.str());

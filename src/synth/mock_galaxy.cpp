@@ -68,6 +68,14 @@ enum Stream : std::uint64_t {
   kCubeNoise = 5,
 };
 
+// Position angle in [0, 360) without the round trip through radians (so
+// that 60 stays 60 in the truth file).
+double wrap_deg(double x) {
+  double r = std::fmod(x, 360.0);
+  if (r < 0.0) r += 360.0;
+  return r >= 360.0 ? 0.0 : r;
+}
+
 void require(bool ok, const std::string& what) {
   if (!ok) throw InputError("", "mock parameter out of range: " + what);
 }
@@ -357,7 +365,7 @@ MockProducts make_mock(const MockGalaxy& g) {
                    ? stripped_radius(g.scale_length_arcsec, g.disc_radius_arcsec, g.stripped_fraction)
                    : g.disc_radius_arcsec;
   lm.excess = g.leading_excess;
-  const double lead_pa = wrap_pa_deg(g.tail_pa_deg + 180.0);
+  const double lead_pa = wrap_deg(g.tail_pa_deg + 180.0);
   lm.u_lead = direction_of(lead_pa * degrees);
   lm.u_tail = direction_of(g.tail_pa_deg * degrees);
   lm.u_perp = direction_of((g.tail_pa_deg + 90.0) * degrees);
@@ -510,11 +518,11 @@ MockProducts make_mock(const MockGalaxy& g) {
   nlohmann::json d;
   d["centre"] = {{"ra_deg", g.ra_deg}, {"dec_deg", g.dec_deg},
                  {"fits_pixel_line_grid", pixel_json(map_wcs, centre)}};
-  d["kinematic_pa_deg"] = wrap_pa_deg(g.pa_deg);
-  d["receding_direction_pa_deg"] = wrap_pa_deg(g.pa_deg);
-  d["tail_pa_deg"] = wrap_pa_deg(g.tail_pa_deg);
+  d["kinematic_pa_deg"] = wrap_deg(g.pa_deg);
+  d["receding_direction_pa_deg"] = wrap_deg(g.pa_deg);
+  d["tail_pa_deg"] = wrap_deg(g.tail_pa_deg);
   d["leading_pa_deg"] = lead_pa;
-  d["trailing_pa_deg"] = wrap_pa_deg(g.tail_pa_deg);
+  d["trailing_pa_deg"] = wrap_deg(g.tail_pa_deg);
   d["beam_area_arcsec2"] = beam_area;
   d["line_pixel_area_arcsec2"] = map_pixel_area;
   d["pixels_per_beam"] = beam_area / map_pixel_area;
@@ -643,7 +651,7 @@ MockProducts make_mock(const MockGalaxy& g) {
     d["optical"] = {{"sersic_bn", bn},
                     {"sersic_ie_adu_per_arcsec2", ie},
                     {"axis_ratio", q},
-                    {"pa_deg", wrap_pa_deg(opa)},
+                    {"pa_deg", wrap_deg(opa)},
                     {"galaxy_counts_in_image", counts_in_image},
                     {"pixel_area_arcsec2", og.pixel_area},
                     {"stars", stars},

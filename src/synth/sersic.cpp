@@ -2,6 +2,7 @@
 // (formulas and sources in sersic.hpp).
 #include "fulcrum/synth/sersic.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <numbers>
 #include <string>
@@ -47,15 +48,16 @@ double lower_gamma_regularised(double a, double x) {
 double sersic_bn(double n) {
   if (!(n >= 0.2 && n <= 20.0))
     throw InputError("", "Sersic index " + std::to_string(n) + " is outside the supported range 0.2-20");
-  if (n > 0.36) {
-    // Ciotti & Bertin (1999), eq. 18.
-    return 2.0 * n - 1.0 / 3.0 + 4.0 / (405.0 * n) + 46.0 / (25515.0 * n * n) +
-           131.0 / (1148175.0 * n * n * n) - 2194697.0 / (30690717750.0 * n * n * n * n);
-  }
-  // Exact root of P(2n, b) = 1/2 by bisection (P increases with b).
-  double lo = 1e-8, hi = 4.0 * n + 2.0;
-  for (int it = 0; it < 200; ++it) {
-    double mid = 0.5 * (lo + hi);
+  // First guess: Ciotti & Bertin (1999), eq. 18 (asymptotic in n).
+  const double guess = 2.0 * n - 1.0 / 3.0 + 4.0 / (405.0 * n) + 46.0 / (25515.0 * n * n) +
+                       131.0 / (1148175.0 * n * n * n) - 2194697.0 / (30690717750.0 * n * n * n * n);
+  // Exact root of P(2n, b) = 1/2 by bisection (P increases with b), in a
+  // bracket about the guess that is widened until it holds the root.
+  double lo = std::max(1e-8, guess - 0.1), hi = guess + 0.1;
+  while (lo > 1e-8 && lower_gamma_regularised(2.0 * n, lo) > 0.5) lo = std::max(1e-8, lo - 1.0);
+  while (lower_gamma_regularised(2.0 * n, hi) < 0.5) hi += 1.0;
+  for (int it = 0; it < 100 && hi - lo > 1e-15 * hi; ++it) {
+    const double mid = 0.5 * (lo + hi);
     if (lower_gamma_regularised(2.0 * n, mid) < 0.5) lo = mid; else hi = mid;
   }
   return 0.5 * (lo + hi);
