@@ -16,6 +16,7 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <Eigen/LU>
 #include <cstddef>
 #include <optional>
 #include <string>
