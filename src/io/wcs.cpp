@@ -6,6 +6,7 @@
 #include <wcslib/wcshdr.h>
 #include <wcslib/wcsutil.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -146,9 +147,6 @@ CelestialWcs CelestialWcs::from_header(const std::string& header_cards, const st
   CelestialWcs out;
   out.wcs_.reset(sub);
   out.source_ = source;
-  // Sanity of the pixel scale: a galaxy map has pixels well below a degree.
-  double c0[2] = {sub->crpix[0], sub->crpix[1]};
-  (void)c0;
   return out;
 }
 
@@ -198,6 +196,27 @@ WorldCoord CelestialWcs::pixel_to_world(PixelCoord p) const {
     throw InputError(source_, "pixel (" + num(p.x + 1) + ", " + num(p.y + 1) +
                                   ") has no sky position: " + wcs_message(wcs_.get(), status));
   return {world[wcs_->lng], world[wcs_->lat]};
+}
+
+void CelestialWcs::pixels_to_world(const double* x, const double* y, std::size_t n,
+                                   WorldCoord* out) const {
+  if (!wcs_) throw InputError(source_, "image has no WCS");
+  constexpr std::size_t kChunk = 4096;
+  std::vector<double> pix(2 * kChunk), img(2 * kChunk), phi(kChunk), theta(kChunk), world(2 * kChunk);
+  std::vector<int> stat(kChunk);
+  for (std::size_t start = 0; start < n; start += kChunk) {
+    const std::size_t m = std::min(kChunk, n - start);
+    for (std::size_t i = 0; i < m; ++i) {
+      pix[2 * i] = x[start + i] + 1.0;
+      pix[2 * i + 1] = y[start + i] + 1.0;
+    }
+    int status = wcsp2s(wcs_.get(), static_cast<int>(m), 2, pix.data(), img.data(), phi.data(),
+                        theta.data(), world.data(), stat.data());
+    if (status != 0)
+      throw InputError(source_, "some pixels have no sky position: " + wcs_message(wcs_.get(), status));
+    for (std::size_t i = 0; i < m; ++i)
+      out[start + i] = {world[2 * i + wcs_->lng], world[2 * i + wcs_->lat]};
+  }
 }
 
 PixelCoord CelestialWcs::world_to_pixel(WorldCoord w) const {

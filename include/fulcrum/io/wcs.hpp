@@ -14,6 +14,7 @@
 // by two threads at once: copy it (copies are deep) or precompute offsets.
 #pragma once
 
+#include <cstddef>
 #include <memory>
 #include <string>
 
@@ -58,6 +59,8 @@ class CelestialWcs {
   WorldCoord pixel_to_world(PixelCoord p) const;
   // Throws InputError if the position is not on the projection.
   PixelCoord world_to_pixel(WorldCoord w) const;
+  // Many pixels at once (faster than one by one); x, y 0-based, n points.
+  void pixels_to_world(const double* x, const double* y, std::size_t n, WorldCoord* out) const;
   // Header cards (80-char each, concatenated) describing this WCS for a 2-D
   // image, as written by wcslib's wcshdo. Used when writing outputs.
   std::string header_cards() const;

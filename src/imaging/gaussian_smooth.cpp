@@ -1,0 +1,109 @@
+// Gaussian convolution on the sky, in pixel space through the Jacobian.
+#include "fulcrum/imaging/gaussian_smooth.hpp"
+
+#include <Eigen/Eigenvalues>
+#include <Eigen/LU>
+#include <cmath>
+#include <numbers>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/sky/angle.hpp"
+#include "fulcrum/sky/pixel_offsets.hpp"
+
+namespace fulcrum {
+
+namespace {
+// FWHM = 2 sqrt(2 ln 2) sigma for a Gaussian.
+const double kFwhmPerSigma = 2.0 * std::sqrt(2.0 * std::numbers::ln2);
+
+Eigen::Matrix2d sky_covariance(const Beam& b) {
+  const double smaj = b.bmaj_arcsec / kFwhmPerSigma, smin = b.bmin_arcsec / kFwhmPerSigma;
+  const Angle pa = b.bpa_deg * degrees;
+  Eigen::Vector2d u(pa.sin(), pa.cos());    // major axis, (east, north)
+  Eigen::Vector2d v(pa.cos(), -pa.sin());   // minor axis
+  return smaj * smaj * u * u.transpose() + smin * smin * v * v.transpose();
+}
+}  // namespace
+
+Eigen::Matrix2d pixel_covariance(const Beam& kernel, const Eigen::Matrix2d& jac) {
+  Eigen::Matrix2d Ji = jac.inverse();
+  return Ji * sky_covariance(kernel) * Ji.transpose();
+}
+
+std::vector<double> convolve_gaussian(const std::vector<double>& data, int nx, int ny,
+                                      const Eigen::Matrix2d& cov, const SmoothOptions& opt) {
+  FULCRUM_CHECK(data.size() == static_cast<std::size_t>(nx) * ny, nx * ny, data.size());
+  const Eigen::Matrix2d P = cov.inverse();
+  const int hx = std::max(1, static_cast<int>(std::ceil(4.0 * std::sqrt(cov(0, 0)))));
+  const int hy = std::max(1, static_cast<int>(std::ceil(4.0 * std::sqrt(cov(1, 1)))));
+  const int kw = 2 * hx + 1;
+  std::vector<double> k(static_cast<std::size_t>(kw) * (2 * hy + 1));
+  double ksum = 0.0;
+  for (int dy = -hy; dy <= hy; ++dy)
+    for (int dx = -hx; dx <= hx; ++dx) {
+      const double q = P(0, 0) * dx * dx + 2 * P(0, 1) * dx * dy + P(1, 1) * dy * dy;
+      const double w = q > 32.0 ? 0.0 : std::exp(-0.5 * q);
+      k[static_cast<std::size_t>(dx + hx) + static_cast<std::size_t>(kw) * (dy + hy)] = w;
+      ksum += w;
+    }
+  for (double& w : k) w /= ksum;
+
+  std::vector<double> out(data.size(), 0.0);
+#pragma omp parallel for schedule(static)
+  for (int y = 0; y < ny; ++y) {
+    for (int x = 0; x < nx; ++x) {
+      const std::size_t i = static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y;
+      if (!std::isfinite(data[i]) && !opt.fill_missing) {
+        out[i] = data[i];
+        continue;
+      }
+      double s = 0.0, wsum = 0.0;
+      for (int dy = -hy; dy <= hy; ++dy) {
+        const int yy = y - dy;
+        if (yy < 0 || yy >= ny) continue;
+        const double* krow = &k[static_cast<std::size_t>(kw) * (dy + hy)];
+        const double* drow = &data[static_cast<std::size_t>(nx) * yy];
+        for (int dx = -hx; dx <= hx; ++dx) {
+          const int xx = x - dx;
+          if (xx < 0 || xx >= nx) continue;
+          const double v = drow[xx];
+          if (!std::isfinite(v)) continue;
+          const double w = krow[dx + hx];
+          s += w * v;
+          wsum += w;
+        }
+      }
+      if (opt.normalise_missing)
+        out[i] = wsum > 1e-12 ? s / wsum : std::numeric_limits<double>::quiet_NaN();
+      else
+        out[i] = s;
+    }
+  }
+  return out;
+}
+
+Image smooth_image(const Image& in, const Beam& kernel, const SmoothOptions& opt) {
+  PixelOffsets grid(in, in.wcs.pixel_to_world({0.5 * (in.nx - 1), 0.5 * (in.ny - 1)}));
+  Image out = in;
+  out.data = convolve_gaussian(in.data, in.nx, in.ny, pixel_covariance(kernel, grid.jacobian()), opt);
+  return out;
+}
+
+Beam kernel_between(const Beam& from, const Beam& to) {
+  Eigen::Matrix2d d = sky_covariance(to) - sky_covariance(from);
+  Eigen::SelfAdjointEigenSolver<Eigen::Matrix2d> es(d);
+  const auto ev = es.eigenvalues();  // ascending
+  if (!(ev(0) > 1e-12))
+    throw InputError("", "the target beam (" + std::to_string(to.bmaj_arcsec) + "\" x " +
+                             std::to_string(to.bmin_arcsec) + "\") is not larger than the "
+                             "map's beam in every direction");
+  Eigen::Vector2d u = es.eigenvectors().col(1);  // major, (east, north)
+  Beam k;
+  k.bmaj_arcsec = std::sqrt(ev(1)) * kFwhmPerSigma;
+  k.bmin_arcsec = std::sqrt(ev(0)) * kFwhmPerSigma;
+  k.bpa_deg = wrap_pa_deg(std::atan2(u(0), u(1)) * 180.0 / std::numbers::pi);
+  if (k.bpa_deg >= 180.0) k.bpa_deg -= 180.0;
+  return k;
+}
+
+}  // namespace fulcrum

@@ -1,0 +1,361 @@
+// FITS images and cubes through CFITSIO.
+#include "fulcrum/io/fits_image.hpp"
+
+#include <fitsio.h>
+
+#include <cmath>
+#include <cstring>
+#include <filesystem>
+#include <limits>
+#include <memory>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/core/log.hpp"
+#include "fulcrum/io/atomic_file.hpp"
+
+namespace fulcrum {
+
+namespace {
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+std::string cfitsio_message(int status) {
+  char text[FLEN_STATUS] = {0};
+  fits_get_errstatus(status, text);
+  fits_clear_errmsg();
+  return text;
+}
+
+struct FitsCloser {
+  void operator()(fitsfile* f) const {
+    int s = 0;
+    if (f) fits_close_file(f, &s);
+  }
+};
+using FitsPtr = std::unique_ptr<fitsfile, FitsCloser>;
+
+void check_path_readable(const std::string& path) {
+  namespace fs = std::filesystem;
+  std::error_code ec;
+  if (!fs::exists(path, ec)) throw InputError(path, "no such file");
+  if (fs::is_directory(path, ec)) throw InputError(path, "is a folder, not a FITS file");
+  if (fs::file_size(path, ec) < 2880)
+    throw InputError(path, "not a FITS file (shorter than one 2880-byte FITS block)");
+}
+
+// Move to the first HDU holding image data.
+void goto_image_hdu(fitsfile* f, const std::string& name) {
+  int status = 0, nhdu = 0;
+  fits_get_num_hdus(f, &nhdu, &status);
+  for (int h = 1; h <= std::max(nhdu, 1); ++h) {
+    int type = 0;
+    status = 0;
+    fits_movabs_hdu(f, h, &type, &status);
+    if (status) break;
+    if (type != IMAGE_HDU) continue;
+    int naxis = 0;
+    fits_get_img_dim(f, &naxis, &status);
+    if (!status && naxis > 0) return;
+  }
+  throw InputError(name, "holds no image data (no HDU with NAXIS > 0)");
+}
+
+std::string read_header(fitsfile* f, const std::string& name) {
+  int status = 0, nkeys = 0;
+  char* hdr = nullptr;
+  if (fits_hdr2str(f, 0, nullptr, 0, &hdr, &nkeys, &status))
+    throw InputError(name, "cannot read the FITS header: " + cfitsio_message(status));
+  std::string out(hdr, static_cast<std::size_t>(nkeys) * 80);
+  int s2 = 0;
+  fits_free_memory(hdr, &s2);
+  return out;
+}
+
+std::optional<Beam> read_beam(const std::string& header, const std::string& name) {
+  auto bmaj = header_value(header, "BMAJ");
+  auto bmin = header_value(header, "BMIN");
+  if (!bmaj || !bmin) return std::nullopt;
+  Beam b;
+  try {
+    b.bmaj_arcsec = std::stod(*bmaj) * 3600.0;
+    b.bmin_arcsec = std::stod(*bmin) * 3600.0;
+    auto bpa = header_value(header, "BPA");
+    b.bpa_deg = bpa ? std::stod(*bpa) : 0.0;
+  } catch (const std::exception&) {
+    throw InputError(name, "BMAJ/BMIN/BPA are not numbers");
+  }
+  if (!(b.bmaj_arcsec > 0) || !(b.bmin_arcsec > 0) || !std::isfinite(b.bmaj_arcsec) ||
+      !std::isfinite(b.bmin_arcsec))
+    throw InputError(name, "beam BMAJ/BMIN must be positive (degrees), got BMAJ=" + *bmaj +
+                               " BMIN=" + *bmin);
+  if (b.bmaj_arcsec > 3600.0)
+    throw InputError(name, "beam BMAJ = " + *bmaj + " deg is absurd for a galaxy map; FITS "
+                                                    "gives BMAJ/BMIN in degrees (was it arcsec?)");
+  if (b.bmin_arcsec > b.bmaj_arcsec) std::swap(b.bmin_arcsec, b.bmaj_arcsec);
+  return b;
+}
+
+struct RawArray {
+  std::vector<long> naxes;
+  std::vector<double> data;
+  std::string header;
+};
+
+RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt) {
+  goto_image_hdu(f, name);
+  int status = 0, bitpix = 0, naxis = 0;
+  long naxes[9] = {0};
+  if (fits_get_img_param(f, 9, &bitpix, &naxis, naxes, &status))
+    throw InputError(name, "cannot read the image dimensions: " + cfitsio_message(status));
+  if (naxis > 9) throw InputError(name, "NAXIS = " + std::to_string(naxis) + " is not supported");
+  RawArray r;
+  r.naxes.assign(naxes, naxes + naxis);
+  std::size_t n = 1;
+  for (long a : r.naxes) {
+    if (a <= 0) throw InputError(name, "an image axis has length " + std::to_string(a));
+    n *= static_cast<std::size_t>(a);
+  }
+  if (opt.max_pixels && n > opt.max_pixels)
+    throw InputError(name, "has " + std::to_string(n) + " pixels, above the limit of " +
+                               std::to_string(opt.max_pixels) + " (raise it with --max-pixels)");
+  r.header = read_header(f, name);
+  r.data.resize(n);
+  std::vector<char> nulls(n, 0);
+  std::vector<long> fpixel(static_cast<std::size_t>(naxis), 1);
+  int anynul = 0;
+  if (fits_read_pixnull(f, TDOUBLE, fpixel.data(), static_cast<LONGLONG>(n), r.data.data(),
+                        nulls.data(), &anynul, &status))
+    throw InputError(name, "cannot read the pixel data (truncated or damaged file?): " +
+                               cfitsio_message(status));
+  if (anynul)
+    for (std::size_t i = 0; i < n; ++i)
+      if (nulls[i]) r.data[i] = kNaN;
+  for (double& v : r.data)
+    if (!std::isfinite(v)) v = kNaN;
+  return r;
+}
+
+FitsPtr open_fits(const std::string& path) {
+  check_path_readable(path);
+  fitsfile* f = nullptr;
+  int status = 0;
+  if (fits_open_file(&f, path.c_str(), READONLY, &status)) {
+    if (f) { int s = 0; fits_close_file(f, &s); }
+    throw InputError(path, "cannot open as FITS: " + cfitsio_message(status));
+  }
+  return FitsPtr(f);
+}
+
+std::string trim(std::string s) {
+  while (!s.empty() && (s.back() == ' ' || s.back() == '\0')) s.pop_back();
+  std::size_t i = 0;
+  while (i < s.size() && s[i] == ' ') ++i;
+  return s.substr(i);
+}
+
+Image image_from_raw(RawArray&& r, const std::string& name) {
+  if (r.naxes.size() < 2)
+    throw InputError(name, "NAXIS = " + std::to_string(r.naxes.size()) +
+                               ": a sky image needs two axes");
+  for (std::size_t k = 2; k < r.naxes.size(); ++k)
+    if (r.naxes[k] != 1)
+      throw InputError(name, "NAXIS = " + std::to_string(r.naxes.size()) + " with NAXIS" +
+                                 std::to_string(k + 1) + " = " + std::to_string(r.naxes[k]) +
+                                 ": expected a 2-D map (is this a cube? use `fulcrum moments`)");
+  Image img;
+  img.nx = static_cast<int>(r.naxes[0]);
+  img.ny = static_cast<int>(r.naxes[1]);
+  img.data = std::move(r.data);
+  img.header = std::move(r.header);
+  img.path = name;
+  img.wcs = CelestialWcs::from_header(img.header, name);
+  img.beam = read_beam(img.header, name);
+  img.unit = trim(header_value(img.header, "BUNIT").value_or(""));
+  return img;
+}
+
+}  // namespace
+
+std::optional<std::string> header_value(const std::string& header, const std::string& key) {
+  for (std::size_t pos = 0; pos + 80 <= header.size(); pos += 80) {
+    std::string_view card(header.data() + pos, 80);
+    std::string_view k = card.substr(0, 8);
+    while (!k.empty() && k.back() == ' ') k.remove_suffix(1);
+    if (k != key || card.substr(8, 2) != "= ") continue;
+    std::string_view v = card.substr(10);
+    std::size_t i = 0;
+    while (i < v.size() && v[i] == ' ') ++i;
+    if (i < v.size() && v[i] == '\'') {
+      std::string out;
+      for (std::size_t j = i + 1; j < v.size(); ++j) {
+        if (v[j] == '\'') {
+          if (j + 1 < v.size() && v[j + 1] == '\'') { out += '\''; ++j; continue; }
+          break;
+        }
+        out += v[j];
+      }
+      while (!out.empty() && out.back() == ' ') out.pop_back();
+      return out;
+    }
+    std::size_t slash = v.find('/', i);
+    std::string out(v.substr(i, slash == std::string_view::npos ? std::string_view::npos : slash - i));
+    while (!out.empty() && out.back() == ' ') out.pop_back();
+    return out;
+  }
+  return std::nullopt;
+}
+
+Image read_image(const std::string& path, const ReadOptions& options) {
+  auto f = open_fits(path);
+  return image_from_raw(read_array(f.get(), path, options), path);
+}
+
+Image read_image_from_memory(const void* bytes, std::size_t size, const std::string& name,
+                             const ReadOptions& options) {
+  if (size < 2880) throw InputError(name, "not a FITS file (shorter than one 2880-byte FITS block)");
+  // CFITSIO may reallocate memory files opened read-write; we open read-only
+  // on a private copy so the caller's buffer is never touched.
+  std::vector<char> copy(static_cast<const char*>(bytes), static_cast<const char*>(bytes) + size);
+  void* mem = copy.data();
+  std::size_t memsize = copy.size();
+  fitsfile* f = nullptr;
+  int status = 0;
+  if (fits_open_memfile(&f, name.c_str(), READONLY, &mem, &memsize, 0, nullptr, &status)) {
+    if (f) { int s = 0; fits_close_file(f, &s); }
+    throw InputError(name, "cannot open as FITS: " + cfitsio_message(status));
+  }
+  FitsPtr fp(f);
+  return image_from_raw(read_array(fp.get(), name, options), name);
+}
+
+Cube read_cube(const std::string& path, const ReadOptions& options) {
+  auto f = open_fits(path);
+  RawArray r = read_array(f.get(), path, options);
+  const auto nax = r.naxes.size();
+  if (nax < 3 || nax > 4)
+    throw InputError(path, "NAXIS = " + std::to_string(nax) + ": a cube needs 3 axes (x, y, "
+                                                              "spectral), or 4 with a Stokes axis");
+  int spec = 3;
+  if (nax == 4) {
+    auto c3 = header_value(r.header, "CTYPE3").value_or("");
+    auto c4 = header_value(r.header, "CTYPE4").value_or("");
+    if (c3.rfind("STOKES", 0) == 0 && r.naxes[2] == 1) spec = 4;
+    else if (r.naxes[3] != 1)
+      throw InputError(path, "4-D cube whose 4th axis (" + c4 + ") has length " +
+                                 std::to_string(r.naxes[3]) + ": only a single Stokes plane is "
+                                                              "supported");
+  }
+  Cube c;
+  c.nx = static_cast<int>(r.naxes[0]);
+  c.ny = static_cast<int>(r.naxes[1]);
+  c.nz = static_cast<int>(r.naxes[static_cast<std::size_t>(spec - 1)]);
+  c.spectral_axis = spec;
+  c.data = std::move(r.data);
+  c.header = std::move(r.header);
+  c.path = path;
+  c.wcs = CelestialWcs::from_header(c.header, path);
+  c.beam = read_beam(c.header, path);
+  c.unit = trim(header_value(c.header, "BUNIT").value_or(""));
+  return c;
+}
+
+namespace {
+
+void write_card_strings(fitsfile* f, const std::string& cards, const std::string& name,
+                        bool skip_wcsaxes) {
+  int status = 0;
+  for (std::size_t pos = 0; pos + 80 <= cards.size(); pos += 80) {
+    std::string rec = cards.substr(pos, 80);
+    if (rec.rfind("END     ", 0) == 0) continue;
+    if (skip_wcsaxes && rec.rfind("WCSAXES", 0) == 0) continue;
+    if (rec.find_first_not_of(' ') == std::string::npos) continue;
+    fits_write_record(f, rec.c_str(), &status);
+  }
+  if (status) throw InputError(name, "cannot write WCS keywords: " + cfitsio_message(status));
+}
+
+void write_common(fitsfile* f, const std::optional<Beam>& beam, const std::string& unit,
+                  const std::vector<HeaderCard>& extra, const std::string& name) {
+  int status = 0;
+  if (!unit.empty())
+    fits_update_key_str(f, "BUNIT", const_cast<char*>(unit.c_str()), "brightness unit", &status);
+  if (beam) {
+    double bmaj = beam->bmaj_arcsec / 3600.0, bmin = beam->bmin_arcsec / 3600.0,
+           bpa = beam->bpa_deg;
+    fits_update_key_dbl(f, "BMAJ", bmaj, 15, "[deg] beam major axis FWHM", &status);
+    fits_update_key_dbl(f, "BMIN", bmin, 15, "[deg] beam minor axis FWHM", &status);
+    fits_update_key_dbl(f, "BPA", bpa, 15, "[deg] beam position angle", &status);
+  }
+  for (const auto& c : extra) {
+    if (c.numeric) {
+      double v = std::stod(c.value);
+      fits_update_key_dbl(f, c.name.c_str(), v, 15, c.comment.c_str(), &status);
+    } else {
+      fits_update_key_str(f, c.name.c_str(), const_cast<char*>(c.value.c_str()),
+                          c.comment.c_str(), &status);
+    }
+  }
+  if (status) throw InputError(name, "cannot write header keywords: " + cfitsio_message(status));
+}
+
+FitsPtr create_fits(const std::string& tmp, const std::string& name) {
+  fitsfile* f = nullptr;
+  int status = 0;
+  std::string bang = "!" + tmp;
+  if (fits_create_file(&f, bang.c_str(), &status))
+    throw InputError(name, "cannot create FITS file: " + cfitsio_message(status));
+  return FitsPtr(f);
+}
+
+void close_checked(FitsPtr& fp, const std::string& name) {
+  int status = 0;
+  fits_close_file(fp.release(), &status);
+  if (status) throw InputError(name, "cannot finish writing FITS file: " + cfitsio_message(status));
+}
+
+}  // namespace
+
+void write_image(const std::string& path, const Image& image, const std::vector<HeaderCard>& extra) {
+  FULCRUM_CHECK(image.data.size() == image.size(), image.size(), image.data.size());
+  AtomicFile out(path);
+  {
+    auto f = create_fits(out.temporary_path(), path);
+    int status = 0;
+    long naxes[2] = {image.nx, image.ny};
+    fits_create_img(f.get(), DOUBLE_IMG, 2, naxes, &status);
+    if (status) throw InputError(path, "cannot create image HDU: " + cfitsio_message(status));
+    write_card_strings(f.get(), image.wcs.header_cards(), path, true);
+    write_common(f.get(), image.beam, image.unit, extra, path);
+    long fpixel[2] = {1, 1};
+    fits_write_pix(f.get(), TDOUBLE, fpixel, static_cast<LONGLONG>(image.size()),
+                   const_cast<double*>(image.data.data()), &status);
+    if (status) throw InputError(path, "cannot write pixel data: " + cfitsio_message(status));
+    close_checked(f, path);
+  }
+  out.commit();
+}
+
+void write_cube(const std::string& path, const Cube& cube, const std::string& spectral_cards,
+                const std::vector<HeaderCard>& extra) {
+  FULCRUM_CHECK(cube.data.size() == cube.plane_size() * static_cast<std::size_t>(cube.nz),
+                cube.plane_size() * cube.nz, cube.data.size());
+  AtomicFile out(path);
+  {
+    auto f = create_fits(out.temporary_path(), path);
+    int status = 0;
+    long naxes[3] = {cube.nx, cube.ny, cube.nz};
+    fits_create_img(f.get(), DOUBLE_IMG, 3, naxes, &status);
+    if (status) throw InputError(path, "cannot create image HDU: " + cfitsio_message(status));
+    write_card_strings(f.get(), cube.wcs.header_cards(), path, true);
+    write_card_strings(f.get(), spectral_cards, path, true);
+    write_common(f.get(), cube.beam, cube.unit, extra, path);
+    long fpixel[3] = {1, 1, 1};
+    fits_write_pix(f.get(), TDOUBLE, fpixel, static_cast<LONGLONG>(cube.data.size()),
+                   const_cast<double*>(cube.data.data()), &status);
+    if (status) throw InputError(path, "cannot write pixel data: " + cfitsio_message(status));
+    close_checked(f, path);
+  }
+  out.commit();
+}
+
+}  // namespace fulcrum

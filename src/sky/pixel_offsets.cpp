@@ -1,0 +1,78 @@
+// Per-pixel sky offsets and the local Jacobian of a pixel grid.
+#include "fulcrum/sky/pixel_offsets.hpp"
+
+#include <Eigen/LU>
+#include <algorithm>
+#include <cmath>
+
+#include "fulcrum/core/error.hpp"
+
+namespace fulcrum {
+
+Eigen::Matrix2d local_jacobian(const CelestialWcs& wcs, const OffsetFrame& frame, PixelCoord p) {
+  const double h = 0.5;
+  auto off = [&](double dx, double dy) { return frame.to_offset(wcs.pixel_to_world({p.x + dx, p.y + dy})); };
+  SkyOffset xp = off(h, 0), xm = off(-h, 0), yp = off(0, h), ym = off(0, -h);
+  Eigen::Matrix2d J;
+  J(0, 0) = (xp.east - xm.east) / (2 * h);
+  J(1, 0) = (xp.north - xm.north) / (2 * h);
+  J(0, 1) = (yp.east - ym.east) / (2 * h);
+  J(1, 1) = (yp.north - ym.north) / (2 * h);
+  return J;
+}
+
+PixelOffsets::PixelOffsets(int nx, int ny, const CelestialWcs& wcs, WorldCoord reference)
+    : nx_(nx), ny_(ny), frame_(reference) {
+  FULCRUM_CHECK(nx > 0 && ny > 0, "positive grid size", nx * ny);
+  const std::size_t n = static_cast<std::size_t>(nx) * static_cast<std::size_t>(ny);
+  std::vector<double> xs(n), ys(n);
+  for (int y = 0; y < ny; ++y)
+    for (int x = 0; x < nx; ++x) {
+      xs[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = x;
+      ys[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = y;
+    }
+  std::vector<WorldCoord> world(n);
+  wcs.pixels_to_world(xs.data(), ys.data(), n, world.data());
+  east_.resize(n);
+  north_.resize(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    SkyOffset o = frame_.to_offset(world[i]);
+    east_[i] = o.east;
+    north_[i] = o.north;
+  }
+  cx_ = 0.5 * (nx - 1);
+  cy_ = 0.5 * (ny - 1);
+  jac_ = local_jacobian(wcs, frame_, {cx_, cy_});
+  if (!(std::abs(jac_.determinant()) > 0.0) || !jac_.allFinite())
+    throw InputError(wcs.source(), "the pixel grid has a degenerate sky transformation (zero "
+                                   "pixel area)");
+  centre_offset_ = frame_.to_offset(wcs.pixel_to_world({cx_, cy_}));
+  const double norm = jac_.norm();
+  for (auto [px, py] : {std::pair{0.0, 0.0}, {nx - 1.0, 0.0}, {0.0, ny - 1.0}, {nx - 1.0, ny - 1.0}}) {
+    Eigen::Matrix2d Jc = local_jacobian(wcs, frame_, {px, py});
+    jac_variation_ = std::max(jac_variation_, (Jc - jac_).norm() / norm);
+  }
+}
+
+PixelCoord PixelOffsets::offset_to_pixel_linear(SkyOffset o) const {
+  Eigen::Vector2d d = jac_.inverse() * Eigen::Vector2d(o.east - centre_offset_.east,
+                                                       o.north - centre_offset_.north);
+  return {cx_ + d(0), cy_ + d(1)};
+}
+
+GridOrientation grid_orientation(const CelestialWcs& wcs, PixelCoord at) {
+  OffsetFrame frame(wcs.pixel_to_world(at));
+  Eigen::Matrix2d J = local_jacobian(wcs, frame, at);
+  GridOrientation g;
+  SkyOffset cx{J(0, 0), J(1, 0)}, cy{J(0, 1), J(1, 1)};
+  g.pa_of_plus_x_deg = cx.pa_deg();
+  g.north_pa_of_plus_y_deg = cy.pa_deg();
+  g.east_left_when_north_up = J.determinant() < 0;
+  g.pixel_scale_x_arcsec = cx.norm();
+  g.pixel_scale_y_arcsec = cy.norm();
+  const double cosang = (cx.east * cy.east + cx.north * cy.north) / (cx.norm() * cy.norm());
+  g.skew_deg = std::acos(std::clamp(cosang, -1.0, 1.0)) * 180.0 / std::numbers::pi - 90.0;
+  return g;
+}
+
+}  // namespace fulcrum
