@@ -233,7 +233,8 @@ std::uint64_t galaxy_seed(std::uint64_t sample_seed, const GalaxyInput& galaxy) 
   std::uint64_t z = sample_seed + 0x9e3779b97f4a7c15ull * (h | 1);
   z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
   z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
-  return z ^ (z >> 31);
+  // 53 bits, so that the seed is exact in JSON readers that use doubles.
+  return (z ^ (z >> 31)) & ((1ull << 53) - 1);
 }
 
 Selection parse_shard(const std::string& text) {

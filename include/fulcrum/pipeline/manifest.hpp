@@ -76,7 +76,8 @@ SampleManifest parse_manifest(const std::string& text, const std::string& path);
 // The per-galaxy seed: the galaxy's own seed when given, otherwise a mix
 // (SplitMix64 finaliser, Steele, Lea & Flood 2014) of the sample seed and
 // the FNV-1a hash of the galaxy name, so a galaxy gets the same seed
-// whichever shard or subset it runs in.
+// whichever shard or subset it runs in. Derived seeds have 53 bits (exact
+// as a double in any JSON reader).
 std::uint64_t galaxy_seed(std::uint64_t sample_seed, const GalaxyInput& galaxy);
 
 // A subset of the galaxies: shard I of N ("I/N", 1-based) takes every galaxy
