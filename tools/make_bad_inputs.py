@@ -277,6 +277,18 @@ def make_bad_inputs(d):
     with open(p("manifest_syntax_error.toml"), "w") as f:
         f.write(head + '[[galaxy]\nname = "Mock-A"\n')
     write_bytes(p("manifest_empty.toml"), b"")
+
+    # Mock-galaxy parameter files (fulcrum synth --config).
+    def mock(name, body):
+        with open(p(name), "w") as f:
+            f.write('[galaxy]\nname = "Mock-Z"\nseed = 3\n' + body)
+
+    mock("mock_unknown_key.toml", "tilt_deg = 30.0\n")
+    mock("mock_wrong_type.toml", 'inc_deg = "steep"\n')
+    mock("mock_inclination_out_of_range.toml", "inc_deg = 95.0\n")
+    mock("mock_empty_grid.toml", "[galaxy.grid]\nnx = 0\nny = 64\n")
+    mock("mock_integer_overflow.toml", "seed = 1e30\n")
+    mock("mock_syntax_error.toml", "pa_deg = = 60\n")
     with open(p("manifest_binary.toml"), "wb") as f:
         f.write(bytes(range(256)) * 4)
 
