@@ -14,6 +14,7 @@
 // The truth is the 0-based pixel (x0, y0) and its world position.
 #pragma once
 
+#include <Eigen/Dense>
 #include <cmath>
 #include <numbers>
 #include <random>
