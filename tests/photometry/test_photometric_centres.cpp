@@ -87,6 +87,28 @@ TEST_CASE("every estimator recovers the centre within 0.1 arcsec at high S/N",
   std::cout << "\n";
 }
 
+TEST_CASE("rectangular pixels on a rotated grid", "[photometry][centres]") {
+  TestGalaxy g;
+  g.pixel_y_arcsec = 0.25;
+  g.ny = 64;
+  g.y0 = 31.7;
+  g.rotation_deg = 115.0;
+  g.q = 0.5;
+  g.pa_deg = 70.0;
+  const Image im = test::make_test_image(g);
+  const PhotometrySummary s = measure_photometric_centres(im, nullptr, quick_options(1.0));
+  REQUIRE(s.ok);
+  const WorldCoord truth = test::test_truth(g, im);
+  for (const auto& c : s.centres) {
+    INFO(c.id << ": " << c.reason);
+    REQUIRE(c.ok);
+    CHECK(separation_arcsec(truth, c.world) < 0.1);  // issue tolerance
+  }
+  const PhotometricCentre* prof = s.find("photometric-profile");
+  CHECK(prof->details["axis_ratio"].get<double>() == Approx(0.5).margin(0.02));
+  CHECK(prof->details["pa_deg"].get<double>() == Approx(70.0).margin(1.0));
+}
+
 TEST_CASE("a mask file removes pixels from every estimator", "[photometry][centres]") {
   TestGalaxy g;
   g.stars = {{g.x0 + 5.0, g.y0 + 4.0, 5e4}};
