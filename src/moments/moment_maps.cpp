@@ -218,16 +218,24 @@ MomentProducts make_moment_maps(const Cube& cube, const MomentOptions& opt) {
       warn(src + ": no beam (BMAJ/BMIN) in the header; smoothing the mask with a 3-pixel kernel");
       kernel = Beam{3.0 * pixel_scale, 3.0 * pixel_scale, 0.0};
     }
+    // One pixel-space kernel for every channel (the grid's Jacobian is the
+    // same for all planes).
+    Eigen::Matrix2d jac;
+    {
+      PixelOffsets off(nx, ny, cube.wcs, cube.wcs.pixel_to_world({0.5 * (nx - 1), 0.5 * (ny - 1)}));
+      jac = off.jacobian();
+    }
+    const Eigen::Matrix2d kcov = pixel_covariance(kernel, jac);
     std::vector<double> sm(plane * nz);
     SmoothOptions so;
     so.normalise_missing = true;
     so.fill_missing = false;
+    std::vector<double> chan(plane);
     for (int z = 0; z < nz; ++z) {
-      Image p = plane_image(cube, std::vector<double>(cube.data.begin() + static_cast<std::ptrdiff_t>(plane * z),
-                                                      cube.data.begin() + static_cast<std::ptrdiff_t>(plane * (z + 1))),
-                            cube.unit);
-      Image s = smooth_image(p, kernel, so);
-      std::copy(s.data.begin(), s.data.end(), sm.begin() + static_cast<std::ptrdiff_t>(plane * z));
+      std::copy(cube.data.begin() + static_cast<std::ptrdiff_t>(plane * z),
+                cube.data.begin() + static_cast<std::ptrdiff_t>(plane * (z + 1)), chan.begin());
+      auto s = convolve_gaussian(chan, nx, ny, kcov, so);
+      std::copy(s.begin(), s.end(), sm.begin() + static_cast<std::ptrdiff_t>(plane * z));
     }
     const int half = opt.smooth_channels / 2;
     if (half > 0) {
