@@ -290,6 +290,41 @@ MomentProducts make_moment_maps(const Cube& cube, const MomentOptions& opt) {
     mask_json["smoothed_noise_median"] = finite.empty() ? 0.0 : median_of(finite);
   }
 
+  // ---- noise again, from the emission-free voxels (outside the mask), so
+  // that emission filling much of a channel does not inflate it. Channels
+  // with fewer than kMinFreeVoxels unmasked finite voxels keep the first
+  // estimate.
+  {
+    constexpr std::size_t kMinFreeVoxels = 30;
+    std::vector<double> buf;
+    for (int z = 0; z < nz; ++z) {
+      buf.clear();
+      for (std::size_t p = 0; p < plane; ++p) {
+        const double x = cube.data[p + plane * z];
+        if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
+      }
+      if (buf.size() >= kMinFreeVoxels && opt.mask != MaskMethod::None) {
+        const double s = robust_sigma(buf, opt.noise);
+        if (std::isfinite(s) && s > 0.0) noise.chan[z] = s;
+      }
+    }
+    if (opt.noise.per_pixel && opt.mask != MaskMethod::None) {
+      for (std::size_t p = 0; p < plane; ++p) {
+        buf.clear();
+        for (int z = 0; z < nz; ++z) {
+          const double x = cube.data[p + plane * z];
+          if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
+        }
+        if (buf.size() >= 8) {
+          const double s = robust_sigma(buf, opt.noise);
+          if (std::isfinite(s) && s > 0.0) noise.pixel[p] = s;
+        }
+      }
+      out.pixel_rms = plane_image(cube, noise.pixel, cube.unit);
+    }
+    out.channel_rms = noise.chan;
+  }
+
   // ---- moments
   const std::string m0_unit = cube.unit.empty() ? "km/s" : cube.unit + ".km/s";
   std::vector<double> m0(plane, NAN), e0(plane, NAN), m1(plane, NAN), e1(plane, NAN), m2(plane, NAN),

@@ -12,6 +12,9 @@
 //     practice, e.g. Rousseeuw & Croux 1993, JASA 88, 1273), iterated with
 //     clipping of |x - median| > clip_sigma * sigma until stable, so that
 //     emission does not inflate it. Optionally per pixel, from each spectrum.
+//     Once the mask is made (step 3) the noise is measured again from the
+//     voxels outside it (emission-free data), where a channel has at least
+//     30 of them (8 per spectrum in per-pixel mode).
 //  3. Mask (a voxel set; moments use only masked voxels):
 //     * SmoothAndMask: smooth each channel to `smooth_factor` times the beam
 //       and the spectrum with a boxcar of `smooth_channels`, measure the
