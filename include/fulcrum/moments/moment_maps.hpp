@@ -34,7 +34,7 @@
 //       M2 = sqrt(sum S_k (v_k - M1)^2 dv_k / M0)               [km/s]
 //     and their errors by first-order propagation of independent channel
 //     noise (derived here; for constant sigma and dv the first is the
-//     familiar sigma dv sqrt(N), e.g. Dame 2011 eq. 2):
+//     familiar sigma dv sqrt(N) quoted e.g. by Dame 2011):
 //       sigma_M0^2 = sum sigma_k^2 dv_k^2
 //       sigma_M1^2 = sum sigma_k^2 dv_k^2 (v_k - M1)^2 / M0^2
 //     Outside the mask M0 = 0 and sigma_M0 = sigma dv (one channel: a floor
