@@ -335,7 +335,7 @@ TEST_CASE("Sersic b_n against the incomplete gamma function", "[synth][sersic]")
   std::ostringstream args;
   args.precision(17);
   for (double n : {0.25, 0.5, 1.0, 2.5, 4.0, 10.0}) args << n << " " << sersic_bn(n) << " ";
-  auto r = test::run_python("check_sersic_bn.py", args.str());
+  auto r = test::run_python("check_sersic_bn_pairs.py", args.str());
   INFO(r.out << r.err);
   CHECK(r.exit_code == 0);
   CHECK_THROWS_AS(sersic_bn(0.1), InputError);

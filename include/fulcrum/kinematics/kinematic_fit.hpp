@@ -1,0 +1,146 @@
+// The dynamical centre of a disc from its velocity map: the library entry
+// point behind `fulcrum kinematics` and the whole-galaxy pipeline.
+//
+//   KinematicOptions opt;                  // defaults: both methods
+//   KinematicFit fit = fit_kinematics(velocity, &velocity_error, opt);
+//   if (fit.status == "ok") use(fit.centre.world, fit.centre.covariance);
+//   nlohmann::json j = to_json(fit);
+//
+// Steps: samples on the sky (velocity_samples.hpp), first guesses
+// (first_guess.hpp, overridable), the global tilted-ring fit (global_fit.hpp,
+// the dynamical centre), the ring-by-ring fit (ring_fit.hpp), the harmonic
+// centre (harmonic_centre.hpp). Rings are `ring_width_beams` beam FWHM wide
+// (half a beam by default).
+//
+// fit_kinematics throws InputError only for unusable input (grids that do not
+// match, a non-velocity unit, no WCS). When the data cannot constrain a
+// centre it returns status "refused" with the reason (too few pixels, a
+// nearly face-on disc, no measurable rotation); a fit that fails to converge
+// gives status "failed". Only "ok" carries a centre.
+//
+// Conventions: the centre is reported as RA/Dec (degrees), as FITS pixels
+// (1-based, through the map's WCS) and as (east, north) arcsec offsets from
+// `reference` (the world position of the first-guess centre, or the given
+// centre guess); its covariance is 2x2 in arcsec^2 on (east, north). PA of
+// the receding half, north through east, in [0, 360) deg; km/s.
+#pragma once
+
+#include <Eigen/Core>
+#include <nlohmann/json.hpp>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "fulcrum/io/image.hpp"
+#include "fulcrum/kinematics/first_guess.hpp"
+#include "fulcrum/kinematics/global_fit.hpp"
+#include "fulcrum/kinematics/harmonic_centre.hpp"
+#include "fulcrum/kinematics/ring_fit.hpp"
+
+namespace fulcrum::kinematics {
+
+enum class Method { rings, harmonic, both };
+Method parse_method(const std::string& name);  // throws InputError
+std::string method_name(Method m);
+
+struct KinematicOptions {
+  Method method = Method::both;
+  // First-guess overrides (unset: from the data).
+  std::optional<WorldCoord> centre_guess;
+  std::optional<double> pa_guess_deg, inc_guess_deg, vsys_guess_kms;
+  std::optional<double> max_radius_arcsec;
+  std::optional<double> ring_width_arcsec;  // overrides ring_width_beams
+  double ring_width_beams = 0.5;
+  // Hold parameters at their guesses.
+  bool fix_centre = false, fix_pa = false, fix_inc = false, fix_vsys = false;
+  double weight_power = 1.0;                // |cos theta|^k
+  double wedge_deg = 15.0;                  // excluded about the minor axis
+  bool fit_radial = false;
+  RobustLoss loss = RobustLoss::none;
+  double loss_scale = 2.0;
+  bool ring_free_vsys = false;              // ring-by-ring: fit vsys per ring
+  bool ring_by_ring = true;                 // run the ring-by-ring fit
+  double noise_correlation = 0.0;           // eta; 0: 2 x pixels per beam
+  // Refusal thresholds.
+  int min_pixels = 60;
+  double min_pixels_per_parameter = 5.0;
+  double min_inc_deg = 15.0;                // more face-on: refused
+  double min_rotation_snr = 5.0;            // peak vrot sin i over its error
+  double harmonic_min_radius_beams = 1.0;
+  bool record_problem = false;              // keep the global problem (tests)
+};
+
+struct CentreEstimate {
+  WorldCoord world;
+  SkyOffset offset;                 // arcsec from the reference
+  PixelCoord pixel;                 // 0-based
+  Eigen::Matrix2d covariance = Eigen::Matrix2d::Zero();  // arcsec^2 (east, north)
+};
+
+struct KinematicDiagnostics {
+  int pixels_input = 0;             // finite velocity pixels
+  int pixels_used = 0;              // in the last global pass
+  int rings_used = 0;
+  int parameters = 0;
+  double chi2 = 0.0;
+  double reduced_chi2 = 0.0;
+  double residual_rms_kms = 0.0;
+  bool converged = false;
+  std::string termination;
+  int passes = 0;
+  int iterations = 0;
+  double pixel_scale_arcsec = 0.0;
+  double pixels_per_beam = 1.0;
+  double correlation_factor = 1.0;
+  double ring_width_arcsec = 0.0;
+  double max_radius_arcsec = 0.0;
+  bool has_error_map = false;
+};
+
+struct RingRow {
+  RingNode node;                    // global fit (vrot at the node)
+  std::optional<RingFit> free;      // ring-by-ring
+  std::optional<HarmonicRing> harmonic;
+};
+
+struct KinematicFit {
+  std::string status = "refused";   // "ok", "refused", "failed"
+  std::string reason;
+  Method method = Method::both;
+  std::string source;               // velocity map path
+  WorldCoord reference;
+  OffsetFrame frame;
+  FirstGuess guess;                 // relative to `reference`
+  std::optional<CentreEstimate> centre;           // adopted (rings or harmonic)
+  std::optional<CentreEstimate> ring_centre;      // global tilted-ring fit
+  std::optional<CentreEstimate> harmonic_centre;  // harmonic method
+  std::string harmonic_status;      // "ok", "not run", or the reason it failed
+  double pa_deg = 0.0, pa_err_deg = 0.0;
+  double inc_deg = 0.0, inc_err_deg = 0.0;
+  double vsys_kms = 0.0, vsys_err_kms = 0.0;
+  std::vector<RingRow> rings;
+  KinematicDiagnostics diagnostics;
+  std::vector<std::string> notes;   // e.g. unit conversion
+  GlobalFitSummary global;          // the full global-fit summary
+};
+
+KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
+                            const KinematicOptions& options);
+
+// The same on prepared samples (tests); `wcs` turns offsets into pixels and
+// may be invalid (pixels then NaN).
+KinematicFit fit_kinematics_samples(const VelocitySamples& samples, const OffsetFrame& frame,
+                                    const CelestialWcs& wcs, const KinematicOptions& options);
+
+// The JSON block described in docs/kinematics.md (centre with ra_deg,
+// dec_deg, x_pix, y_pix, cov_arcsec2; pa_deg, inc_deg, vsys_kms, rings,
+// method, status, reason, harmonic_centre, diagnostics).
+nlohmann::json to_json(const KinematicFit& fit);
+
+// Model and residual (observed - model) velocity maps on the input grid, in
+// km/s; NaN where the model is undefined (beyond the outer ring) or, for the
+// residual, where the data are missing.
+Image model_velocity_map(const KinematicFit& fit, const Image& velocity);
+Image residual_velocity_map(const KinematicFit& fit, const Image& velocity, const Image& model);
+
+}  // namespace fulcrum::kinematics

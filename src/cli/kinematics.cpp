@@ -1,0 +1,206 @@
+// `fulcrum kinematics`: the dynamical centre of a disc from its velocity map
+// (tilted-ring and harmonic fits; kinematics/kinematic_fit.hpp).
+//
+//   fulcrum kinematics --velocity VEL.fits [--velocity-error ERR.fits]
+//                      [--method rings|harmonic|both] [first-guess overrides]
+//                      --json OUT.json [--out DIR]
+//
+// OUT.json holds centre (ra_deg, dec_deg, x_pix, y_pix [FITS, 1-based],
+// cov_arcsec2 [(east, north) arcsec^2]), pa_deg, inc_deg, vsys_kms, rings,
+// method, status and, with `both`, harmonic_centre. With --out, DIR receives
+// the model and residual velocity maps (km/s, input WCS) and the per-ring
+// table as ECSV and CSV. When the data cannot constrain a centre the JSON is
+// still written (status "refused" and the reason) and the command exits with
+// status 2 and a one-line message.
+#include <cmath>
+#include <cstdio>
+#include <filesystem>
+#include <iostream>
+#include <memory>
+#include <optional>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/core/log.hpp"
+#include "fulcrum/core/version.hpp"
+#include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/kinematics/kinematic_fit.hpp"
+#include "fulcrum/kinematics/ring_table.hpp"
+#include "subcommand.hpp"
+
+namespace {
+
+struct KinematicsArgs {
+  std::string velocity, velocity_error, method = "both", json, out;
+  std::optional<double> centre_ra, centre_dec, pa, inc, vsys, max_radius, ring_width;
+  std::vector<std::string> fix;
+  double ring_width_beams = 0.5;
+  double weight_power = 1.0;
+  double wedge = 15.0;
+  bool radial = false;
+  std::string loss = "none";
+  double loss_scale = 2.0;
+  bool ring_vsys = false;
+  double noise_correlation = 0.0;
+  int min_pixels = 60;
+  double min_inc = 15.0;
+};
+
+void check_new(const std::string& path) {
+  if (!fulcrum::cli::global_flags().force && std::filesystem::exists(path))
+    throw fulcrum::InputError(path, "exists already (use --force to overwrite)");
+}
+
+void run(const KinematicsArgs& a) {
+  using namespace fulcrum;
+  using namespace fulcrum::kinematics;
+  kinematics::KinematicOptions opt;
+  opt.method = parse_method(a.method);
+  if (a.centre_ra.has_value() != a.centre_dec.has_value())
+    throw InputError("", "--centre-ra and --centre-dec must be given together");
+  if (a.centre_ra) {
+    if (*a.centre_dec < -90 || *a.centre_dec > 90)
+      throw InputError("", "--centre-dec must lie in [-90, 90] deg");
+    opt.centre_guess = WorldCoord{*a.centre_ra, *a.centre_dec};
+  }
+  opt.pa_guess_deg = a.pa;
+  if (a.inc && (*a.inc < 0 || *a.inc > 90)) throw InputError("", "--inc must lie in [0, 90] deg");
+  opt.inc_guess_deg = a.inc;
+  opt.vsys_guess_kms = a.vsys;
+  if (a.max_radius && !(*a.max_radius > 0)) throw InputError("", "--max-radius must be positive");
+  opt.max_radius_arcsec = a.max_radius;
+  if (a.ring_width && !(*a.ring_width > 0)) throw InputError("", "--ring-width must be positive");
+  opt.ring_width_arcsec = a.ring_width;
+  if (!(a.ring_width_beams > 0)) throw InputError("", "--ring-width-beams must be positive");
+  opt.ring_width_beams = a.ring_width_beams;
+  for (const auto& f : a.fix) {
+    if (f == "centre") opt.fix_centre = true;
+    else if (f == "pa") opt.fix_pa = true;
+    else if (f == "inc") opt.fix_inc = true;
+    else if (f == "vsys") opt.fix_vsys = true;
+    else throw InputError("", "--fix takes centre, pa, inc or vsys (got '" + f + "')");
+  }
+  if (opt.fix_centre && !opt.centre_guess)
+    throw InputError("", "--fix centre needs --centre-ra and --centre-dec");
+  if (a.weight_power < 0) throw InputError("", "--weight-power must be >= 0");
+  opt.weight_power = a.weight_power;
+  if (a.wedge < 0 || a.wedge >= 90) throw InputError("", "--wedge must lie in [0, 90) deg");
+  opt.wedge_deg = a.wedge;
+  opt.fit_radial = a.radial;
+  if (a.loss == "none") opt.loss = RobustLoss::none;
+  else if (a.loss == "huber") opt.loss = RobustLoss::huber;
+  else if (a.loss == "cauchy") opt.loss = RobustLoss::cauchy;
+  else throw InputError("", "--loss must be none, huber or cauchy (got '" + a.loss + "')");
+  if (!(a.loss_scale > 0)) throw InputError("", "--loss-scale must be positive");
+  opt.loss_scale = a.loss_scale;
+  opt.ring_free_vsys = a.ring_vsys;
+  if (a.noise_correlation < 0) throw InputError("", "--noise-correlation must be >= 0");
+  opt.noise_correlation = a.noise_correlation;
+  opt.min_pixels = a.min_pixels;
+  opt.min_inc_deg = a.min_inc;
+
+  check_new(a.json);
+  const Image vel = read_image(a.velocity);
+  std::optional<Image> err;
+  if (!a.velocity_error.empty()) err = read_image(a.velocity_error);
+  if (err && (err->nx != vel.nx || err->ny != vel.ny))
+    throw InputError(a.velocity_error, "the error map is " + std::to_string(err->nx) + "x" +
+                                           std::to_string(err->ny) +
+                                           " pixels but the velocity map is " +
+                                           std::to_string(vel.nx) + "x" + std::to_string(vel.ny));
+  std::string model_path, resid_path, ecsv_path, csv_path;
+  if (!a.out.empty()) {
+    std::filesystem::create_directories(a.out);
+    const std::filesystem::path d(a.out);
+    model_path = (d / "kinematics_model.fits").string();
+    resid_path = (d / "kinematics_residual.fits").string();
+    ecsv_path = (d / "kinematics_rings.ecsv").string();
+    csv_path = (d / "kinematics_rings.csv").string();
+    for (const auto& p : {model_path, resid_path, ecsv_path, csv_path}) check_new(p);
+  }
+
+  KinematicFit fit = fit_kinematics(vel, err ? &*err : nullptr, opt);
+  nlohmann::json j = to_json(fit);
+  j["software"] = software_info();
+  j["inputs"] = {{"velocity", a.velocity}, {"velocity_error", a.velocity_error}};
+
+  if (!a.out.empty() && fit.status == "ok") {
+    Image model = model_velocity_map(fit, vel);
+    Image resid = residual_velocity_map(fit, vel, model);
+    std::vector<HeaderCard> cards = {
+        {"CONTENT", "tilted-ring model velocity", "fulcrum kinematics", false},
+        {"VSYS", std::to_string(fit.vsys_kms), "[km/s] systemic velocity", true},
+        {"KINPA", std::to_string(fit.pa_deg), "[deg] PA of receding half, N through E", true},
+        {"KININC", std::to_string(fit.inc_deg), "[deg] inclination", true}};
+    write_image(model_path, model, cards);
+    cards[0].value = "observed minus model velocity";
+    write_image(resid_path, resid, cards);
+    write_ring_table_ecsv(ecsv_path, fit);
+    write_ring_table_csv(csv_path, fit);
+    j["outputs"] = {{"model", model_path}, {"residual", resid_path}, {"rings_ecsv", ecsv_path},
+                    {"rings_csv", csv_path}};
+  }
+  write_text_file(a.json, j.dump(2) + "\n");
+
+  if (fit.status != "ok") throw InputError(a.velocity, fit.reason);
+  const auto& c = *fit.centre;
+  std::printf("dynamical centre (%s): RA %.7f  Dec %.7f deg  pixel (%.2f, %.2f)\n",
+              method_name(fit.method) == "harmonic" ? "harmonic" : "tilted rings", c.world.ra_deg,
+              c.world.dec_deg, fits_pixel(c.pixel.x), fits_pixel(c.pixel.y));
+  std::printf("  error (1 sigma): east %.3f  north %.3f arcsec\n", std::sqrt(c.covariance(0, 0)),
+              std::sqrt(c.covariance(1, 1)));
+  std::printf("  PA %.2f +- %.2f deg   inclination %.2f +- %.2f deg   vsys %.2f +- %.2f km/s\n",
+              fit.pa_deg, fit.pa_err_deg, fit.inc_deg, fit.inc_err_deg, fit.vsys_kms,
+              fit.vsys_err_kms);
+  if (fit.harmonic_centre && fit.method == Method::both) {
+    const auto& h = *fit.harmonic_centre;
+    std::printf("harmonic centre: RA %.7f  Dec %.7f deg  (%.3f, %.3f arcsec east, north of the "
+                "tilted-ring centre)\n",
+                h.world.ra_deg, h.world.dec_deg, h.offset.east - c.offset.east,
+                h.offset.north - c.offset.north);
+  } else if (fit.method == Method::both) {
+    std::printf("harmonic centre: not found (%s)\n", fit.harmonic_status.c_str());
+  }
+  std::printf("  %d of %d pixels, %d rings, reduced chi2 %.3f, %s\n", fit.diagnostics.pixels_used,
+              fit.diagnostics.pixels_input, fit.diagnostics.rings_used,
+              fit.diagnostics.reduced_chi2, fit.diagnostics.converged ? "converged" : "not converged");
+}
+
+}  // namespace
+
+FULCRUM_SUBCOMMAND(kinematics, 50, [](CLI::App& app) {
+  auto a = std::make_shared<KinematicsArgs>();
+  auto* cmd = app.add_subcommand(
+      "kinematics",
+      "Dynamical centre, PA, inclination and systemic velocity from a velocity map (tilted-ring "
+      "and harmonic fits)");
+  cmd->add_option("--velocity", a->velocity, "Velocity map (FITS, km/s or m/s)")->required();
+  cmd->add_option("--velocity-error", a->velocity_error, "1-sigma velocity error map (FITS)");
+  cmd->add_option("--method", a->method, "rings, harmonic or both (default both)");
+  cmd->add_option("--json", a->json, "Write the result here (JSON)")->required();
+  cmd->add_option("--out", a->out, "Folder for model/residual maps and the per-ring tables");
+  cmd->add_option("--centre-ra", a->centre_ra, "First-guess centre RA (deg)");
+  cmd->add_option("--centre-dec", a->centre_dec, "First-guess centre Dec (deg)");
+  cmd->add_option("--pa", a->pa, "First-guess PA of the receding half (deg, north through east)");
+  cmd->add_option("--inc", a->inc, "First-guess inclination (deg)");
+  cmd->add_option("--vsys", a->vsys, "First-guess systemic velocity (km/s)");
+  cmd->add_option("--max-radius", a->max_radius, "Outer ring radius (arcsec)");
+  cmd->add_option("--ring-width", a->ring_width, "Ring width (arcsec); default half a beam");
+  cmd->add_option("--ring-width-beams", a->ring_width_beams, "Ring width in beam FWHM (0.5)");
+  cmd->add_option("--fix", a->fix, "Hold at the first guess: centre, pa, inc, vsys")
+      ->delimiter(',');
+  cmd->add_option("--weight-power", a->weight_power, "k in the |cos theta|^k pixel weights (1)");
+  cmd->add_option("--wedge", a->wedge, "Half-angle of the excluded wedge about the minor axis (deg, 15)");
+  cmd->add_flag("--radial", a->radial, "Fit a radial velocity term per ring");
+  cmd->add_option("--loss", a->loss, "Robust loss: none, huber or cauchy (none)");
+  cmd->add_option("--loss-scale", a->loss_scale, "Robust loss scale in residual sigmas (2)");
+  cmd->add_flag("--ring-vsys", a->ring_vsys, "Fit vsys per ring in the ring-by-ring fit");
+  cmd->add_option("--noise-correlation", a->noise_correlation,
+                  "Covariance factor for correlated pixels (0: 2 x pixels per beam)");
+  cmd->add_option("--min-pixels", a->min_pixels, "Refuse with fewer usable pixels (60)");
+  cmd->add_option("--min-inc", a->min_inc, "Refuse discs closer to face-on than this (deg, 15)");
+  cmd->callback([a] {
+    fulcrum::set_quiet(fulcrum::cli::global_flags().quiet);
+    run(*a);
+  });
+});

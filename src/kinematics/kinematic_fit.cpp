@@ -1,0 +1,463 @@
+// The dynamical centre from a velocity map (kinematic_fit.hpp): samples,
+// first guesses, global and ring-by-ring tilted-ring fits, the harmonic
+// centre, refusals, JSON and model maps.
+// Units: arcsec (east, north offsets), degrees, km/s; FITS pixels 1-based in
+// the JSON, 0-based inside.
+#include "fulcrum/kinematics/kinematic_fit.hpp"
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <sstream>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/core/log.hpp"
+#include "fulcrum/kinematics/tilted_ring_model.hpp"
+#include "fulcrum/sky/angle.hpp"
+#include "fulcrum/sky/pixel_offsets.hpp"
+
+namespace fulcrum::kinematics {
+
+namespace {
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+std::string fmt(double v, int prec = 3) {
+  std::ostringstream os;
+  os.setf(std::ios::fixed);
+  os.precision(prec);
+  os << v;
+  return os.str();
+}
+
+CentreEstimate make_centre(SkyOffset o, const Eigen::Matrix2d& cov, const OffsetFrame& frame,
+                           const CelestialWcs& wcs) {
+  CentreEstimate c;
+  c.offset = o;
+  c.covariance = cov;
+  c.world = frame.to_world(o);
+  c.pixel = {kNaN, kNaN};
+  if (wcs.valid()) {
+    try {
+      c.pixel = wcs.world_to_pixel(c.world);
+    } catch (const InputError&) {
+    }
+  }
+  return c;
+}
+
+nlohmann::json num_or_null(double v) { return std::isfinite(v) ? nlohmann::json(v) : nlohmann::json(); }
+
+nlohmann::json centre_json(const CentreEstimate& c) {
+  nlohmann::json j;
+  j["ra_deg"] = c.world.ra_deg;
+  j["dec_deg"] = c.world.dec_deg;
+  j["x_pix"] = num_or_null(fits_pixel(c.pixel.x));
+  j["y_pix"] = num_or_null(fits_pixel(c.pixel.y));
+  j["east_arcsec"] = c.offset.east;
+  j["north_arcsec"] = c.offset.north;
+  j["cov_arcsec2"] = {{num_or_null(c.covariance(0, 0)), num_or_null(c.covariance(0, 1))},
+                      {num_or_null(c.covariance(1, 0)), num_or_null(c.covariance(1, 1))}};
+  j["err_east_arcsec"] = num_or_null(std::sqrt(c.covariance(0, 0)));
+  j["err_north_arcsec"] = num_or_null(std::sqrt(c.covariance(1, 1)));
+  // The 1-sigma error ellipse: semi-axes and the PA of the major axis.
+  Eigen::SelfAdjointEigenSolver<Eigen::Matrix2d> es(c.covariance);
+  if (es.info() == Eigen::Success && c.covariance.allFinite()) {
+    const Eigen::Vector2d major = es.eigenvectors().col(1);
+    j["error_ellipse"] = {
+        {"major_arcsec", std::sqrt(std::max(0.0, es.eigenvalues()(1)))},
+        {"minor_arcsec", std::sqrt(std::max(0.0, es.eigenvalues()(0)))},
+        {"pa_deg", wrap_pa_deg(std::fmod(std::atan2(major(0), major(1)) * 180.0 / std::numbers::pi + 360.0, 180.0))}};
+  }
+  return j;
+}
+
+void refuse(KinematicFit& fit, const std::string& why) {
+  fit.status = "refused";
+  fit.reason = "cannot constrain a centre: " + why;
+  fit.centre.reset();
+}
+
+}  // namespace
+
+Method parse_method(const std::string& name) {
+  if (name == "rings") return Method::rings;
+  if (name == "harmonic") return Method::harmonic;
+  if (name == "both") return Method::both;
+  throw InputError("", "--method must be rings, harmonic or both (got '" + name + "')");
+}
+
+std::string method_name(Method m) {
+  switch (m) {
+    case Method::rings: return "rings";
+    case Method::harmonic: return "harmonic";
+    case Method::both: return "both";
+  }
+  return "both";
+}
+
+KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
+                            const KinematicOptions& options) {
+  if (!velocity.wcs.valid())
+    throw InputError(velocity.path, "the velocity map has no celestial WCS");
+  std::vector<std::string> notes;
+  std::string why;
+  velocity_unit_factor(velocity, &why);
+  if (!why.empty()) notes.push_back(why);
+  if (velocity_error) {
+    std::string why_err;
+    velocity_unit_factor(*velocity_error, &why_err);
+    if (!why_err.empty()) notes.push_back(why_err);
+  }
+  // Reference: the given centre guess, else the first-guess centre found
+  // about the grid centre.
+  WorldCoord reference;
+  if (options.centre_guess) {
+    reference = *options.centre_guess;
+  } else {
+    const WorldCoord grid_centre =
+        velocity.wcs.pixel_to_world({0.5 * (velocity.nx - 1), 0.5 * (velocity.ny - 1)});
+    VelocitySamples s0 = samples_from_image(velocity, velocity_error, grid_centre);
+    if (s0.size() == 0) {
+      KinematicFit fit;
+      fit.method = options.method;
+      fit.source = velocity.path;
+      fit.reference = grid_centre;
+      fit.frame = OffsetFrame(grid_centre);
+      fit.notes = notes;
+      refuse(fit, "the velocity map has no finite pixels");
+      return fit;
+    }
+    const FirstGuess g0 = first_guess(s0);
+    reference = OffsetFrame(grid_centre).to_world(g0.centre);
+  }
+  const VelocitySamples s = samples_from_image(velocity, velocity_error, reference);
+  KinematicFit fit = fit_kinematics_samples(s, OffsetFrame(reference), velocity.wcs, options);
+  fit.source = velocity.path;
+  fit.notes.insert(fit.notes.begin(), notes.begin(), notes.end());
+  for (const auto& n : notes) note(n);
+  return fit;
+}
+
+KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame& frame,
+                                    const CelestialWcs& wcs, const KinematicOptions& opt) {
+  KinematicFit fit;
+  fit.method = opt.method;
+  fit.frame = frame;
+  fit.reference = frame.reference();
+  auto& d = fit.diagnostics;
+  d.pixels_input = static_cast<int>(s.size());
+  d.has_error_map = s.has_errors;
+  d.pixel_scale_arcsec = std::sqrt(s.pixel_area_arcsec2);
+  d.pixels_per_beam = pixels_per_beam(s.beam, s.pixel_area_arcsec2);
+  d.correlation_factor = correlation_factor(s.beam, s.pixel_area_arcsec2, opt.noise_correlation);
+  if (!s.beam) fit.notes.push_back("no beam in the header: pixels treated as independent");
+  if (d.pixels_input < opt.min_pixels) {
+    refuse(fit, "too few pixels (" + std::to_string(d.pixels_input) +
+                    " finite velocity pixels, at least " + std::to_string(opt.min_pixels) +
+                    " needed)");
+    return fit;
+  }
+
+  // First guesses, with overrides.
+  FirstGuess g = first_guess(s);
+  if (opt.centre_guess) g.centre = frame.to_offset(*opt.centre_guess);
+  if (opt.pa_guess_deg) g.pa_deg = wrap_pa_deg(*opt.pa_guess_deg);
+  if (opt.inc_guess_deg) g.inc_deg = *opt.inc_guess_deg;
+  if (opt.vsys_guess_kms) g.vsys_kms = *opt.vsys_guess_kms;
+  if (opt.centre_guess || opt.pa_guess_deg || opt.inc_guess_deg)
+    g.max_radius_arcsec = radius_quantile(s, g.centre, g.pa_deg, g.inc_deg, 0.98);
+  if (opt.max_radius_arcsec) g.max_radius_arcsec = *opt.max_radius_arcsec;
+  fit.guess = g;
+  if (opt.inc_guess_deg && *opt.inc_guess_deg < opt.min_inc_deg) {
+    refuse(fit, "the disc is nearly face-on (inclination guess " + fmt(*opt.inc_guess_deg, 1) +
+                    " deg, below " + fmt(opt.min_inc_deg, 1) + " deg)");
+    return fit;
+  }
+
+  double width = 0;
+  if (opt.ring_width_arcsec) {
+    width = *opt.ring_width_arcsec;
+  } else if (s.beam && s.beam->fwhm_arcsec() > 0) {
+    width = opt.ring_width_beams * s.beam->fwhm_arcsec();
+  } else {
+    width = 2.0 * d.pixel_scale_arcsec;
+    fit.notes.push_back("no beam in the header: rings are 2 pixels wide");
+  }
+  width = std::max(width, d.pixel_scale_arcsec);
+  if (!(g.max_radius_arcsec >= 2 * width)) {
+    refuse(fit, "the footprint is too small for two rings (outer radius " +
+                    fmt(g.max_radius_arcsec, 2) + " arcsec, ring width " + fmt(width, 2) +
+                    " arcsec)");
+    return fit;
+  }
+  d.ring_width_arcsec = width;
+  d.max_radius_arcsec = g.max_radius_arcsec;
+
+  // Global tilted-ring fit.
+  GlobalFitOptions go;
+  go.ring_width_arcsec = width;
+  go.max_radius_arcsec = g.max_radius_arcsec;
+  go.weight_power = opt.weight_power;
+  go.wedge_deg = opt.wedge_deg;
+  go.fit_radial = opt.fit_radial;
+  go.fix_centre = opt.fix_centre;
+  go.fix_pa = opt.fix_pa;
+  go.fix_inc = opt.fix_inc;
+  go.fix_vsys = opt.fix_vsys;
+  go.loss = opt.loss;
+  go.loss_scale = opt.loss_scale;
+  go.correlation_factor = d.correlation_factor;
+  go.record_problem = opt.record_problem;
+  DiscGeometry start{g.centre, g.pa_deg, g.inc_deg, g.vsys_kms};
+  fit.global = fit_global_rings(s, start, go);
+  const GlobalFitSummary& gl = fit.global;
+  d.pixels_used = gl.n_used;
+  d.parameters = gl.n_parameters;
+  d.chi2 = gl.chi2;
+  d.reduced_chi2 = gl.scaling.reduced_chi2;
+  d.residual_rms_kms = gl.residual_rms_kms;
+  d.converged = gl.converged;
+  d.termination = gl.message;
+  d.passes = gl.passes;
+  d.iterations = gl.iterations;
+  for (const auto& n : gl.nodes) d.rings_used += n.n_pixels > 0 ? 1 : 0;
+
+  fit.pa_deg = gl.geometry.pa_deg;
+  fit.inc_deg = gl.geometry.inc_deg;
+  fit.vsys_kms = gl.geometry.vsys_kms;
+  // A negative rotation means the receding side is the other one.
+  double mean_v = 0;
+  for (const auto& n : gl.nodes) mean_v += n.vrot_kms * n.n_pixels;
+  fit.pa_err_deg = std::sqrt(gl.covariance(2, 2));
+  fit.inc_err_deg = std::sqrt(gl.covariance(3, 3));
+  fit.vsys_err_kms = std::sqrt(gl.covariance(4, 4));
+  for (const auto& n : gl.nodes) fit.rings.push_back(RingRow{n, std::nullopt, std::nullopt});
+
+  if (d.pixels_used < opt.min_pixels ||
+      d.pixels_used < opt.min_pixels_per_parameter * std::max(1, d.parameters)) {
+    refuse(fit, "too few pixels in the rings (" + std::to_string(d.pixels_used) + " for " +
+                    std::to_string(d.parameters) + " parameters)");
+    return fit;
+  }
+  if (!gl.converged) {
+    fit.status = "failed";
+    fit.reason = "the tilted-ring fit did not converge: " + gl.message;
+    return fit;
+  }
+  if (mean_v < 0) {
+    // Cannot happen from the gradient first guess unless the data are odd;
+    // report it plainly rather than flip silently.
+    fit.notes.push_back("the fitted rotation is negative: the receding side is at PA + 180 deg");
+  }
+  if (gl.geometry.inc_deg < opt.min_inc_deg) {
+    refuse(fit, "the disc is nearly face-on (fitted inclination " + fmt(gl.geometry.inc_deg, 1) +
+                    " deg, below " + fmt(opt.min_inc_deg, 1) + " deg)");
+    return fit;
+  }
+  double best_snr = 0;
+  for (const auto& n : gl.nodes)
+    if (n.n_pixels > 0 && n.vrot_err_kms > 0 && std::isfinite(n.vrot_err_kms))
+      best_snr = std::max(best_snr, std::abs(n.vrot_kms) / n.vrot_err_kms);
+  if (!gl.covariance_ok) {
+    refuse(fit, "no measurable rotation: the centre is unconstrained (singular covariance)");
+    return fit;
+  }
+  if (best_snr < opt.min_rotation_snr) {
+    refuse(fit, "no measurable rotation (largest ring rotation is " + fmt(best_snr, 1) +
+                    " sigma, at least " + fmt(opt.min_rotation_snr, 1) + " needed)");
+    return fit;
+  }
+
+  fit.ring_centre = make_centre(gl.geometry.centre, gl.centre_covariance(), frame, wcs);
+
+  // Ring-by-ring.
+  if (opt.ring_by_ring) {
+    RingFitOptions ro;
+    ro.free_vsys = opt.ring_free_vsys;
+    ro.fit_radial = opt.fit_radial;
+    ro.weight_power = opt.weight_power;
+    ro.wedge_deg = opt.wedge_deg;
+    ro.correlation_factor = d.correlation_factor;
+    auto rf = fit_rings_individually(s, gl, width, ro);
+    for (std::size_t k = 0; k < rf.size() && k < fit.rings.size(); ++k) fit.rings[k].free = rf[k];
+  }
+
+  // Harmonic centre.
+  if (opt.method != Method::rings) {
+    HarmonicCentreOptions ho;
+    ho.ring_width_arcsec = width;
+    ho.max_radius_arcsec = g.max_radius_arcsec;
+    ho.min_radius_arcsec =
+        s.beam ? opt.harmonic_min_radius_beams * s.beam->fwhm_arcsec() : 2.0 * width;
+    ho.expansion.correlation_factor = d.correlation_factor;
+    HarmonicCentreSummary hc = fit_harmonic_centre(s, gl.geometry, ho);
+    if (hc.ok) {
+      fit.harmonic_status = "ok";
+      fit.harmonic_centre = make_centre(hc.centre, hc.covariance, frame, wcs);
+    } else {
+      fit.harmonic_status = hc.reason;
+    }
+    for (std::size_t k = 0; k < hc.rings.size() && k < fit.rings.size(); ++k)
+      fit.rings[k].harmonic = hc.rings[k];
+  } else {
+    fit.harmonic_status = "not run";
+  }
+
+  if (opt.method == Method::harmonic) {
+    if (!fit.harmonic_centre) {
+      refuse(fit, "the harmonic centre failed: " + fit.harmonic_status);
+      return fit;
+    }
+    fit.centre = fit.harmonic_centre;
+  } else {
+    fit.centre = fit.ring_centre;
+  }
+  fit.status = "ok";
+  return fit;
+}
+
+nlohmann::json to_json(const KinematicFit& fit) {
+  nlohmann::json j;
+  j["method"] = method_name(fit.method);
+  j["status"] = fit.status;
+  j["reason"] = fit.reason;
+  j["source"] = fit.source;
+  j["reference"] = {{"ra_deg", fit.reference.ra_deg}, {"dec_deg", fit.reference.dec_deg}};
+  j["centre"] = fit.centre ? centre_json(*fit.centre) : nlohmann::json();
+  if (fit.centre) j["centre"]["from"] = fit.method == Method::harmonic ? "harmonic" : "rings";
+  const bool ok = fit.status == "ok";
+  j["pa_deg"] = ok ? nlohmann::json(fit.pa_deg) : nlohmann::json();
+  j["pa_err_deg"] = ok ? num_or_null(fit.pa_err_deg) : nlohmann::json();
+  j["inc_deg"] = ok ? nlohmann::json(fit.inc_deg) : nlohmann::json();
+  j["inc_err_deg"] = ok ? num_or_null(fit.inc_err_deg) : nlohmann::json();
+  j["vsys_kms"] = ok ? nlohmann::json(fit.vsys_kms) : nlohmann::json();
+  j["vsys_err_kms"] = ok ? num_or_null(fit.vsys_err_kms) : nlohmann::json();
+  if (fit.method != Method::rings) {
+    j["harmonic_centre"] =
+        fit.harmonic_centre ? centre_json(*fit.harmonic_centre) : nlohmann::json();
+    j["harmonic_status"] = fit.harmonic_status;
+  }
+  if (fit.method == Method::harmonic && fit.ring_centre) j["ring_centre"] = centre_json(*fit.ring_centre);
+  nlohmann::json rings = nlohmann::json::array();
+  for (const auto& r : fit.rings) {
+    nlohmann::json jr;
+    jr["radius_arcsec"] = r.node.radius_arcsec;
+    jr["n_pixels"] = r.node.n_pixels;
+    jr["vrot_kms"] = r.node.vrot_kms;
+    jr["vrot_err_kms"] = num_or_null(r.node.vrot_err_kms);
+    if (fit.global.problem.radial || r.node.vrad_kms != 0.0) {
+      jr["vrad_kms"] = r.node.vrad_kms;
+      jr["vrad_err_kms"] = num_or_null(r.node.vrad_err_kms);
+    }
+    if (r.free) {
+      const RingFit& f = *r.free;
+      nlohmann::json jf;
+      jf["ok"] = f.ok;
+      if (!f.ok) jf["reason"] = f.reason;
+      jf["n_pixels"] = f.n_pixels;
+      if (f.ok) {
+        const WorldCoord w = fit.frame.to_world(f.geometry.centre);
+        jf["centre_east_arcsec"] = f.geometry.centre.east;
+        jf["centre_north_arcsec"] = f.geometry.centre.north;
+        jf["centre_east_err_arcsec"] = f.centre_east_err;
+        jf["centre_north_err_arcsec"] = f.centre_north_err;
+        jf["centre_ra_deg"] = w.ra_deg;
+        jf["centre_dec_deg"] = w.dec_deg;
+        jf["pa_deg"] = f.geometry.pa_deg;
+        jf["pa_err_deg"] = f.pa_err_deg;
+        jf["inc_deg"] = f.geometry.inc_deg;
+        jf["inc_err_deg"] = f.inc_err_deg;
+        jf["vsys_kms"] = f.geometry.vsys_kms;
+        jf["vrot_kms"] = f.vrot_kms;
+        jf["vrot_err_kms"] = f.vrot_err_kms;
+        jf["reduced_chi2"] = f.reduced_chi2;
+      }
+      jr["ring_fit"] = jf;
+    }
+    if (r.harmonic) {
+      const HarmonicRing& h = *r.harmonic;
+      nlohmann::json jh;
+      jh["ok"] = h.ok;
+      if (!h.ok) jh["reason"] = h.reason;
+      jh["n_pixels"] = h.n_pixels;
+      if (h.ok) {
+        static const char* names[7] = {"c0", "c1", "s1", "c2", "s2", "c3", "s3"};
+        for (int i = 0; i < 7; ++i) {
+          jh[std::string(names[i]) + "_kms"] = h.coeff[i];
+          jh[std::string(names[i]) + "_err_kms"] = h.err(i);
+        }
+      }
+      jr["harmonics"] = jh;
+    }
+    rings.push_back(jr);
+  }
+  j["rings"] = rings;
+  const auto& d = fit.diagnostics;
+  j["diagnostics"] = {{"pixels_input", d.pixels_input},
+                      {"pixels_used", d.pixels_used},
+                      {"rings_used", d.rings_used},
+                      {"parameters", d.parameters},
+                      {"chi2", d.chi2},
+                      {"reduced_chi2", num_or_null(d.reduced_chi2)},
+                      {"residual_rms_kms", d.residual_rms_kms},
+                      {"converged", d.converged},
+                      {"termination", d.termination},
+                      {"passes", d.passes},
+                      {"iterations", d.iterations},
+                      {"pixel_scale_arcsec", d.pixel_scale_arcsec},
+                      {"pixels_per_beam", d.pixels_per_beam},
+                      {"covariance_correlation_factor", d.correlation_factor},
+                      {"ring_width_arcsec", d.ring_width_arcsec},
+                      {"max_radius_arcsec", d.max_radius_arcsec},
+                      {"error_map", d.has_error_map}};
+  const WorldCoord gw = fit.frame.to_world(fit.guess.centre);
+  j["first_guess"] = {{"ra_deg", gw.ra_deg},
+                      {"dec_deg", gw.dec_deg},
+                      {"east_arcsec", fit.guess.centre.east},
+                      {"north_arcsec", fit.guess.centre.north},
+                      {"pa_deg", fit.guess.pa_deg},
+                      {"inc_deg", fit.guess.inc_deg},
+                      {"vsys_kms", fit.guess.vsys_kms},
+                      {"max_radius_arcsec", fit.guess.max_radius_arcsec}};
+  j["units"] = {{"angles", "deg, PA north through east of the receding half"},
+                {"offsets", "arcsec (east, north) from reference"},
+                {"velocities", "km/s"},
+                {"pixels", "FITS, first pixel centre = 1"}};
+  j["notes"] = fit.notes;
+  return j;
+}
+
+Image model_velocity_map(const KinematicFit& fit, const Image& velocity) {
+  Image m = velocity.like(kNaN);
+  m.unit = "km/s";
+  if (fit.global.nodes.empty()) return m;
+  PixelOffsets offsets(velocity, fit.reference);
+  const auto& g = fit.global.geometry;
+  const Angle pa = g.pa_deg * degrees, inc = g.inc_deg * degrees;
+  const double rmax = fit.global.nodes.back().radius_arcsec + 0.5 * fit.diagnostics.ring_width_arcsec;
+  for (int y = 0; y < velocity.ny; ++y)
+    for (int x = 0; x < velocity.nx; ++x) {
+      const SkyOffset o = offsets.at(x, y);
+      double X, Y;
+      disc_plane(o.east, o.north, g.centre.east, g.centre.north, pa.cos(), pa.sin(), inc.cos(), &X,
+                 &Y);
+      if (std::hypot(X, Y) > rmax) continue;
+      m.at(x, y) = global_model_velocity(fit.global, o.east, o.north);
+    }
+  return m;
+}
+
+Image residual_velocity_map(const KinematicFit& fit, const Image& velocity, const Image& model) {
+  Image r = velocity.like(kNaN);
+  r.unit = "km/s";
+  std::string why;
+  const double f = velocity_unit_factor(velocity, &why);
+  for (std::size_t i = 0; i < velocity.size(); ++i)
+    r.data[i] = velocity.data[i] * f - model.data[i];  // NaN propagates
+  (void)fit;
+  return r;
+}
+
+}  // namespace fulcrum::kinematics

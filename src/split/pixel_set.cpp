@@ -1,0 +1,55 @@
+// Collecting the pixels of a split: finite map values inside the aperture
+// (membership by pixel centre), with their offsets and noise variances.
+#include "fulcrum/split/pixel_set.hpp"
+
+#include <cmath>
+
+#include "fulcrum/core/error.hpp"
+
+namespace fulcrum::split {
+
+PixelSet collect_pixels(const Image& map, const PixelOffsets& offsets,
+                        const std::optional<SkyEllipse>& aperture, const NoiseSpec& noise) {
+  if (offsets.nx() != map.nx || offsets.ny() != map.ny)
+    throw InternalError("collect_pixels: offsets grid differs from the map grid");
+  if (noise.error_map && (noise.error_map->nx != map.nx || noise.error_map->ny != map.ny))
+    throw InputError(noise.error_map->path,
+                     "error map is " + std::to_string(noise.error_map->nx) + "x" +
+                         std::to_string(noise.error_map->ny) + " pixels but the map is " +
+                         std::to_string(map.nx) + "x" + std::to_string(map.ny));
+  if (!noise.error_map && noise.rms < 0.0) throw InputError("", "--rms must be positive");
+  PixelSet px;
+  px.jacobian = offsets.jacobian();
+  const bool has_noise = noise.error_map || noise.rms > 0.0;
+  const double rms2 = noise.rms * noise.rms;
+  const auto& E = offsets.east();
+  const auto& N = offsets.north();
+  px.east.reserve(map.size());
+  px.north.reserve(map.size());
+  px.value.reserve(map.size());
+  if (has_noise) px.variance.reserve(map.size());
+  for (std::size_t i = 0; i < map.size(); ++i) {
+    const double f = map.data[i];
+    if (!std::isfinite(f)) continue;
+    const SkyOffset o{E[i], N[i]};
+    if (aperture && !aperture->contains(o)) continue;
+    double var = 0.0;
+    if (noise.error_map) {
+      const double e = noise.error_map->data[i];
+      if (!std::isfinite(e) || e <= 0.0) continue;
+      var = e * e;
+    } else if (has_noise) {
+      var = rms2;
+    }
+    px.east.push_back(o.east);
+    px.north.push_back(o.north);
+    px.value.push_back(f);
+    if (has_noise) px.variance.push_back(var);
+  }
+  if (px.size() == 0)
+    throw InputError(map.path, aperture ? "no finite pixel inside the analysis aperture"
+                                        : "the map has no finite pixel");
+  return px;
+}
+
+}  // namespace fulcrum::split
