@@ -103,7 +103,7 @@ std::vector<MockGalaxy> demo_sample() {
     g.optical.grid.ny = 180;
     offset_towards(g, 290.0, 0.35);
     g.cube.enabled = true; g.cube.spectral_type = "FREQ"; g.cube.n_channels = 64;
-    g.cube.channel_width_kms = 12.0; g.cube.noise_rms = 0.003;
+    g.cube.channel_width_kms = 12.0; g.cube.noise_rms = 0.0006;
     g.description = "A clear leading excess observed on a rotated and flipped pixel grid (and as a "
                     "frequency cube): nothing may assume north is up.";
     g.expected_verdict = "robust";
