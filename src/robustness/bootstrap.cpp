@@ -99,7 +99,18 @@ BootstrapSummary bootstrap(const split::SplitProblem& pr, const BootstrapOptions
 #pragma omp parallel for schedule(dynamic, 1)
   for (long long gi = 0; gi < ng; ++gi) {
     const Angle th = (o.tail_pa_deg + glist[gi].first * step) * degrees;
-    const ProjectionEngine e(pr.pixels, th, {0.0, noise});
+    // The window: the s-range of this node's draws.
+    const SkyOffset nn = split::leading_normal(th);
+    split::EngineOptions eo;
+    eo.with_variance = noise;
+    eo.window_lo = 1e300;
+    eo.window_hi = -1e300;
+    for (std::size_t i : *glist[gi].second) {
+      const double s = nn.east * draws[i].ce + nn.north * draws[i].cn;
+      eo.window_lo = std::min(eo.window_lo, s);
+      eo.window_hi = std::max(eo.window_hi, s);
+    }
+    const ProjectionEngine e(pr.pixels, th, eo);
     for (std::size_t i : *glist[gi].second) {
       const Draw& d = draws[i];
       const split::HalfSums h = e.halves(SkyOffset{d.ce, d.cn});

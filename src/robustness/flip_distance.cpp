@@ -36,12 +36,13 @@ std::optional<double> nearest_zero(const ProjectionEngine& e, double s0) {
   if (!std::isfinite(a0)) return std::nullopt;
   const int sg = sign_of(a0);
   if (sg == 0) return s0;
-  const double h = std::min(e.bin_width(), 0.25 * e.shape().w1);
-  const double lo = e.s_min() - h, hi = e.s_max() + h;
+  const double h = 0.25 * e.shape().w1;
+  // Search where A can change; a windowed engine is searched inside its window only.
+  const double lo = std::max(e.s_min() - h, e.window_lo()), hi = std::min(e.s_max() + h, e.window_hi());
   double prev_p = s0, prev_m = s0;
   for (long long m = 1;; ++m) {
     const double sp = s0 + m * h, sm = s0 - m * h;
-    const bool in_p = sp - h <= hi, in_m = sm + h >= lo;
+    const bool in_p = sp <= hi, in_m = sm >= lo;
     if (!in_p && !in_m) break;
     // Check the nearer candidates first; at equal distance the + side wins.
     if (in_p && sign_of(e.asymmetry(sp)) != sg) {

@@ -5,6 +5,7 @@
 #include <chrono>
 #include <cmath>
 #include <cstdio>
+#include <optional>
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/fits_image.hpp"
@@ -52,8 +53,20 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
   std::vector<std::size_t> positive(S.n_angle, 0);
 #pragma omp parallel for schedule(dynamic, 1)
   for (long long ia = 0; ia < na; ++ia) {
-    const ProjectionEngine e(pr.pixels, S.angles[ia] * degrees, {0.0, false});
-    const SkyOffset n = e.normal();
+    // The s-range of this angle's grid: the window of the engine.
+    const SkyOffset n = split::leading_normal(S.angles[ia] * degrees);
+    double smin = 1e300, smax = -1e300;
+    for (double ce : {S.east.front(), S.east.back()})
+      for (double cn : {S.north.front(), S.north.back()}) {
+        const double sc = n.east * ce + n.north * cn;
+        smin = std::min(smin, sc);
+        smax = std::max(smax, sc);
+      }
+    split::EngineOptions eo;
+    eo.with_variance = false;
+    eo.window_lo = smin;
+    eo.window_hi = smax;
+    const ProjectionEngine e(pr.pixels, S.angles[ia] * degrees, eo);
     const double Stot = e.total(0);
     double* out = &S.asymmetry[plane * ia];
     std::size_t pos = 0;
@@ -70,20 +83,24 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
     as.fraction_positive = double(pos) / double(plane);
     as.line_pa_deg = std::fmod(wrap_pa_deg(S.angles[ia] + 90.0), 180.0);
     const double s0 = e.s_of(o.centre);
-    if (const auto z = nearest_zero(e, s0)) {
+    std::optional<double> z = nearest_zero(e, s0);
+    as.zero_exact = true;
+    // Outside the grid: widen the window about s0 (doubling) until a zero
+    // is found or the window covers the whole map; exact every time.
+    for (double X = 2.0 * std::max(smax - s0, s0 - smin) + 4.0 * e.shape().w1;
+         !z && (s0 - X / 2 > e.s_min() || s0 + X / 2 < e.s_max()); X *= 2.0) {
+      split::EngineOptions wide;
+      wide.with_variance = false;
+      wide.window_lo = s0 - X;
+      wide.window_hi = s0 + X;
+      const ProjectionEngine e2(pr.pixels, S.angles[ia] * degrees, wide);
+      z = nearest_zero(e2, s0);
+    }
+    if (z) {
       as.zero_found = true;
       as.s_zero = *z;
       as.line_distance_arcsec = std::abs(*z - s0);
-      as.line_direction_pa_deg =
-          wrap_pa_deg(S.angles[ia] + (*z >= s0 ? 180.0 : 0.0));
-      // Inside the grid when the line passes through the offset square.
-      double smin = 1e300, smax = -1e300;
-      for (double ce : {S.east.front(), S.east.back()})
-        for (double cn : {S.north.front(), S.north.back()}) {
-          const double sc = n.east * ce + n.north * cn;
-          smin = std::min(smin, sc);
-          smax = std::max(smax, sc);
-        }
+      as.line_direction_pa_deg = wrap_pa_deg(S.angles[ia] + (*z >= s0 ? 180.0 : 0.0));
       as.line_inside_grid = *z >= smin && *z <= smax;
     }
   }
@@ -158,6 +175,7 @@ nlohmann::json to_json(const ScanSummary& S) {
                    {"zero_line_direction_pa_deg", a.zero_found ? nlohmann::json(a.line_direction_pa_deg) : nlohmann::json()},
                    {"zero_line_pa_deg", a.line_pa_deg},
                    {"zero_line_inside_grid", a.line_inside_grid},
+                   {"zero_exact", a.zero_exact},
                    {"zero_s_arcsec", a.zero_found ? nlohmann::json(a.s_zero) : nlohmann::json()}});
   return {{"n_east", S.n_east},
           {"n_north", S.n_north},

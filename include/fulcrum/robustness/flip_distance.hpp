@@ -54,7 +54,8 @@ struct FlipSummary {
 };
 
 // The zero of A(s) nearest to s0 on one engine (nullopt when A keeps its sign
-// over the whole range where it can change).
+// over the whole range where it can change; a windowed engine is searched
+// inside its window only).
 std::optional<double> nearest_zero(const split::ProjectionEngine& engine, double s0);
 
 // One angle (nominal sign given: the sign of A at c0 for the nominal angle).

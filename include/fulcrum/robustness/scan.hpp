@@ -13,6 +13,12 @@
 // cube pixel's world position is the trial centre itself (the +x axis points
 // east, so the grid has the mirrored parity: east to the right). Axis 3 is a
 // linear axis CTYPE3 = 'TAILPA', CUNIT3 = 'deg'.
+//
+// Each angle's engine is built with the window of s covered by the grid
+// (projection_engine.hpp), so only pixels near the grid's lines are binned.
+// The zero-crossing line nearest the grid centre is found on the exact engine;
+// when it lies outside the grid's s-range the window is widened (doubling)
+// until it is found.
 #pragma once
 
 #include <nlohmann/json.hpp>
@@ -42,6 +48,7 @@ struct ScanAngleSummary {
   double line_direction_pa_deg = 0.0;  // PA from the grid centre towards the line
   double line_pa_deg = 0.0;            // PA along which the line runs (tail PA + 90, in [0,180))
   bool line_inside_grid = false;
+  bool zero_exact = true;  // always true: kept for readers of the JSON
 };
 
 struct ScanSummary {

@@ -28,12 +28,28 @@
 
 namespace fulcrum::split {
 
+// A block of pixels that are contiguous in the PixelSet (a square of the
+// image grid): its centre, the radius that bounds its pixel centres, and its
+// sums. An engine whose window lies wholly to one side of a tile's projected
+// extent takes the tile's sums without reading its pixels.
+struct PixelTile {
+  std::size_t begin = 0, end = 0;
+  double east = 0.0, north = 0.0, radius = 0.0;  // arcsec
+  double sum_value = 0.0, sum_variance = 0.0;
+};
+
 struct PixelSet {
   std::vector<double> east;      // arcsec
   std::vector<double> north;     // arcsec
   std::vector<double> value;     // BUNIT
   std::vector<double> variance;  // BUNIT^2; empty when no noise is known
   Eigen::Matrix2d jacobian = Eigen::Matrix2d::Identity();  // arcsec per pixel
+  // max |offset| over the pixels (arcsec): bounds n.x for every angle.
+  // collect_pixels fills it; 0 means "unknown" (engines then compute it).
+  double max_radius = 0.0;
+  // Tiles in pixel order (collect_pixels makes 32 x 32 pixel tiles); empty
+  // means one tile holding everything.
+  std::vector<PixelTile> tiles;
   std::size_t size() const { return value.size(); }
   double pixel_area_arcsec2() const { return std::abs(jacobian.determinant()); }
   double pixel_scale_arcsec() const { return std::sqrt(pixel_area_arcsec2()); }

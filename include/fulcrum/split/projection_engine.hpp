@@ -16,21 +16,24 @@
 // p_i +- w1. L(s) = F(+inf) - F(s) because the aperture is fixed.
 //
 // How F(s) is evaluated exactly (the kernel, see projection_engine.cpp).
-// The projected centres are counting-sorted into bins of width delta. Per bin
-// and channel we keep the moments M0 = sum f, M1 = sum f e, M2 = sum f e^2 of
-// the offsets e = p - (bin centre), and a running prefix sum of M0. For a
+// The projected centres are counting-sorted into bins of width delta, grouped
+// in blocks of 32 bins. Per bin and channel we keep the running sums, from
+// the start of its block, of the moments M0 = sum f, M1 = sum f e,
+// M2 = sum f e^2 of the offsets e = p - (block centre), and a prefix sum of
+// M0 over all bins. For a
 // query s, a pixel's G depends on which of five intervals of p it falls in,
 // cut at t_j = s - w1, s - w0, s + w0, s + w1; on each interval G is a
 // polynomial of degree <= 2 in p, so
 //   * bins wholly below t_1 contribute the prefix sum of M0 (G = 1);
 //   * bins wholly between two cuts contribute an exact combination of
-//     M0, M1, M2 (the polynomial expanded about the bin centre: only small,
-//     local numbers, no cancellation);
+//     M0, M1, M2 of their block (or of a run of bins inside a block: a
+//     difference of two running sums), the polynomial expanded about the
+//     block centre: only small, local numbers, no cancellation;
 //   * the at most four bins that contain a cut are summed pixel by pixel.
 // Nothing is approximated: the result equals the direct sum up to rounding.
-// The cost per query is (2 w1/delta) bins + 4 bins' pixels; delta is chosen to
-// balance the two, sqrt(w1 * range / (2 N)), i.e. O(sqrt N) worst case but
-// ~100 operations for a 1024x1024 map, independent of the centre. (Sorting all
+// The cost per query is about 2 w1/(32 delta) blocks + 4 bins' pixels + six
+// partial blocks; delta = sqrt(w1 range / (64 N)) balances them: O(sqrt N)
+// worst case but a few dozen operations for a 1024x1024 map. (Sorting all
 // 4N breakpoints with local prefix polynomials gives O(log N) queries as
 // well; the binned form builds in O(N) without a comparison sort, which is
 // what makes 181 angles of a 1024^2 map fit in a fraction of a second.)
@@ -50,6 +53,17 @@ struct EngineOptions {
   double bin_width_arcsec = 0.0;
   // Project the variance channel too (needed for errors and noise draws).
   bool with_variance = true;
+  // The range of s the caller will query, [window_lo, window_hi] (arcsec).
+  // Pixels farther than w1 + 2 delta outside it enter only two running
+  // totals (G = 1 below, G = 0 above for every s in the window), so a build
+  // stores and bins only the pixels near the window: a scan of a +-2.5 arcsec
+  // grid of a 1024^2 map bins a few per cent of the pixels. Queries outside
+  // the window stay exact but fall back to the direct sum over the pixel set
+  // (slow). window_lo > window_hi (the default) means the whole map. With
+  // the PixelSet's tiles, tiles wholly outside the stored range are not
+  // even read: a build costs the tiles that reach the window.
+  double window_lo = 1.0;
+  double window_hi = -1.0;
 };
 
 // Trailing and leading sums at one s (raw pixel sums, BUNIT x pixel) and the
@@ -75,26 +89,39 @@ class ProjectionEngine {
   HalfSums halves(double s) const;
   HalfSums halves(SkyOffset centre) const { return halves(s_of(centre)); }
   double asymmetry(double s) const;
-  double total(int ch = 0) const { return channels_ > ch ? prefix_[nbins_ * channels_ + ch] : 0.0; }
-  // Range of s over which L and T change (outside it one half is empty).
-  double s_min() const { return smin_ - shape_.w1; }
-  double s_max() const { return smax_ + shape_.w1; }
+  double total(int ch = 0) const { return channels_ > ch ? total_[ch] : 0.0; }
+  // Bounds of the range of s over which L and T change (outside it one half
+  // is empty; with tiles skipped these are the tiles' bounds, slightly wider).
+  double s_min() const { return pmin_ - shape_.w1; }
+  double s_max() const { return pmax_ + shape_.w1; }
   double bin_width() const { return delta_; }
   std::size_t pixel_count() const { return proj_.size(); }
   int channels() const { return channels_; }
   const PixelTrapezoid& shape() const { return shape_; }
+  // The exact-and-fast query range (the whole map when no window was given).
+  double window_lo() const { return wlo_; }
+  double window_hi() const { return whi_; }
+  bool in_window(double s) const { return s >= wlo_ && s <= whi_; }
 
  private:
+  double fallback(double s, int ch) const;
+  static constexpr long long kBlock = 32;  // bins per block of running sums
+  double block_centre(long long b) const { return smin_ + (double(b * kBlock) + 0.5 * kBlock) * delta_; }
+  const PixelSet* px_ = nullptr;
+  double wlo_ = 0.0, whi_ = 0.0;
+
   Angle tail_pa_;
   SkyOffset n_;
   PixelTrapezoid shape_;
   int channels_ = 1;
-  double smin_ = 0.0, smax_ = 0.0, delta_ = 1.0;
+  double smin_ = 0.0, smax_ = 0.0, delta_ = 1.0;  // stored (binned) range
+  double pmin_ = 0.0, pmax_ = 0.0;                 // all projected centres
+  double total_[2] = {0.0, 0.0};
   long long nbins_ = 0;
   std::vector<std::size_t> start_;  // nbins+1: pixel range of each bin
   std::vector<double> proj_;        // p_i in bin order
   std::vector<double> val_;         // channel values in bin order, [i*channels + ch]
-  std::vector<double> mom_;         // [(k*channels + ch)*3 + m]
+  std::vector<double> mom_;         // running sums in blocks: [(k*channels + ch)*3 + m]
   std::vector<double> prefix_;      // [(k)*channels + ch], k = 0..nbins
 };
 
