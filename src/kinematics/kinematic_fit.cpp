@@ -136,7 +136,8 @@ KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
   KinematicFit fit = fit_kinematics_samples(s, OffsetFrame(reference), velocity.wcs, options);
   fit.source = velocity.path;
   fit.notes.insert(fit.notes.begin(), notes.begin(), notes.end());
-  for (const auto& n : notes) note(n);
+  // Unit conversions change every number: a warning, not a note.
+  for (const auto& n : notes) warn(n);
   return fit;
 }
 
