@@ -199,6 +199,7 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   GlobalFitOptions go;
   go.ring_width_arcsec = width;
   go.max_radius_arcsec = g.max_radius_arcsec;
+  go.min_radius_arcsec = s.beam ? opt.inner_exclusion_beams * s.beam->fwhm_arcsec() : 0.0;
   go.weight_power = opt.weight_power;
   go.wedge_deg = opt.wedge_deg;
   go.fit_radial = opt.fit_radial;
