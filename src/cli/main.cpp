@@ -9,6 +9,7 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/fits_image.hpp"
 #include "subcommand.hpp"
 
 namespace fulcrum::cli {
@@ -55,6 +56,18 @@ int main(int argc, char** argv) {
   app.add_flag("-q,--quiet", flags.quiet, "No progress lines; warnings and errors only")
       ->configurable(false);
   app.add_flag("--force", flags.force, "Overwrite existing output files and folders");
+  app.add_option_function<std::size_t>(
+         "--max-pixels", [](std::size_t n) { set_default_max_pixels(n); },
+         "Refuse input images with more pixels than this (default 200000000, or the "
+         "FULCRUM_MAX_PIXELS environment variable)")
+      ->check(CLI::Validator(
+          [](std::string& text) {
+            const bool digits = !text.empty() && text.find_first_not_of("0123456789") == std::string::npos;
+            return digits && text.find_first_not_of('0') != std::string::npos
+                       ? std::string()
+                       : "must be a positive whole number, got '" + text + "'";
+          },
+          "POSITIVE"));
   app.fallthrough();
 
   auto entries = cli::subcommand_registry();
@@ -64,8 +77,17 @@ int main(int argc, char** argv) {
 
   try {
     app.parse(argc, argv);
-  } catch (const CLI::ParseError& e) {
+  } catch (const CLI::CallForHelp& e) {
     return app.exit(e);
+  } catch (const CLI::CallForAllHelp& e) {
+    return app.exit(e);
+  } catch (const CLI::CallForVersion& e) {
+    return app.exit(e);
+  } catch (const CLI::ParseError& e) {
+    // A usage error is bad input too: one line, status 2.
+    if (e.get_exit_code() == 0) return app.exit(e);
+    std::cerr << "fulcrum: " << e.what() << " (see `fulcrum --help`)\n";
+    return 2;
   } catch (const InputError& e) {
     std::cerr << "fulcrum: " << e.what() << "\n";
     return 2;

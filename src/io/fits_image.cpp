@@ -4,6 +4,8 @@
 #include <fitsio.h>
 
 #include <cmath>
+#include <cstdio>
+#include <cstdlib>
 #include <cstring>
 #include <filesystem>
 #include <limits>
@@ -33,6 +35,12 @@ struct FitsCloser {
   }
 };
 using FitsPtr = std::unique_ptr<fitsfile, FitsCloser>;
+
+std::size_t file_size(const std::string& path) {
+  std::error_code ec;
+  const auto n = std::filesystem::file_size(path, ec);
+  return ec ? 0 : static_cast<std::size_t>(n);
+}
 
 void check_path_readable(const std::string& path) {
   namespace fs = std::filesystem;
@@ -68,12 +76,26 @@ std::string read_header(fitsfile* f, const std::string& name) {
   std::string out(hdr, static_cast<std::size_t>(nkeys) * 80);
   int s2 = 0;
   fits_free_memory(hdr, &s2);
+  // FITS headers are printable ASCII (FITS standard 4.0, section 4.1.1:
+  // bytes 0x20-0x7E). Other bytes are refused here: wcslib's header parser
+  // overflows a buffer on a card holding NUL bytes (found by
+  // tests/fuzz/fuzz_fits_image.cpp; fortify abort in wcspih).
+  for (std::size_t i = 0; i < out.size(); ++i) {
+    const unsigned char ch = static_cast<unsigned char>(out[i]);
+    if (ch < 0x20 || ch > 0x7E)
+      throw InputError(name, "header card " + std::to_string(i / 80 + 1) +
+                                 " holds a byte that is not printable ASCII (code " +
+                                 std::to_string(ch) + "): damaged header");
+  }
   return out;
 }
 
 std::optional<Beam> read_beam(const std::string& header, const std::string& name) {
   auto bmaj = header_value(header, "BMAJ");
   auto bmin = header_value(header, "BMIN");
+  if (bmaj.has_value() != bmin.has_value())
+    warn(name + ": " + (bmaj ? "BMAJ without BMIN" : "BMIN without BMAJ") +
+         " in the header: the beam is ignored");
   if (!bmaj || !bmin) return std::nullopt;
   Beam b;
   try {
@@ -95,13 +117,49 @@ std::optional<Beam> read_beam(const std::string& header, const std::string& name
   return b;
 }
 
+// Angular distance in arcsec between two sky positions (haversine form).
+double separation_arcsec(WorldCoord a, WorldCoord b) {
+  constexpr double d2r = 3.14159265358979323846 / 180.0;
+  const double s1 = std::sin(0.5 * (b.dec_deg - a.dec_deg) * d2r);
+  const double s2 = std::sin(0.5 * (b.ra_deg - a.ra_deg) * d2r);
+  const double h = s1 * s1 + std::cos(a.dec_deg * d2r) * std::cos(b.dec_deg * d2r) * s2 * s2;
+  return 2.0 * std::asin(std::min(1.0, std::sqrt(h))) / d2r * 3600.0;
+}
+
+// A beam narrower than half a pixel is almost always a unit slip (radians or
+// arcsec read as degrees the other way round); say so, but keep going: the
+// values may be right for an unusual map.
+void warn_if_beam_below_pixel(const std::optional<Beam>& beam, const CelestialWcs& wcs, int nx,
+                              int ny, const std::string& name) {
+  if (!beam || !wcs.valid()) return;
+  try {
+    const double cx = 0.5 * (nx - 1), cy = 0.5 * (ny - 1);
+    const WorldCoord c = wcs.pixel_to_world({cx, cy});
+    const double px = separation_arcsec(c, wcs.pixel_to_world({cx + 1.0, cy}));
+    const double py = separation_arcsec(c, wcs.pixel_to_world({cx, cy + 1.0}));
+    const double pixel = std::sqrt(px * py);
+    if (std::isfinite(pixel) && beam->bmin_arcsec < 0.5 * pixel) {
+      char text[256];
+      std::snprintf(text, sizeof text,
+                    "%s: beam BMIN = %.3g arcsec is smaller than half a pixel (%.3g arcsec): are "
+                    "BMAJ/BMIN in degrees, as FITS requires?",
+                    name.c_str(), beam->bmin_arcsec, pixel);
+      warn(text);
+    }
+  } catch (const InputError&) {
+    // No sky position at the map centre: nothing to compare with.
+  }
+}
+
 struct RawArray {
   std::vector<long> naxes;
   std::vector<double> data;
   std::string header;
 };
 
-RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt) {
+// `available` is the size of the file or buffer in bytes (0: unknown).
+RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt,
+                    std::size_t available) {
   goto_image_hdu(f, name);
   int status = 0, bitpix = 0, naxis = 0;
   long naxes[9] = {0};
@@ -110,15 +168,43 @@ RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt
   if (naxis > 9) throw InputError(name, "NAXIS = " + std::to_string(naxis) + " is not supported");
   RawArray r;
   r.naxes.assign(naxes, naxes + naxis);
-  std::size_t n = 1;
+  // The pixel count is checked before anything is allocated, without
+  // overflowing: a damaged header may announce axes of any length.
+  const std::size_t limit = opt.max_pixels ? opt.max_pixels
+                                           : std::numeric_limits<std::size_t>::max() / 16;
+  std::string shape;
   for (long a : r.naxes) {
     if (a <= 0) throw InputError(name, "an image axis has length " + std::to_string(a));
+    shape += (shape.empty() ? "" : " x ") + std::to_string(a);
+  }
+  std::size_t n = 1;
+  for (long a : r.naxes) {
+    if (static_cast<std::size_t>(a) > limit / n || a > std::numeric_limits<int>::max())
+      throw InputError(name, "image of " + shape + " pixels is above the limit of " +
+                                 std::to_string(limit) +
+                                 " pixels (raise it with --max-pixels or FULCRUM_MAX_PIXELS)");
     n *= static_cast<std::size_t>(a);
   }
-  if (opt.max_pixels && n > opt.max_pixels)
-    throw InputError(name, "has " + std::to_string(n) + " pixels, above the limit of " +
-                               std::to_string(opt.max_pixels) + " (raise it with --max-pixels)");
   r.header = read_header(f, name);
+  if (auto bscale = header_value(r.header, "BSCALE")) {
+    char* end = nullptr;
+    const double v = std::strtod(bscale->c_str(), &end);
+    if (end != bscale->c_str() && v == 0.0)
+      throw InputError(name, "BSCALE = 0 would make every pixel equal to BZERO");
+  }
+  // A truncated file is refused before reading: the data unit must hold
+  // every pixel the header announces.
+  if (available) {
+    LONGLONG headstart = 0, datastart = 0, dataend = 0;
+    int s2 = 0;
+    fits_get_hduaddrll(f, &headstart, &datastart, &dataend, &s2);
+    const std::size_t need =
+        static_cast<std::size_t>(datastart) + n * static_cast<std::size_t>(std::abs(bitpix) / 8);
+    if (!s2 && need > available)
+      throw InputError(name, "truncated: the header announces " + shape + " pixels (" +
+                                 std::to_string(need) + " bytes with the header) but the file "
+                                 "holds " + std::to_string(available) + " bytes");
+  }
   r.data.resize(n);
   std::vector<char> nulls(n, 0);
   std::vector<long> fpixel(static_cast<std::size_t>(naxis), 1);
@@ -171,10 +257,25 @@ Image image_from_raw(RawArray&& r, const std::string& name) {
   img.wcs = CelestialWcs::from_header(img.header, name);
   img.beam = read_beam(img.header, name);
   img.unit = trim(header_value(img.header, "BUNIT").value_or(""));
+  warn_if_beam_below_pixel(img.beam, img.wcs, img.nx, img.ny, name);
   return img;
 }
 
+std::size_t g_default_max_pixels = 0;  // 0: not yet decided
+
 }  // namespace
+
+std::size_t default_max_pixels() {
+  if (g_default_max_pixels) return g_default_max_pixels;
+  if (const char* env = std::getenv("FULCRUM_MAX_PIXELS")) {
+    char* end = nullptr;
+    const unsigned long long v = std::strtoull(env, &end, 10);
+    if (end != env && *end == '\0' && v > 0) return static_cast<std::size_t>(v);
+  }
+  return kDefaultMaxPixels;
+}
+
+void set_default_max_pixels(std::size_t n) { g_default_max_pixels = n; }
 
 std::optional<std::string> header_value(const std::string& header, const std::string& key) {
   for (std::size_t pos = 0; pos + 80 <= header.size(); pos += 80) {
@@ -207,15 +308,21 @@ std::optional<std::string> header_value(const std::string& header, const std::st
 
 Image read_image(const std::string& path, const ReadOptions& options) {
   auto f = open_fits(path);
-  return image_from_raw(read_array(f.get(), path, options), path);
+  return image_from_raw(read_array(f.get(), path, options, file_size(path)), path);
 }
 
 Image read_image_from_memory(const void* bytes, std::size_t size, const std::string& name,
                              const ReadOptions& options) {
   if (size < 2880) throw InputError(name, "not a FITS file (shorter than one 2880-byte FITS block)");
   // CFITSIO may reallocate memory files opened read-write; we open read-only
-  // on a private copy so the caller's buffer is never touched.
+  // on a private copy so the caller's buffer is never touched. The copy is
+  // padded with zeros to whole 2880-byte blocks: CFITSIO's memory driver
+  // reads whole blocks and reads past the end of a buffer that ends inside
+  // one (found by tests/fuzz/fuzz_fits_image.cpp; ASan heap-buffer-overflow in
+  // mem_read). Truncated data are still refused, by the size check in
+  // read_array against the original size.
   std::vector<char> copy(static_cast<const char*>(bytes), static_cast<const char*>(bytes) + size);
+  copy.resize((size + 2879) / 2880 * 2880, '\0');
   void* mem = copy.data();
   std::size_t memsize = copy.size();
   fitsfile* f = nullptr;
@@ -225,12 +332,12 @@ Image read_image_from_memory(const void* bytes, std::size_t size, const std::str
     throw InputError(name, "cannot open as FITS: " + cfitsio_message(status));
   }
   FitsPtr fp(f);
-  return image_from_raw(read_array(fp.get(), name, options), name);
+  return image_from_raw(read_array(fp.get(), name, options, size), name);
 }
 
 Cube read_cube(const std::string& path, const ReadOptions& options) {
   auto f = open_fits(path);
-  RawArray r = read_array(f.get(), path, options);
+  RawArray r = read_array(f.get(), path, options, file_size(path));
   const auto nax = r.naxes.size();
   if (nax < 3 || nax > 4)
     throw InputError(path, "NAXIS = " + std::to_string(nax) + ": a cube needs 3 axes (x, y, "

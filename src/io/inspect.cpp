@@ -57,6 +57,12 @@ std::vector<std::string> uses_for_map(const std::string& unit, bool has_beam, co
   return uses;
 }
 
+std::string fixed(double v, int decimals) {
+  char b[64];
+  std::snprintf(b, sizeof b, "%.*f", decimals, std::abs(v) < 0.5 * std::pow(10.0, -decimals) ? 0.0 : v);
+  return b;
+}
+
 std::string fmt(double v, int prec = 4) {
   char b[64];
   std::snprintf(b, sizeof b, "%.*g", prec, v);
@@ -145,8 +151,8 @@ std::string format_inspection(const nlohmann::json& j) {
                          fmt(j["centre_pixel_fits"][1].get<double>()) + ")");
   line("pixel scale", fmt(j["pixel_scale_arcsec"][0].get<double>()) + " x " +
                           fmt(j["pixel_scale_arcsec"][1].get<double>()) + " arcsec");
-  line("orientation", "+y pixel axis points to PA " + fmt(j["pa_of_plus_y_deg"].get<double>()) +
-                          " deg, +x to PA " + fmt(j["pa_of_plus_x_deg"].get<double>()) + " deg (" +
+  line("orientation", "+y pixel axis points to PA " + fixed(j["pa_of_plus_y_deg"].get<double>(), 3) +
+                          " deg, +x to PA " + fixed(j["pa_of_plus_x_deg"].get<double>(), 3) + " deg (" +
                           (j["east_left_when_north_up"].get<bool>() ? "east left of north, as on the sky"
                                                                    : "mirrored: east right of north") +
                           ")");
@@ -157,7 +163,7 @@ std::string format_inspection(const nlohmann::json& j) {
   } else {
     const auto& b = j["beam"];
     line("beam", fmt(b["bmaj_arcsec"].get<double>()) + " x " + fmt(b["bmin_arcsec"].get<double>()) +
-                     " arcsec FWHM, PA " + fmt(b["bpa_deg"].get<double>()) + " deg; " +
+                     " arcsec FWHM, PA " + fixed(b["bpa_deg"].get<double>(), 1) + " deg; " +
                      fmt(b["solid_angle_arcsec2"].get<double>()) + " arcsec^2 = " +
                      fmt(b["pixels_per_beam"].get<double>()) + " pixels per beam");
   }

@@ -11,6 +11,7 @@
 #include <cstdio>
 #include <cstdlib>
 #include <cstring>
+#include <string_view>
 #include <vector>
 
 #include "fulcrum/core/error.hpp"
@@ -62,6 +63,70 @@ bool is_celestial_ctype(const std::string& c) {
   return false;
 }
 
+// Every quoted value must end inside its card (FITS standard 4.0, section
+// 4.2.1). wcslib's header lexer overruns a buffer on an unterminated string
+// (found by tests/fuzz/fuzz_fits_image.cpp; fortify abort in wcspih), so such
+// headers are refused before wcspih sees them.
+void check_string_values(const std::string& header, const std::string& source) {
+  for (std::size_t pos = 0; pos + 80 <= header.size(); pos += 80) {
+    const std::string_view card(header.data() + pos, 80);
+    if (card.substr(8, 2) != "= ") continue;
+    std::size_t i = 10;
+    while (i < 80 && card[i] == ' ') ++i;
+    if (i >= 80 || card[i] != '\'') continue;
+    bool closed = false;
+    for (std::size_t j = i + 1; j < 80; ++j) {
+      if (card[j] != '\'') continue;
+      if (j + 1 < 80 && card[j + 1] == '\'') { ++j; continue; }
+      closed = true;
+      break;
+    }
+    if (!closed) {
+      std::string key(card.substr(0, 8));
+      while (!key.empty() && key.back() == ' ') key.pop_back();
+      throw InputError(source, "header card " + std::to_string(pos / 80 + 1) + " (" + key +
+                                   "): string value without a closing quote");
+    }
+  }
+}
+
+// Parse a FITS numeric value (Fortran 'D' exponents allowed); false if it is
+// not a number.
+bool parse_fits_number(std::string text, double& out) {
+  for (char& ch : text)
+    if (ch == 'D' || ch == 'd') ch = 'E';
+  while (!text.empty() && text.back() == ' ') text.pop_back();
+  if (text.empty()) return false;
+  char* end = nullptr;
+  out = std::strtod(text.c_str(), &end);
+  return end && *end == '\0' && std::isfinite(out);
+}
+
+void check_celestial_keywords(const std::string& header, const std::string& source, int lng_axis,
+                              int lat_axis) {
+  for (int axis : {lng_axis, lat_axis}) {
+    const std::string key = "CRVAL" + std::to_string(axis);
+    auto v = header_value(header, key);
+    if (!v)
+      throw InputError(source, key + " is missing: the sky position of the reference pixel is "
+                                     "unknown");
+    double x = 0.0;
+    if (!parse_fits_number(*v, x))
+      throw InputError(source, key + " = '" + *v + "' is not a number");
+    if (axis == lat_axis && std::abs(x) > 90.0)
+      throw InputError(source, key + " = " + *v + " is not a latitude (|value| > 90 deg)");
+  }
+  const std::string a = std::to_string(lng_axis), b = std::to_string(lat_axis);
+  bool has_cd = false;
+  for (const auto& key : {"CD" + a + "_" + a, "CD" + a + "_" + b, "CD" + b + "_" + a, "CD" + b + "_" + b})
+    has_cd = has_cd || header_value(header, key).has_value();
+  const bool has_cdelt =
+      header_value(header, "CDELT" + a).has_value() && header_value(header, "CDELT" + b).has_value();
+  if (!has_cd && !has_cdelt)
+    throw InputError(source, "no pixel scale: neither CDELT" + a + "/CDELT" + b + " nor a CD" + a +
+                                 "_" + a + "... matrix is given");
+}
+
 }  // namespace
 
 CelestialWcs::CelestialWcs(const CelestialWcs& other) : source_(other.source_) {
@@ -78,6 +143,11 @@ CelestialWcs& CelestialWcs::operator=(const CelestialWcs& other) {
 
 CelestialWcs CelestialWcs::from_header(const std::string& header_cards, const std::string& source) {
   const int nkeyrec = static_cast<int>(header_cards.size() / 80);
+  // wcspih must only see printable ASCII (see read_header in fits_image.cpp).
+  for (char ch : header_cards)
+    if (static_cast<unsigned char>(ch) < 0x20 || static_cast<unsigned char>(ch) > 0x7E)
+      throw InputError(source, "the header holds bytes that are not printable ASCII");
+  check_string_values(header_cards, source);
   std::vector<char> buf(header_cards.begin(), header_cards.end());
   buf.push_back('\0');
   int nreject = 0, nwcs = 0;
@@ -113,6 +183,16 @@ CelestialWcs CelestialWcs::from_header(const std::string& header_cards, const st
     throw InputError(source, "the celestial axes must be the first two axes of the array (found "
                              "them on axes " + std::to_string(lng + 1) + " and " +
                              std::to_string(lat + 1) + ")");
+  }
+  // Keywords the standard lets default but whose defaults are never right for
+  // a sky map: a missing CRVAL puts the map at RA = Dec = 0, a missing pixel
+  // scale (no CDi_j, no CDELTi) makes each pixel one degree (Greisen &
+  // Calabretta 2002, A&A 395, 1061, defaults of CRVALi and CDELTi).
+  try {
+    check_celestial_keywords(header_cards, source, lng + 1, lat + 1);
+  } catch (...) {
+    wcsvfree(&nwcs, &all);
+    throw;
   }
   // A singular celestial CD matrix is an error, not something to repair.
   if (prim->altlin & 2) {

@@ -22,9 +22,18 @@
 
 namespace fulcrum {
 
+// The largest image read by default: 200 million pixels (1.6 GB as doubles).
+inline constexpr std::size_t kDefaultMaxPixels = 200'000'000;
+// The limit a default ReadOptions takes: set_default_max_pixels() (the global
+// --max-pixels option) if called, else the environment variable
+// FULCRUM_MAX_PIXELS (a positive integer), else kDefaultMaxPixels.
+std::size_t default_max_pixels();
+void set_default_max_pixels(std::size_t n);
+
 struct ReadOptions {
   // Refuse images with more pixels than this (protects memory); 0 = no limit.
-  std::size_t max_pixels = 200'000'000;
+  // The check happens on the header, before any pixel memory is allocated.
+  std::size_t max_pixels = default_max_pixels();
 };
 
 // A keyword to add to a written header: name, value (a number or a string),

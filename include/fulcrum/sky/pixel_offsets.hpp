@@ -14,7 +14,7 @@
 // used. Pixel indices are 0-based.
 #pragma once
 
-#include <Eigen/Core>
+#include <Eigen/Dense>
 #include <cstddef>
 #include <vector>
 

@@ -36,6 +36,11 @@ struct GridSpec {
   double rotation_deg = 0.0;  // PA (north through east) of the +y pixel axis
   bool flip = false;          // true: east to the right when north is up
   std::string projection = "SIN";
+  // Sky offset of the grid's reference point (CRVAL, at the central pixel)
+  // from the galaxy's kinematic centre, arcsec; keeps the centre off any
+  // special pixel position.
+  double centre_east_arcsec = 0.0;
+  double centre_north_arcsec = 0.0;
 };
 
 struct OpticalSpec {
@@ -52,7 +57,7 @@ struct OpticalSpec {
   double noise_rms = 2.0;
   double psf_fwhm_arcsec = 1.2;
   int n_stars = 3;
-  double star_counts = 2.0e4;
+  double star_counts = 2.0e4;         // mean counts per star (each drawn in 0.5-2x this)
 };
 
 struct CubeSpec {
@@ -88,6 +93,7 @@ struct MockGalaxy {
   double tail_pa_err_deg = 10.0;
   double tail_flux_fraction = 0.1;
   double tail_length_arcsec = 25.0;
+  double tail_width_arcsec = 3.0;       // Gaussian sigma across the tail
   double stripped_fraction = 0.0;       // 0..1: fraction of disc gas removed (outer disc first)
 
   // Observation
@@ -97,8 +103,10 @@ struct MockGalaxy {
   double bpa_deg = 20.0;
   double intensity_rms = 0.01;          // Jy/beam km/s, beam-correlated
   double velocity_noise_kms = 4.0;      // at the detection threshold; scales as 1/SNR
+  double velocity_noise_floor_kms = 1.0; // the error never drops below this
   double mask_snr = 3.0;                // velocity pixels kept where intensity SNR >= this
   double hole_fraction = 0.0;           // fraction of kept velocity pixels blanked in blobs
+  double hole_radius_arcsec = 0.0;      // radius of each blob; <= 0: the beam FWHM
   double distance_mpc = 100.0;
 
   OpticalSpec optical;
@@ -114,15 +122,24 @@ struct MockProducts {
   Image velocity;          // km/s, NaN outside the mask
   Image velocity_error;    // km/s
   Image velocity_model;    // km/s, noise-free, everywhere
+  Image velocity_model_beam;  // km/s, intensity-weighted and beam-smeared: conv(I v)/conv(I); NaN without gas
   Image intensity;         // Jy/beam km/s, with noise
   Image intensity_error;   // Jy/beam km/s, per pixel rms
   Image intensity_model;   // Jy/beam km/s, noise-free
   std::optional<Image> optical;
   std::optional<Image> optical_model;
-  std::optional<Cube> cube;
+  std::optional<Cube> cube;  // header holds celestial + spectral cards, as if read from a file
   std::string cube_spectral_cards;  // spectral-axis header cards for write_cube
   nlohmann::json truth;    // every parameter plus derived truths
 };
+
+// The WCS of a mock grid: CRVAL at `centre` shifted by the grid's
+// centre_east/north offset, CRPIX at the central pixel (plus `margin` pixels
+// for padded work grids), CD from the pixel scale, rotation and flip.
+CelestialWcs mock_grid_wcs(const GridSpec& grid, WorldCoord centre, int margin = 0);
+
+// Throws InputError naming the parameter when a value is out of range.
+void validate_mock(const MockGalaxy& galaxy);
 
 // Build every product of a mock. Deterministic in (galaxy, galaxy.seed).
 MockProducts make_mock(const MockGalaxy& galaxy);
@@ -135,11 +152,19 @@ nlohmann::json mock_to_json(const MockGalaxy& galaxy);
 
 // Write the products of a mock into `dir` as vel.fits, vel_err.fits,
 // mom0.fits, mom0_err.fits, opt.fits (when enabled), cube.fits (when
-// enabled) and truth.json. Returns the file names written.
+// enabled) and truth.json, plus the noise-free vel_model.fits and
+// mom0_model.fits. Returns the file names written.
 std::vector<std::string> write_mock(const std::string& dir, const MockProducts& products);
 
 // The built-in demo sample: five to seven invented galaxies in an invented
 // cluster, each with the verdict it is built to produce.
 std::vector<MockGalaxy> demo_sample();
+
+// Make and write every galaxy into dir/<name>/ and a sample manifest
+// dir/sample.toml in the format `fulcrum run` reads ([sample] name, seed;
+// one [[galaxy]] per mock with paths relative to `dir`). Returns the
+// manifest's path.
+std::string write_sample(const std::string& dir, const std::vector<MockGalaxy>& galaxies,
+                         const std::string& sample_name, std::uint64_t seed);
 
 }  // namespace fulcrum::synth

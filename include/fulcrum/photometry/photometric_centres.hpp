@@ -1,0 +1,107 @@
+// Every photometric centre of a galaxy on an optical image, on the sky.
+//
+// measure_photometric_centres() prepares the image (sky, masks, galaxy; see
+// prepared_image.hpp) and runs the five estimators:
+//   photometric-peak      peak.hpp        uncertainty: noise bootstrap
+//   photometric-centroid  centroid.hpp    uncertainty: noise bootstrap
+//   photometric-profile   profile_fit.hpp uncertainty: fit covariance (Ceres)
+//   photometric-isophote  isophote.hpp    uncertainty: noise bootstrap
+//   photometric-symmetry  symmetry.hpp    uncertainty: noise bootstrap
+// Each result carries RA/Dec (degrees, the image's frame), the FITS pixel
+// position (first pixel centre = 1), the 2x2 covariance in arcsec^2 on
+// (east, north) -- C_sky = J C_pix J^T with J = d(east, north)/d(x, y) --,
+// `uncertainty_method` ("fit-covariance" or "noise-bootstrap"), and a status
+// ("ok" or "failed") with a reason when it failed. The profile, isophote and
+// symmetry estimators start from the centroid when it succeeded.
+//
+// The whole image being unusable (no WCS, too small, a mask on another grid,
+// no PSF size) is an InputError; a flat image, no galaxy or a saturated core
+// is a status: the summary's `status` is "refused", with the reason, and
+// every estimator failed with it.
+//
+// The spread among the successful estimators (their scatter about their
+// mean, on the sky) is the systematic part of "where is the centre".
+#pragma once
+
+#include <Eigen/Dense>
+#include <cstdint>
+#include <nlohmann/json.hpp>
+#include <string>
+#include <vector>
+
+#include "fulcrum/io/image.hpp"
+#include "fulcrum/photometry/bootstrap.hpp"
+#include "fulcrum/photometry/centroid.hpp"
+#include "fulcrum/photometry/isophote.hpp"
+#include "fulcrum/photometry/peak.hpp"
+#include "fulcrum/photometry/prepared_image.hpp"
+#include "fulcrum/photometry/profile_fit.hpp"
+#include "fulcrum/photometry/symmetry.hpp"
+
+namespace fulcrum::photometry {
+
+struct PhotometryOptions {
+  // PSF FWHM (arcsec); <= 0: the image's beam (BMAJ/BMIN) when it has one,
+  // otherwise the call throws InputError asking for it.
+  double psf_fwhm_arcsec = 0.0;
+  PreparationOptions preparation;  // its psf_fwhm_arcsec is set from the above
+  PeakOptions peak;
+  CentroidOptions centroid;
+  ProfileFitOptions profile;
+  IsophoteOptions isophote;
+  SymmetryOptions symmetry;
+  BootstrapOptions bootstrap;  // draws, seed
+  bool peak_enabled = true, centroid_enabled = true, profile_enabled = true,
+       isophote_enabled = true, symmetry_enabled = true;
+};
+
+struct PhotometricCentre {
+  std::string id;
+  bool ok = false;
+  std::string reason;
+  WorldCoord world;
+  PixelCoord pixel_fits;  // 1-based
+  Eigen::Matrix2d cov_arcsec2 = Eigen::Matrix2d::Zero();
+  std::string uncertainty_method;  // "fit-covariance" or "noise-bootstrap"
+  int bootstrap_draws = 0;         // succeeded draws, for the bootstrap
+  nlohmann::json details = nlohmann::json::object();
+  std::string status() const { return ok ? "ok" : "failed"; }
+};
+
+struct CentreSpread {
+  int count = 0;                 // successful estimators
+  WorldCoord mean;               // mean position of the successful estimators
+  Eigen::Matrix2d scatter_cov_arcsec2 = Eigen::Matrix2d::Zero();  // about the mean (n-1)
+  double rms_arcsec = 0.0;       // sqrt(trace of the scatter covariance)
+  double max_separation_arcsec = 0.0;
+  std::string farthest_pair[2];
+};
+
+struct PhotometrySummary {
+  bool ok = false;               // the galaxy was measurable at all
+  std::string reason;            // when !ok
+  std::string image;             // path, for the report
+  double psf_fwhm_arcsec = 0.0;
+  double pixel_scale_arcsec = 0.0;
+  BackgroundSummary background;
+  int user_masked_pixels = 0;
+  int auto_masked_pixels = 0;
+  int masked_sources = 0;
+  int masked_sources_on_galaxy = 0;
+  double galaxy_peak_snr = 0.0;
+  std::vector<PhotometricCentre> centres;
+  CentreSpread spread;
+  std::string status() const { return ok ? "measured" : "refused"; }
+  const PhotometricCentre* find(const std::string& id) const;
+};
+
+PhotometrySummary measure_photometric_centres(const Image& optical, const Image* mask,
+                                              const PhotometryOptions& options);
+
+// Spread of the successful centres among `centres`.
+CentreSpread centre_spread(const std::vector<PhotometricCentre>& centres);
+
+nlohmann::json to_json(const PhotometricCentre& c);
+nlohmann::json to_json(const PhotometrySummary& s);
+
+}  // namespace fulcrum::photometry

@@ -1,0 +1,77 @@
+// A sample: every galaxy of a manifest analysed in parallel, and the sample
+// products built from the per-galaxy reports.
+//
+// Layout of an output folder DIR:
+//   DIR/<galaxy>/report.json, DIR/<galaxy>/figures/*.svg   one per galaxy
+//   DIR/robustness.ecsv .csv .fits .tex .md                the supplementary table
+//   DIR/sample.json                                        sample statistics
+//   DIR/report.html                                        the self-contained report
+//
+// Parallelism: OpenMP over galaxies (dynamic schedule); each galaxy has its
+// own seeded generator (pipeline::galaxy_seed), so the outputs do not depend
+// on the number of threads or on the order in which galaxies finish: the
+// same manifest and seed give byte-identical report.json files and tables
+// (the one timestamp field, created_utc, apart; fix it with
+// SOURCE_DATE_EPOCH).
+//
+// Shards: `--shard I/N` runs every N-th galaxy; each shard writes its own
+// DIR. merge_outputs() reads the per-galaxy reports of several DIRs and
+// writes the sample products as if one run had made them: the rows are
+// ordered by each galaxy's position in the manifest (recorded in its
+// report.json), so a merged run equals an unsharded one.
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "fulcrum/pipeline/manifest.hpp"
+#include "fulcrum/report/table.hpp"
+
+namespace fulcrum::pipeline {
+
+struct RunOptions {
+  std::string out_dir;
+  Selection selection;
+  int threads = 0;            // 0: OpenMP default
+  bool figures = true;
+  bool overwrite = false;     // --force
+  std::optional<int> draws;   // overrides the manifest
+  std::optional<std::uint64_t> seed;
+};
+
+struct RunSummary {
+  std::vector<nlohmann::json> reports;  // manifest order
+  std::string out_dir;
+  std::string html_path;
+};
+
+RunSummary run_sample(const SampleManifest& manifest, const RunOptions& options);
+
+// Read DIR/<galaxy>/report.json from every folder in `dirs`, copy the galaxy
+// folders into `out_dir` (unless it is one of `dirs`), and write the sample
+// products there. A galaxy found twice is an error.
+RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string& out_dir, bool overwrite);
+
+// The sample products from reports (sorted by manifest position). Figures
+// are read back from DIR/<galaxy>/figures/ for the HTML.
+void write_sample_products(const std::string& out_dir, std::vector<nlohmann::json> reports);
+
+// The supplementary robustness table (one row per galaxy). Every numeric
+// column's description ends with "[report.json: <path>]", the place of the
+// same number in the galaxy's report.json.
+report::Table robustness_table(const std::vector<nlohmann::json>& reports);
+// The compact table for LaTeX, Markdown and the HTML page.
+report::Table paper_table(const std::vector<nlohmann::json>& reports);
+nlohmann::json sample_statistics(const std::vector<nlohmann::json>& reports);
+
+// DIR/report.html for one galaxy analysed with `fulcrum analyse` (figures
+// read from DIR/figures/).
+void write_galaxy_html(const std::string& dir, const nlohmann::json& report);
+
+// The plain-text summary printed at the end of `run` and `merge`.
+std::string summary_text(const std::vector<nlohmann::json>& reports);
+
+}  // namespace fulcrum::pipeline

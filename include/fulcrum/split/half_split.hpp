@@ -1,0 +1,105 @@
+// Leading and trailing halves of a line map about one centre and one tail
+// direction: fluxes with their units and errors, ratio and asymmetry.
+//
+// Units and conventions (DESIGN.md §2): centre in RA/Dec degrees, offsets
+// (east, north) arcsec about it, tail PA north through east in degrees; the
+// leading half is the side away from the tail (PA tail + 180). Fluxes are in
+// Jy km/s when BUNIT is Jy/beam km/s (pixel sum x pixel area / beam area,
+// beam area pi BMAJ BMIN / (4 ln 2)), Jy when BUNIT is Jy/beam, and otherwise
+// the plain pixel sum in the map's unit (flux_unit says "<BUNIT> x pixel").
+// A = (L - T)/(L + T) > 0 means a leading-side excess.
+//
+// Errors. With per-pixel 1-sigma errors e_i (an error map, or one rms), the
+// white-noise variance of a half is sum_i a_i e_i^2 (a_i the exact fraction of
+// pixel i in that half; a cut pixel's noise is shared in proportion to area,
+// which keeps the variance linear in a_i and lets it go through the same
+// projection engine). Map noise is correlated over a beam, so the variance is
+// multiplied by the number of pixels per beam, N_beam = Omega_beam/Omega_pix
+// (when N_beam > 1; the usual correction for sums over regions much larger
+// than a beam, common practice). Then, treating L and T as independent,
+//   sigma_A^2 = 4 (T^2 sigma_L^2 + L^2 sigma_T^2) / (L + T)^4.
+#pragma once
+
+#include <nlohmann/json.hpp>
+#include <optional>
+#include <string>
+
+#include "fulcrum/io/image.hpp"
+#include "fulcrum/sky/ellipse.hpp"
+#include "fulcrum/split/pixel_set.hpp"
+#include "fulcrum/split/projection_engine.hpp"
+
+namespace fulcrum::split {
+
+// An analysis aperture centred on the split centre (or another position).
+struct ApertureSpec {
+  double radius_arcsec = 0.0;  // semi-major axis
+  double pa_deg = 0.0;         // major-axis PA
+  double axis_ratio = 1.0;     // b/a in (0, 1]
+  std::optional<WorldCoord> centre;  // default: the split centre
+};
+
+// How raw pixel sums become fluxes.
+struct FluxScale {
+  double factor = 1.0;       // flux = factor x pixel sum
+  std::string unit;          // e.g. "Jy km/s"
+  bool per_beam = false;     // BUNIT was per beam
+};
+// Throws InputError (naming the map) when BUNIT is per beam but the map has no beam.
+FluxScale flux_scale(const Image& map, double pixel_area_arcsec2);
+
+// Everything a split, a scan, a flip search or a bootstrap needs about one map.
+struct SplitProblem {
+  PixelSet pixels;            // offsets about `reference`
+  WorldCoord reference;       // the frame origin: the nominal centre
+  FluxScale scale;
+  double pixels_per_beam = 1.0;   // noise-correlation factor (>= 1)
+  std::optional<Beam> beam;
+  std::optional<SkyEllipse> aperture;  // in the reference frame
+  std::string noise_source;   // "error map <path>", "rms X", or "none"
+  std::string map_path;
+  double max_jacobian_variation = 0.0;
+};
+
+struct SplitOptions {
+  WorldCoord centre;
+  double tail_pa_deg = 0.0;
+  std::optional<ApertureSpec> aperture;
+  double rms = 0.0;                   // used when no error map is given
+  const Image* error_map = nullptr;   // same grid as the map
+};
+
+// Build the problem: offsets about options.centre, aperture, noise, units.
+SplitProblem prepare_split(const Image& map, const SplitOptions& options);
+
+struct SplitSummary {
+  double leading_flux = 0.0, trailing_flux = 0.0;
+  double leading_err = 0.0, trailing_err = 0.0;  // NaN when no noise is known
+  double total_flux = 0.0;
+  std::string flux_unit;
+  double ratio = 0.0;           // L / T
+  double asymmetry = 0.0;       // (L - T)/(L + T)
+  double asymmetry_err = 0.0;   // NaN when no noise is known
+  double tail_pa_deg = 0.0;
+  double leading_pa_deg = 0.0;
+  SkyOffset centre_offset;      // of the split centre from the reference
+  WorldCoord centre;
+  std::size_t n_pixels = 0;
+  double pixels_per_beam = 1.0;
+  std::string noise_source;
+};
+
+// Turn engine sums into a summary (units, errors, ratio, A).
+SplitSummary summarise_halves(const SplitProblem& problem, const HalfSums& sums, Angle tail_pa,
+                              SkyOffset centre_offset);
+// One split about centre_offset (default: the reference) through the engine.
+SplitSummary split_at(const SplitProblem& problem, Angle tail_pa, SkyOffset centre_offset = {});
+// Convenience: prepare + split at the options' centre.
+SplitSummary split_halves(const Image& map, const SplitOptions& options);
+
+// sigma_A from L, T and their variances (formula above).
+double asymmetry_error(double L, double T, double varL, double varT);
+
+nlohmann::json to_json(const SplitSummary& s);
+
+}  // namespace fulcrum::split

@@ -1,0 +1,101 @@
+// `fulcrum analyse`: the whole chain for one galaxy into one output folder
+// (report.json, figures/*.svg, report.html). The library does the work
+// (pipeline/galaxy_analysis.hpp); this file only reads options.
+#include <filesystem>
+#include <iostream>
+#include <memory>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/core/log.hpp"
+#include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "fulcrum/pipeline/sample_run.hpp"
+#include "subcommand.hpp"
+
+namespace {
+
+struct AnalyseArgs {
+  fulcrum::pipeline::GalaxyInput in;
+  double rms = 0, psf = 0, tail_pa = 0, distance = 0, alpha_co = 0, ratio21 = 0, redshift = -1;
+  std::string co_line;
+  std::uint64_t seed = 1;
+  int draws = 20000;
+  bool no_figures = false;
+  std::string out;
+};
+
+void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
+  using namespace fulcrum;
+  set_quiet(cli::global_flags().quiet);
+  auto& in = a.in;
+  if (in.name.empty()) in.name = std::filesystem::path(in.intensity).parent_path().filename().string();
+  if (in.name.empty() || in.name == "." || in.name == "..") in.name = "galaxy";
+  if (cmd->count("--rms")) {
+    if (!(a.rms > 0)) throw InputError("", "--rms must be positive");
+    in.rms = a.rms;
+  }
+  if (cmd->count("--psf-fwhm")) in.psf_fwhm_arcsec = a.psf;
+  if (cmd->count("--tail-pa")) in.tail_pa_deg = a.tail_pa;
+  if (!in.tail_pa_deg && in.tail_image.empty()) throw InputError("", "give --tail-pa DEG or --tail-image IMG.fits");
+  if (cmd->count("--distance-mpc")) {
+    if (!(a.distance > 0)) throw InputError("", "--distance-mpc must be positive");
+    in.distance_mpc = a.distance;
+  }
+  if (!a.co_line.empty()) {
+    if (a.co_line != "1-0" && a.co_line != "2-1") throw InputError("", "--co-line must be 1-0 or 2-1");
+    in.molecular.co_line = a.co_line;
+  }
+  if (cmd->count("--alpha-co")) in.molecular.alpha_co = a.alpha_co;
+  if (cmd->count("--co-ratio-21")) in.molecular.co_ratio_21 = a.ratio21;
+  if (cmd->count("--redshift")) in.molecular.redshift = a.redshift;
+  if (a.draws < 100) throw InputError("", "--draws must be at least 100");
+  namespace fs = std::filesystem;
+  if (fs::exists(fs::path(a.out) / "report.json") && !cli::global_flags().force)
+    throw InputError(a.out, "already holds a report.json (use --force to overwrite)");
+
+  pipeline::AnalysisOptions o;
+  o.seed = a.seed;
+  o.draws = a.draws;
+  o.figures = !a.no_figures;
+  note("analysing " + in.name);
+  auto r = pipeline::analyse_galaxy(in, o);
+  pipeline::write_galaxy_outputs(r, a.out);
+  pipeline::write_galaxy_html(a.out, r.report);
+  for (const auto& n : r.notes) warn(in.name + ": " + n);
+  std::cout << r.report["statement"].get<std::string>() << "\n\n"
+            << pipeline::summary_text({r.report}) << "\nreport: " << (fs::path(a.out) / "report.json").string()
+            << "\nfigures and page: " << (fs::path(a.out) / "report.html").string() << "\n";
+}
+
+}  // namespace
+
+FULCRUM_SUBCOMMAND(analyse, 70, [](CLI::App& app) {
+  auto a = std::make_shared<AnalyseArgs>();
+  auto* cmd = app.add_subcommand(
+      "analyse",
+      "One galaxy, the whole chain: kinematic and photometric centres, halves at every centre, flip distance, "
+      "bootstrap, verdict and figures into one folder");
+  cmd->add_option("--velocity", a->in.velocity, "Velocity field (FITS, km/s or m/s)")->required()->check(CLI::ExistingFile);
+  cmd->add_option("--velocity-error", a->in.velocity_error, "Velocity error map (FITS)")->check(CLI::ExistingFile);
+  cmd->add_option("--intensity", a->in.intensity, "Integrated line intensity map (FITS)")->required()->check(CLI::ExistingFile);
+  auto* err = cmd->add_option("--intensity-error", a->in.intensity_error, "Per-pixel error of the intensity map (FITS)")
+                  ->check(CLI::ExistingFile);
+  cmd->add_option("--rms", a->rms, "One rms for every intensity pixel (map units), instead of an error map")->excludes(err);
+  cmd->add_option("--optical", a->in.optical, "Optical image for the photometric centres (FITS)")->check(CLI::ExistingFile);
+  cmd->add_option("--optical-mask", a->in.optical_mask, "Mask of the optical image (non-zero: masked)")->check(CLI::ExistingFile);
+  cmd->add_option("--psf-fwhm", a->psf, "Optical PSF FWHM in arcsec (default: from the image header)");
+  auto* tp = cmd->add_option("--tail-pa", a->tail_pa, "Direction of the gas tail from the centre, deg north through east");
+  cmd->add_option("--tail-pa-err", a->in.tail_pa_err_deg, "Error of the tail direction, deg (default 10)");
+  cmd->add_option("--tail-image", a->in.tail_image, "Image of the tail to measure its direction from")
+      ->check(CLI::ExistingFile)->excludes(tp);
+  cmd->add_option("--distance-mpc", a->distance, "Distance in Mpc (offsets in kpc, molecular-gas masses)");
+  cmd->add_option("--name", a->in.name, "Galaxy name for the report (default: the intensity map's folder)");
+  cmd->add_option("--seed", a->seed, "Seed of the random generator (default 1)");
+  cmd->add_option("--draws", a->draws, "Bootstrap draws (default 20000)");
+  cmd->add_option("--co-line", a->co_line, "CO line of the map, 1-0 or 2-1: adds molecular-gas masses of the halves");
+  cmd->add_option("--alpha-co", a->alpha_co, "CO-to-H2 factor, Msun/(K km/s pc^2) (default 4.3)");
+  cmd->add_option("--co-ratio-21", a->ratio21, "CO(2-1)/CO(1-0) ratio for 2-1 maps (default 0.65)");
+  cmd->add_option("--redshift", a->redshift, "Redshift for the line luminosity (default: vsys/c)");
+  cmd->add_flag("--no-figures", a->no_figures, "Skip the figures");
+  cmd->add_option("--out", a->out, "Output folder")->required();
+  cmd->callback([a, cmd] { run_analyse(*a, cmd); });
+});

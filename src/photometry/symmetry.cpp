@@ -1,0 +1,133 @@
+// Centre of least rotational asymmetry (see symmetry.hpp).
+#include "fulcrum/photometry/symmetry.hpp"
+
+#include <algorithm>
+#include <array>
+#include <cmath>
+
+namespace fulcrum::photometry {
+
+double rotational_asymmetry(const PreparedImage& p, const std::vector<double>& data, PixelCoord c,
+                            PixelCoord ac, double r_arcsec) {
+  const Eigen::Matrix2d ji = p.jacobian.inverse();
+  const double ex = r_arcsec * ji.row(0).norm(), ey = r_arcsec * ji.row(1).norm();
+  const int x0 = std::max(0, static_cast<int>(std::floor(ac.x - ex)));
+  const int x1 = std::min(p.nx - 1, static_cast<int>(std::ceil(ac.x + ex)));
+  const int y0 = std::max(0, static_cast<int>(std::floor(ac.y - ey)));
+  const int y1 = std::min(p.ny - 1, static_cast<int>(std::ceil(ac.y + ey)));
+  double num = 0, den = 0;
+  for (int y = y0; y <= y1; ++y)
+    for (int x = x0; x <= x1; ++x) {
+      const double f = data[x + p.nx * y];
+      if (!std::isfinite(f)) continue;
+      if (p.to_sky(x - ac.x, y - ac.y).norm() > r_arcsec) continue;
+      const double g = bilinear(data, p.nx, p.ny, 2.0 * c.x - x, 2.0 * c.y - y);
+      if (!std::isfinite(g)) continue;
+      num += std::abs(f - g);
+      den += std::abs(f);
+    }
+  return den > 0 ? num / den : std::numeric_limits<double>::infinity();
+}
+
+namespace {
+
+struct Minimum {
+  PixelCoord c;
+  double value = 0;
+  int evaluations = 0;
+  bool converged = false;
+};
+
+// Nelder & Mead (1965) simplex minimisation in 2-D, standard coefficients
+// (reflection 1, expansion 2, contraction 1/2, shrink 1/2).
+template <class F>
+Minimum nelder_mead(F&& f, PixelCoord start, double step, double tol, int max_eval) {
+  std::array<std::array<double, 2>, 3> x{{{start.x, start.y},
+                                          {start.x + step, start.y},
+                                          {start.x, start.y + step}}};
+  std::array<double, 3> fx;
+  int ne = 0;
+  auto eval = [&](const std::array<double, 2>& v) {
+    ++ne;
+    return f(PixelCoord{v[0], v[1]});
+  };
+  for (int i = 0; i < 3; ++i) fx[i] = eval(x[i]);
+  bool conv = false;
+  while (ne < max_eval) {
+    std::array<int, 3> o{0, 1, 2};
+    std::sort(o.begin(), o.end(), [&](int a, int b) { return fx[a] < fx[b]; });
+    auto xb = x[o[0]], xm = x[o[1]], xw = x[o[2]];
+    const double fb = fx[o[0]], fm = fx[o[1]], fw = fx[o[2]];
+    double size = 0;
+    for (int i = 1; i < 3; ++i)
+      size = std::max(size, std::hypot(x[o[i]][0] - xb[0], x[o[i]][1] - xb[1]));
+    if (size < tol) {
+      conv = true;
+      break;
+    }
+    const std::array<double, 2> cen{0.5 * (xb[0] + xm[0]), 0.5 * (xb[1] + xm[1])};
+    auto along = [&](double t) {
+      return std::array<double, 2>{cen[0] + t * (xw[0] - cen[0]), cen[1] + t * (xw[1] - cen[1])};
+    };
+    const auto xr = along(-1.0);
+    const double fr = eval(xr);
+    if (fr < fb) {
+      const auto xe = along(-2.0);
+      const double fe = eval(xe);
+      if (fe < fr) { x[o[2]] = xe; fx[o[2]] = fe; }
+      else { x[o[2]] = xr; fx[o[2]] = fr; }
+    } else if (fr < fm) {
+      x[o[2]] = xr;
+      fx[o[2]] = fr;
+    } else {
+      const auto xc = fr < fw ? along(-0.5) : along(0.5);
+      const double fc = eval(xc);
+      if (fc < std::min(fr, fw)) {
+        x[o[2]] = xc;
+        fx[o[2]] = fc;
+      } else {
+        for (int i = 1; i < 3; ++i) {
+          auto& v = x[o[i]];
+          v = {xb[0] + 0.5 * (v[0] - xb[0]), xb[1] + 0.5 * (v[1] - xb[1])};
+          fx[o[i]] = eval(v);
+        }
+      }
+    }
+  }
+  int best = 0;
+  for (int i = 1; i < 3; ++i)
+    if (fx[i] < fx[best]) best = i;
+  return {{x[best][0], x[best][1]}, fx[best], ne, conv};
+}
+
+}  // namespace
+
+PixelEstimate estimate_symmetry_centre(const PreparedImage& p, const std::vector<double>& data,
+                                       const SymmetryOptions& o) {
+  if (!p.ok) return PixelEstimate::failure(p.reason);
+  const double r = o.aperture_radius_arcsec > 0 ? o.aperture_radius_arcsec : 1.5 * p.radius_arcsec;
+  PixelCoord c = o.start.value_or(p.guess);
+  Minimum m;
+  int evaluations = 0;
+  for (int round = 0; round < 2; ++round) {
+    const PixelCoord ac = c;
+    auto f = [&](PixelCoord t) { return rotational_asymmetry(p, data, t, ac, r); };
+    m = nelder_mead(f, c, round == 0 ? 1.0 : 0.25, o.tolerance_pixels, o.max_evaluations);
+    evaluations += m.evaluations;
+    if (!std::isfinite(m.value))
+      return PixelEstimate::failure("no usable pixel pairs for the rotational asymmetry");
+    c = m.c;
+    if (c.x < 0 || c.y < 0 || c.x > p.nx - 1 || c.y > p.ny - 1)
+      return PixelEstimate::failure("the symmetry centre left the image");
+  }
+  if (!m.converged)
+    return PixelEstimate::failure("the asymmetry minimisation did not converge in " +
+                                  std::to_string(o.max_evaluations) + " evaluations");
+  PixelEstimate e;
+  e.ok = true;
+  e.centre = c;
+  e.details = {{"asymmetry", m.value}, {"aperture_radius_arcsec", r}, {"evaluations", evaluations}};
+  return e;
+}
+
+}  // namespace fulcrum::photometry

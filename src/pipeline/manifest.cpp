@@ -1,0 +1,274 @@
+// TOML sample manifests (toml++), with line-numbered errors.
+#include "fulcrum/pipeline/manifest.hpp"
+
+#include <filesystem>
+#include <cmath>
+#include <fstream>
+#include <set>
+#include <sstream>
+
+#include <toml++/toml.h>
+
+#include "fulcrum/core/error.hpp"
+
+namespace fulcrum::pipeline {
+
+namespace fs = std::filesystem;
+
+namespace {
+
+struct Ctx {
+  std::string path;
+  std::string folder;
+};
+
+int line_of(const toml::node& n) { return static_cast<int>(n.source().begin.line); }
+
+[[noreturn]] void fail(const Ctx& c, int line, const std::string& what) {
+  throw InputError(c.path, "line " + std::to_string(line) + ": " + what);
+}
+
+std::string resolve(const Ctx& c, const std::string& p) {
+  if (p.empty()) return p;
+  fs::path q(p);
+  if (q.is_absolute()) return q.lexically_normal().string();
+  return (fs::path(c.folder) / q).lexically_normal().string();
+}
+
+std::string get_string(const Ctx& c, const toml::node& n, const std::string& key) {
+  if (!n.is_string()) fail(c, line_of(n), "'" + key + "' must be a string (in quotes)");
+  std::string s = *n.value<std::string>();
+  if (s.empty()) fail(c, line_of(n), "'" + key + "' is empty");
+  return s;
+}
+
+double get_number(const Ctx& c, const toml::node& n, const std::string& key) {
+  if (!n.is_number()) fail(c, line_of(n), "'" + key + "' must be a number");
+  double v = *n.value<double>();
+  if (!std::isfinite(v)) fail(c, line_of(n), "'" + key + "' must be finite");
+  return v;
+}
+
+std::int64_t get_integer(const Ctx& c, const toml::node& n, const std::string& key) {
+  if (!n.is_integer()) fail(c, line_of(n), "'" + key + "' must be an integer");
+  return *n.value<std::int64_t>();
+}
+
+std::string known_list(const std::set<std::string>& keys) {
+  std::string s;
+  for (const auto& k : keys) s += (s.empty() ? "" : ", ") + k;
+  return s;
+}
+
+const std::set<std::string> kMolecularKeys = {"co_line", "alpha_co", "co_ratio_21", "redshift"};
+
+bool read_molecular(const Ctx& c, const std::string& key, const toml::node& n, MolecularGasInput& m) {
+  if (key == "co_line") {
+    std::string v = get_string(c, n, key);
+    if (v != "1-0" && v != "2-1") fail(c, line_of(n), "co_line must be \"1-0\" or \"2-1\", not \"" + v + "\"");
+    m.co_line = v;
+  } else if (key == "alpha_co") {
+    double v = get_number(c, n, key);
+    if (v <= 0) fail(c, line_of(n), "alpha_co must be positive");
+    m.alpha_co = v;
+  } else if (key == "co_ratio_21") {
+    double v = get_number(c, n, key);
+    if (v <= 0 || v > 2) fail(c, line_of(n), "co_ratio_21 must be in (0, 2]");
+    m.co_ratio_21 = v;
+  } else if (key == "redshift") {
+    double v = get_number(c, n, key);
+    if (v < 0 || v > 10) fail(c, line_of(n), "redshift must be in [0, 10]");
+    m.redshift = v;
+  } else {
+    return false;
+  }
+  return true;
+}
+
+GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasInput& defaults,
+                        int table_line) {
+  static const std::set<std::string> keys = [] {
+    std::set<std::string> k = {"name", "velocity", "velocity_error", "intensity", "intensity_error", "rms",
+                               "optical", "optical_mask", "psf_fwhm_arcsec", "tail_pa_deg",
+                               "tail_pa_err_deg", "tail_image", "distance_mpc", "seed"};
+    k.insert(kMolecularKeys.begin(), kMolecularKeys.end());
+    return k;
+  }();
+  GalaxyInput g;
+  g.molecular = defaults;
+  g.manifest_line = table_line;
+  for (const auto& [k, node] : t) {
+    std::string key(k.str());
+    int line = line_of(node);
+    if (!keys.count(key))
+      fail(c, line, "unknown key '" + key + "' in [[galaxy]] (known keys: " + known_list(keys) + ")");
+    if (key == "name") g.name = get_string(c, node, key);
+    else if (key == "velocity") g.velocity = resolve(c, get_string(c, node, key));
+    else if (key == "velocity_error") g.velocity_error = resolve(c, get_string(c, node, key));
+    else if (key == "intensity") g.intensity = resolve(c, get_string(c, node, key));
+    else if (key == "intensity_error") g.intensity_error = resolve(c, get_string(c, node, key));
+    else if (key == "optical") g.optical = resolve(c, get_string(c, node, key));
+    else if (key == "optical_mask") g.optical_mask = resolve(c, get_string(c, node, key));
+    else if (key == "tail_image") g.tail_image = resolve(c, get_string(c, node, key));
+    else if (key == "rms") {
+      double v = get_number(c, node, key);
+      if (v <= 0) fail(c, line, "rms must be positive");
+      g.rms = v;
+    } else if (key == "psf_fwhm_arcsec") {
+      double v = get_number(c, node, key);
+      if (v <= 0) fail(c, line, "psf_fwhm_arcsec must be positive");
+      g.psf_fwhm_arcsec = v;
+    } else if (key == "tail_pa_deg") {
+      g.tail_pa_deg = get_number(c, node, key);
+    } else if (key == "tail_pa_err_deg") {
+      double v = get_number(c, node, key);
+      if (v < 0 || v > 90) fail(c, line, "tail_pa_err_deg must be in [0, 90]");
+      g.tail_pa_err_deg = v;
+    } else if (key == "distance_mpc") {
+      double v = get_number(c, node, key);
+      if (v <= 0) fail(c, line, "distance_mpc must be positive");
+      g.distance_mpc = v;
+    } else if (key == "seed") {
+      auto v = get_integer(c, node, key);
+      if (v < 0) fail(c, line, "seed must be non-negative");
+      g.seed = static_cast<std::uint64_t>(v);
+    } else {
+      read_molecular(c, key, node, g.molecular);
+    }
+  }
+  if (g.name.empty()) fail(c, table_line, "[[galaxy]] has no 'name'");
+  for (char ch : g.name)
+    if (ch == '/' || ch == '\\' || static_cast<unsigned char>(ch) < 32)
+      fail(c, table_line, "galaxy name '" + g.name + "' must not contain '/', '\\' or control characters");
+  if (g.name == "." || g.name == "..") fail(c, table_line, "galaxy name '" + g.name + "' is not allowed");
+  if (g.velocity.empty()) fail(c, table_line, "galaxy '" + g.name + "' has no 'velocity' file");
+  if (g.intensity.empty()) fail(c, table_line, "galaxy '" + g.name + "' has no 'intensity' file");
+  if (!g.intensity_error.empty() && g.rms)
+    fail(c, table_line, "galaxy '" + g.name + "' gives both 'intensity_error' and 'rms': choose one");
+  if (g.tail_pa_deg && !g.tail_image.empty())
+    fail(c, table_line, "galaxy '" + g.name + "' gives both 'tail_pa_deg' and 'tail_image': choose one");
+  if (!g.tail_pa_deg && g.tail_image.empty())
+    fail(c, table_line, "galaxy '" + g.name + "' needs 'tail_pa_deg' or 'tail_image'");
+  return g;
+}
+
+}  // namespace
+
+SampleManifest parse_manifest(const std::string& text, const std::string& path) {
+  Ctx c{path, fs::path(path).parent_path().string()};
+  if (c.folder.empty()) c.folder = ".";
+  toml::table root;
+  try {
+    root = toml::parse(text, path);
+  } catch (const toml::parse_error& e) {
+    throw InputError(path, "line " + std::to_string(e.source().begin.line) + ": " +
+                               std::string(e.description()));
+  }
+  SampleManifest m;
+  m.path = path;
+  m.folder = c.folder;
+  MolecularGasInput defaults;
+  for (const auto& [k, node] : root) {
+    std::string key(k.str());
+    if (key == "sample") {
+      auto* t = node.as_table();
+      if (!t) fail(c, line_of(node), "'sample' must be a table: [sample]");
+      static const std::set<std::string> keys = [] {
+        std::set<std::string> s = {"name", "seed", "draws", "description"};
+        s.insert(kMolecularKeys.begin(), kMolecularKeys.end());
+        return s;
+      }();
+      for (const auto& [sk, sn] : *t) {
+        std::string skey(sk.str());
+        if (!keys.count(skey))
+          fail(c, line_of(sn), "unknown key '" + skey + "' in [sample] (known keys: " + known_list(keys) + ")");
+        if (skey == "name") m.name = get_string(c, sn, skey);
+        else if (skey == "description") get_string(c, sn, skey);
+        else if (skey == "seed") {
+          auto v = get_integer(c, sn, skey);
+          if (v < 0) fail(c, line_of(sn), "seed must be non-negative");
+          m.seed = static_cast<std::uint64_t>(v);
+        } else if (skey == "draws") {
+          auto v = get_integer(c, sn, skey);
+          if (v < 100 || v > 100000000) fail(c, line_of(sn), "draws must be between 100 and 1e8");
+          m.draws = static_cast<int>(v);
+        } else {
+          read_molecular(c, skey, sn, defaults);
+        }
+      }
+    } else if (key == "galaxy") {
+      // Read after [sample] so that sample defaults apply whatever the order.
+      if (!node.is_array_of_tables()) fail(c, line_of(node), "'galaxy' must be written [[galaxy]]");
+    } else {
+      fail(c, line_of(node), "unknown top-level key '" + key + "' (expected [sample] and [[galaxy]])");
+    }
+  }
+  if (auto* arr = root["galaxy"].as_array()) {
+    std::set<std::string> names;
+    for (const auto& el : *arr) {
+      const auto* t = el.as_table();
+      int line = line_of(el);
+      auto g = read_galaxy(c, *t, defaults, line);
+      if (!names.insert(g.name).second) fail(c, line, "duplicate galaxy name '" + g.name + "'");
+      m.galaxies.push_back(std::move(g));
+    }
+  }
+  if (m.galaxies.empty()) throw InputError(path, "the manifest lists no [[galaxy]]");
+  if (m.name.empty()) m.name = fs::path(path).stem().string();
+  return m;
+}
+
+SampleManifest read_manifest(const std::string& path) {
+  std::ifstream in(path);
+  if (!in) throw InputError(path, "cannot open the sample manifest");
+  std::stringstream ss;
+  ss << in.rdbuf();
+  return parse_manifest(ss.str(), path);
+}
+
+std::uint64_t galaxy_seed(std::uint64_t sample_seed, const GalaxyInput& galaxy) {
+  if (galaxy.seed) return *galaxy.seed;
+  std::uint64_t h = 1469598103934665603ull;
+  for (unsigned char ch : galaxy.name) h = (h ^ ch) * 1099511628211ull;
+  std::uint64_t z = sample_seed + 0x9e3779b97f4a7c15ull * (h | 1);
+  z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
+  z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
+  // 53 bits, so that the seed is exact in JSON readers that use doubles.
+  return (z ^ (z >> 31)) & ((1ull << 53) - 1);
+}
+
+Selection parse_shard(const std::string& text) {
+  Selection s;
+  auto slash = text.find('/');
+  try {
+    if (slash == std::string::npos) throw std::invalid_argument("no slash");
+    std::size_t a = 0, b = 0;
+    s.shard_index = std::stoi(text.substr(0, slash), &a);
+    s.shard_count = std::stoi(text.substr(slash + 1), &b);
+    if (a != slash || b != text.size() - slash - 1) throw std::invalid_argument("junk");
+  } catch (const std::exception&) {
+    throw InputError("", "--shard must be I/N with whole numbers, e.g. 2/8 (got '" + text + "')");
+  }
+  if (s.shard_count < 1 || s.shard_index < 1 || s.shard_index > s.shard_count)
+    throw InputError("", "--shard I/N needs 1 <= I <= N (got '" + text + "')");
+  return s;
+}
+
+std::vector<GalaxyInput> select_galaxies(const SampleManifest& manifest, const Selection& s) {
+  std::set<std::string> only(s.only.begin(), s.only.end());
+  for (const auto& name : only) {
+    bool found = false;
+    for (const auto& g : manifest.galaxies) found = found || g.name == name;
+    if (!found) throw InputError(manifest.path, "--only " + name + ": no galaxy of that name in the manifest");
+  }
+  std::vector<GalaxyInput> out;
+  for (std::size_t p = 0; p < manifest.galaxies.size(); ++p) {
+    if (static_cast<int>(p % s.shard_count) != s.shard_index - 1) continue;
+    const auto& g = manifest.galaxies[p];
+    if (!only.empty() && !only.count(g.name)) continue;
+    out.push_back(g);
+  }
+  return out;
+}
+
+}  // namespace fulcrum::pipeline

@@ -1,0 +1,182 @@
+// Exact leading/trailing halves with units and errors (see the header).
+#include "fulcrum/split/half_split.hpp"
+
+#include <algorithm>
+#include <cctype>
+#include <cmath>
+#include <limits>
+#include <sstream>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/core/log.hpp"
+
+namespace fulcrum::split {
+
+namespace {
+std::string squeeze(const std::string& u) {
+  std::string o;
+  for (char c : u) {
+    if (std::isspace(static_cast<unsigned char>(c)) || c == '.' || c == '*' || c == '(' || c == ')')
+      continue;
+    o += static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  }
+  return o;
+}
+std::string fmt(double v) {
+  std::ostringstream os;
+  os.precision(6);
+  os << v;
+  return os.str();
+}
+}  // namespace
+
+FluxScale flux_scale(const Image& map, double pixel_area) {
+  FluxScale fs;
+  const std::string u = squeeze(map.unit);
+  // Jy/beam spelled as "jy/beam", "jy/bm", "jybeam-1", "jy/beam" with velocity after it.
+  std::string rest;
+  bool per_beam = false;
+  for (const char* pat : {"jy/beam", "jy/bm", "jybeam-1", "jybeam^-1"}) {
+    const auto pos = u.find(pat);
+    if (pos == 0) {
+      per_beam = true;
+      rest = u.substr(std::string(pat).size());
+      break;
+    }
+  }
+  if (per_beam) {
+    if (!map.beam || !(map.beam->bmaj_arcsec > 0.0) || !(map.beam->bmin_arcsec > 0.0))
+      throw InputError(map.path, "BUNIT is '" + map.unit +
+                                     "' (per beam) but the header has no BMAJ/BMIN to convert "
+                                     "to flux");
+    fs.per_beam = true;
+    fs.factor = pixel_area / map.beam->solid_angle_arcsec2();
+    if (rest.empty()) {
+      fs.unit = "Jy";
+    } else if (rest == "km/s" || rest == "kms-1" || rest == "kms^-1") {
+      fs.unit = "Jy km/s";
+    } else if (rest == "m/s" || rest == "ms-1" || rest == "ms^-1") {
+      fs.factor *= 1e-3;  // velocities in km/s (DESIGN.md §2)
+      fs.unit = "Jy km/s";
+    } else {
+      fs.unit = "Jy x (" + map.unit + " without /beam)";
+    }
+    return fs;
+  }
+  fs.factor = 1.0;
+  fs.unit = (map.unit.empty() ? std::string("(no BUNIT)") : map.unit) + " x pixel";
+  return fs;
+}
+
+SplitProblem prepare_split(const Image& map, const SplitOptions& opt) {
+  SplitProblem pr;
+  pr.reference = opt.centre;
+  pr.map_path = map.path;
+  if (!map.wcs.valid()) throw InputError(map.path, "the map has no celestial WCS");
+  const PixelOffsets offsets(map, opt.centre);
+  pr.max_jacobian_variation = offsets.max_jacobian_variation();
+  if (opt.aperture) {
+    const ApertureSpec& a = *opt.aperture;
+    if (!(a.radius_arcsec > 0.0)) throw InputError("", "the aperture radius must be positive");
+    if (!(a.axis_ratio > 0.0 && a.axis_ratio <= 1.0))
+      throw InputError("", "the aperture axis ratio must be in (0, 1]");
+    SkyEllipse e;
+    e.centre = a.centre ? offsets.frame().to_offset(*a.centre) : SkyOffset{};
+    e.pa = a.pa_deg * degrees;
+    e.a_arcsec = a.radius_arcsec;
+    e.q = a.axis_ratio;
+    pr.aperture = e;
+  }
+  NoiseSpec noise;
+  noise.error_map = opt.error_map;
+  noise.rms = opt.rms;
+  pr.pixels = collect_pixels(map, offsets, pr.aperture, noise);
+  pr.scale = flux_scale(map, pr.pixels.pixel_area_arcsec2());
+  pr.beam = map.beam;
+  if (map.beam && map.beam->bmaj_arcsec > 0.0 && map.beam->bmin_arcsec > 0.0)
+    pr.pixels_per_beam = std::max(1.0, map.beam->pixels_per_beam(pr.pixels.pixel_area_arcsec2()));
+  if (opt.error_map)
+    pr.noise_source = "error map " + opt.error_map->path;
+  else if (opt.rms > 0.0)
+    pr.noise_source = "rms " + fmt(opt.rms) + " " + map.unit;
+  else
+    pr.noise_source = "none";
+  return pr;
+}
+
+double asymmetry_error(double L, double T, double varL, double varT) {
+  const double S = L + T;
+  return 2.0 * std::sqrt(T * T * varL + L * L * varT) / (S * S);
+}
+
+SplitSummary summarise_halves(const SplitProblem& pr, const HalfSums& h, Angle tail,
+                              SkyOffset c) {
+  SplitSummary s;
+  const double k = pr.scale.factor;
+  s.leading_flux = k * h.leading;
+  s.trailing_flux = k * h.trailing;
+  s.total_flux = s.leading_flux + s.trailing_flux;
+  s.flux_unit = pr.scale.unit;
+  s.ratio = s.leading_flux / s.trailing_flux;
+  s.asymmetry = (s.leading_flux - s.trailing_flux) / s.total_flux;
+  const bool noise = pr.pixels.variance.size() == pr.pixels.size();
+  if (noise) {
+    const double vl = k * k * pr.pixels_per_beam * h.leading_var;
+    const double vt = k * k * pr.pixels_per_beam * h.trailing_var;
+    s.leading_err = std::sqrt(vl);
+    s.trailing_err = std::sqrt(vt);
+    s.asymmetry_err = asymmetry_error(s.leading_flux, s.trailing_flux, vl, vt);
+  } else {
+    s.leading_err = s.trailing_err = s.asymmetry_err = std::numeric_limits<double>::quiet_NaN();
+  }
+  s.tail_pa_deg = tail.wrap360().deg();
+  s.leading_pa_deg = (tail + 180.0 * degrees).wrap360().deg();
+  s.centre_offset = c;
+  s.centre = OffsetFrame(pr.reference).to_world(c);
+  s.n_pixels = pr.pixels.size();
+  s.pixels_per_beam = pr.pixels_per_beam;
+  s.noise_source = pr.noise_source;
+  return s;
+}
+
+SplitSummary split_at(const SplitProblem& pr, Angle tail, SkyOffset c) {
+  const ProjectionEngine eng(pr.pixels, tail);
+  return summarise_halves(pr, eng.halves(c), tail, c);
+}
+
+SplitSummary split_halves(const Image& map, const SplitOptions& opt) {
+  const SplitProblem pr = prepare_split(map, opt);
+  if (!(std::abs(pr.scale.factor) > 0.0)) throw InputError(map.path, "zero flux scale");
+  SplitSummary s = split_at(pr, opt.tail_pa_deg * degrees);
+  if (!(s.total_flux > 0.0))
+    warn("the total flux in the analysis region is not positive (" + fmt(s.total_flux) + " " +
+         s.flux_unit + "); the asymmetry is not meaningful");
+  return s;
+}
+
+namespace {
+nlohmann::json num(double v) { return std::isfinite(v) ? nlohmann::json(v) : nlohmann::json(); }
+}  // namespace
+
+nlohmann::json to_json(const SplitSummary& s) {
+  return {{"leading_flux", num(s.leading_flux)},
+          {"trailing_flux", num(s.trailing_flux)},
+          {"leading_flux_err", num(s.leading_err)},
+          {"trailing_flux_err", num(s.trailing_err)},
+          {"total_flux", num(s.total_flux)},
+          {"flux_unit", s.flux_unit},
+          {"ratio", num(s.ratio)},
+          {"asymmetry", num(s.asymmetry)},
+          {"asymmetry_err", num(s.asymmetry_err)},
+          {"tail_pa_deg", s.tail_pa_deg},
+          {"leading_pa_deg", s.leading_pa_deg},
+          {"centre_ra_deg", s.centre.ra_deg},
+          {"centre_dec_deg", s.centre.dec_deg},
+          {"centre_offset_east_arcsec", s.centre_offset.east},
+          {"centre_offset_north_arcsec", s.centre_offset.north},
+          {"n_pixels", s.n_pixels},
+          {"pixels_per_beam", s.pixels_per_beam},
+          {"noise_source", s.noise_source}};
+}
+
+}  // namespace fulcrum::split

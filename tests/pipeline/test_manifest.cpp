@@ -1,0 +1,123 @@
+// Sample manifests: paths relative to the manifest folder, errors that name
+// the line, duplicate names, shards and --only.
+#include <catch2/catch.hpp>
+
+#include <set>
+
+#include "../support/test_support.hpp"
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/pipeline/manifest.hpp"
+
+using namespace fulcrum;
+using namespace fulcrum::pipeline;
+
+namespace {
+const char* kGood = R"([sample]
+name = "Test sample"
+seed = 7
+draws = 2000
+co_line = "2-1"
+
+[[galaxy]]
+name = "a"
+velocity = "a/vel.fits"
+intensity = "a/mom0.fits"
+intensity_error = "a/mom0_err.fits"
+optical = "/abs/opt.fits"
+tail_pa_deg = 300
+tail_pa_err_deg = 12.5
+distance_mpc = 95.0
+
+[[galaxy]]
+name = "b"
+velocity = "b/vel.fits"
+intensity = "b/mom0.fits"
+rms = 0.01
+tail_image = "b/tail.fits"
+seed = 99
+co_ratio_21 = 0.8
+)";
+
+std::string error_of(const std::string& text) {
+  try {
+    parse_manifest(text, "/data/run/sample.toml");
+  } catch (const InputError& e) {
+    return e.what();
+  }
+  return "";
+}
+}  // namespace
+
+TEST_CASE("a manifest resolves paths against its folder", "[pipeline]") {
+  auto m = parse_manifest(kGood, "/data/run/sample.toml");
+  CHECK(m.name == "Test sample");
+  CHECK(m.seed == 7);
+  CHECK(m.draws == 2000);
+  REQUIRE(m.galaxies.size() == 2);
+  const auto& a = m.galaxies[0];
+  CHECK(a.velocity == "/data/run/a/vel.fits");
+  CHECK(a.optical == "/abs/opt.fits");
+  CHECK(*a.tail_pa_deg == 300.0);  // an integer is accepted for a float key
+  CHECK(a.tail_pa_err_deg == 12.5);
+  CHECK(*a.distance_mpc == 95.0);
+  CHECK(*a.molecular.co_line == "2-1");  // sample default
+  CHECK(a.manifest_line == 7);
+  const auto& b = m.galaxies[1];
+  CHECK(*b.rms == 0.01);
+  CHECK(b.tail_image == "/data/run/b/tail.fits");
+  CHECK(galaxy_seed(7, b) == 99);
+  CHECK(*b.molecular.co_ratio_21 == 0.8);
+  // Derived seeds differ per galaxy, do not depend on the position, fit in 53 bits.
+  CHECK(galaxy_seed(7, a) != galaxy_seed(8, a));
+  CHECK(galaxy_seed(7, a) < (1ull << 53));
+}
+
+TEST_CASE("manifest errors name the file and the line", "[pipeline]") {
+  std::string text = kGood;
+  CHECK(error_of(text + "colour = \"red\"\n") ==
+        "/data/run/sample.toml: line 25: unknown key 'colour' in [[galaxy]] (known keys: alpha_co, co_line, "
+        "co_ratio_21, distance_mpc, intensity, intensity_error, name, optical, optical_mask, psf_fwhm_arcsec, "
+        "redshift, rms, seed, tail_image, tail_pa_deg, tail_pa_err_deg, velocity, velocity_error)");
+  std::string wrong = text;
+  wrong.replace(wrong.find("distance_mpc = 95.0"), 19, "distance_mpc = \"95\"");
+  CHECK(error_of(wrong) == "/data/run/sample.toml: line 15: 'distance_mpc' must be a number");
+  std::string dup = text;
+  dup.replace(dup.find("name = \"b\""), 10, "name = \"a\"");
+  CHECK(error_of(dup) == "/data/run/sample.toml: line 17: duplicate galaxy name 'a'");
+  CHECK(error_of("[sample]\nname = \"x\"\nsed = 3\n[[galaxy]]\nname=\"a\"\n").find("line 3: unknown key 'sed' in [sample]") !=
+        std::string::npos);
+  CHECK(error_of("[sample]\nname = \"x\"\n").find("lists no [[galaxy]]") != std::string::npos);
+  CHECK(error_of("[sample\n").find("line 1:") != std::string::npos);  // a TOML syntax error
+  CHECK(error_of("[[galaxy]]\nname = \"a\"\nvelocity = \"v.fits\"\nintensity = \"m.fits\"\n")
+            .find("needs 'tail_pa_deg' or 'tail_image'") != std::string::npos);
+  CHECK(error_of("[[galaxy]]\nname = \"a/b\"\nvelocity = \"v\"\nintensity = \"m\"\ntail_pa_deg = 1\n")
+            .find("must not contain '/'") != std::string::npos);
+  CHECK(error_of("[sample]\ndraws = 2.5\n[[galaxy]]\nname = \"a\"\n").find("line 2: 'draws' must be an integer") !=
+        std::string::npos);
+  CHECK(error_of("[[galaxy]]\nname = \"a\"\nvelocity = \"v\"\nintensity = \"m\"\nrms = 0.1\n"
+                 "intensity_error = \"e\"\ntail_pa_deg = 1\n")
+            .find("choose one") != std::string::npos);
+  REQUIRE_THROWS_AS(read_manifest("/nonexistent/sample.toml"), InputError);
+}
+
+TEST_CASE("shards partition the sample and --only selects by name", "[pipeline]") {
+  std::string text = "[sample]\nname = \"s\"\n";
+  for (int i = 0; i < 10; ++i)
+    text += "[[galaxy]]\nname = \"g" + std::to_string(i) + "\"\nvelocity = \"v\"\nintensity = \"m\"\ntail_pa_deg = 1\n";
+  auto m = parse_manifest(text, "s.toml");
+  CHECK(m.folder == ".");
+  std::multiset<std::string> all;
+  for (int i = 1; i <= 3; ++i) {
+    auto part = select_galaxies(m, parse_shard(std::to_string(i) + "/3"));
+    for (const auto& g : part) all.insert(g.name);
+  }
+  CHECK(all.size() == 10);
+  CHECK(std::set<std::string>(all.begin(), all.end()).size() == 10);
+  Selection only;
+  only.only = {"g3", "g7"};
+  CHECK(select_galaxies(m, only).size() == 2);
+  only.only = {"nope"};
+  CHECK_THROWS_AS(select_galaxies(m, only), InputError);
+  for (const char* bad : {"0/3", "4/3", "1/0", "a/b", "1-3", "1/3x", ""})
+    CHECK_THROWS_AS(parse_shard(bad), InputError);
+}

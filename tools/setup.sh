@@ -1,0 +1,59 @@
+#!/usr/bin/env bash
+# Set up, build and run fulcrum on a Debian 12 machine (as root).
+#
+#   bash tools/setup.sh demo    install what is missing, build, run `fulcrum demo`
+#   bash tools/setup.sh test    install what is missing (with the test references), build, run the tests
+#   bash tools/setup.sh build   install what is missing and build only
+#
+# Idempotent: packages already installed are skipped, and the build is
+# incremental. Set FULCRUM_BUILD_DIR to build elsewhere (default: build/).
+set -euo pipefail
+cd "$(dirname "$0")/.."
+
+action="${1:-build}"
+build_dir="${FULCRUM_BUILD_DIR:-build}"
+
+build_packages=(build-essential cmake pkg-config libeigen3-dev libceres-dev libcfitsio-dev
+                wcslib-dev libcli11-dev catch2 nlohmann-json3-dev libtomlplusplus-dev)
+# Outside references for the tests (astropy, scipy, shapely, numpy), GNU
+# parallel for the shard/merge test and Chromium for the HTML report test.
+test_packages=(python3 python3-astropy python3-numpy python3-scipy python3-shapely parallel
+               chromium)
+
+install_missing() {
+  local missing=()
+  for p in "$@"; do
+    dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing+=("$p")
+  done
+  if ((${#missing[@]})); then
+    echo "fulcrum setup: installing ${missing[*]}"
+    local sudo=""
+    [ "$(id -u)" -eq 0 ] || sudo="sudo"
+    $sudo apt-get update -qq
+    DEBIAN_FRONTEND=noninteractive $sudo apt-get install -y -qq --no-install-recommends "${missing[@]}" >/dev/null
+  else
+    echo "fulcrum setup: all packages present"
+  fi
+}
+
+build() {
+  cmake -S . -B "$build_dir" -DCMAKE_BUILD_TYPE=Release >/dev/null
+  cmake --build "$build_dir" -j"$(nproc)"
+}
+
+case "$action" in
+  build)
+    install_missing "${build_packages[@]}"
+    build ;;
+  demo)
+    install_missing "${build_packages[@]}"
+    build
+    "$build_dir/fulcrum" demo ${FULCRUM_DEMO_ARGS:-} ;;
+  test)
+    install_missing "${build_packages[@]}" "${test_packages[@]}"
+    build
+    ctest --test-dir "$build_dir" --output-on-failure -j"$(nproc)" --timeout 900 ;;
+  *)
+    echo "usage: tools/setup.sh [build|demo|test]" >&2
+    exit 2 ;;
+esac
