@@ -129,3 +129,73 @@ TEST_CASE("symmetric mocks are called robust at most 5% of the time", "[robustne
   CHECK(double(robust) / n <= 0.05 + 1e-12);
   CHECK(std::abs(double(low) / n - 0.5) < 0.12);  // uniform-ish P: about half below 0.5
 }
+
+namespace {
+AnalysisSummary analyse_mock(double eps, double disc_fraction, std::vector<SkyOffset> others) {
+  test::TinyMock m;
+  m.nx = m.ny = 40;
+  m.eps = eps;
+  m.rms = 0.01;
+  m.disc_fraction = disc_fraction;
+  const auto maps = test::make_tiny_mock(m);
+  AnalysisOptions o;
+  o.galaxy = "mock";
+  o.adopted.name = "kinematic";
+  o.adopted.position = m.centre;
+  o.adopted.covariance << 0.01, 0.0, 0.0, 0.01;
+  const OffsetFrame frame(m.centre);
+  for (const auto& c : others) {
+    WorldCentre w;
+    w.name = "photometric";
+    w.position = frame.to_world(c);
+    w.covariance << 0.01, 0.0, 0.0, 0.01;
+    o.estimates.push_back(w);
+  }
+  o.tail_pa_deg = m.tail_pa_deg;
+  o.tail_pa_err_deg = 5.0;
+  o.aperture = split::ApertureSpec{8.0, 60.0, 0.7, std::nullopt};
+  o.rms = m.rms;
+  o.n_draws = 2000;
+  o.verdict.angle_step_deg = 2.5;
+  return analyse(maps.map, o);
+}
+}  // namespace
+
+TEST_CASE("verdicts on mocks", "[robustness][verdict]") {
+  SECTION("a clear leading excess is robust") {
+    const auto a = analyse_mock(0.3, 1.0, {});
+    INFO(a.verdict.statement);
+    CHECK(a.verdict.verdict == Verdict::robust);
+    CHECK(a.split.asymmetry > 0.05);
+    CHECK(a.bootstrap.p_positive >= 0.95);
+    CHECK(a.verdict.statement.find("robust") != std::string::npos);
+  }
+  SECTION("a small excess with the photometric centre a beam towards the leading side is centre-sensitive") {
+    const SkyOffset lead = direction_of(120.0 * degrees) * 2.0;  // tail PA 300 + 180, one beam
+    const auto a = analyse_mock(0.2, 1.0, {lead});
+    INFO(a.verdict.statement);
+    CHECK(a.split.asymmetry > 0.0);
+    CHECK(a.verdict.verdict == Verdict::centre_sensitive);
+    CHECK(a.verdict.reason.find("photometric") != std::string::npos);
+    CHECK(a.flip.nominal.distance_arcsec < 2.0);
+    CHECK(a.flip.nominal.distance_arcsec > 0.2);
+  }
+  SECTION("a trailing excess is reversed") {
+    const auto a = analyse_mock(-0.3, 1.0, {});
+    INFO(a.verdict.statement);
+    CHECK(a.verdict.verdict == Verdict::reversed);
+  }
+  SECTION("a nearly fully stripped disc is undetermined, with the reason") {
+    const auto a = analyse_mock(0.3, 0.04, {});
+    INFO(a.verdict.statement);
+    CHECK(a.verdict.verdict == Verdict::undetermined);
+    CHECK(a.verdict.reason.find("too little detected emission") != std::string::npos);
+  }
+  SECTION("JSON carries the verdict and the sentence") {
+    const auto a = analyse_mock(0.3, 1.0, {});
+    const auto j = to_json(a);
+    CHECK(j["verdict"]["verdict"] == "robust");
+    CHECK(j["bootstrap"]["seed"] == 1);
+    CHECK(j["split"].contains("asymmetry_err"));
+  }
+}
