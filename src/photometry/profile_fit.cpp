@@ -52,7 +52,7 @@ class SersicRenderer {
     for (int y = 0; y < rh_; ++y)
       for (int x = 0; x < rw_; ++x) {
         const double d = std::hypot(x - m_ + x0_ - sub_centre.x, y - m_ + y0_ - sub_centre.y);
-        nsub_[x + rw_ * y] = d < 2.0 ? 15 : (d < 5.0 ? 7 : (d < 10.0 ? 3 : 1));
+        nsub_[x + rw_ * y] = d < 2.0 ? 9 : (d < 4.0 ? 5 : (d < 8.0 ? 3 : 1));
       }
   }
 
@@ -232,9 +232,9 @@ PixelEstimate fit_sersic_profile(const PreparedImage& p, const std::vector<doubl
                  eps0 * std::cos(2 * th0), eps0 * std::sin(2 * th0), 0.0};
 
   ceres::NumericDiffOptions nd;
-  nd.relative_step_size = 1e-5;
+  nd.relative_step_size = 1e-6;
   auto* functor = new SersicResidual{&rend, &index, &value, 1.0 / noise_rms};
-  auto* cost = new ceres::NumericDiffCostFunction<SersicResidual, ceres::CENTRAL, ceres::DYNAMIC, 8>(
+  auto* cost = new ceres::NumericDiffCostFunction<SersicResidual, ceres::FORWARD, ceres::DYNAMIC, 8>(
       functor, ceres::TAKE_OWNERSHIP, static_cast<int>(index.size()), nd);
   ceres::Problem problem;
   problem.AddResidualBlock(cost, nullptr, q);
@@ -279,7 +279,7 @@ PixelEstimate fit_sersic_profile(const PreparedImage& p, const std::vector<doubl
   cov.GetCovarianceBlock(q, q, c8);
   const int dof = static_cast<int>(index.size()) - npar;
   const double chi2_red = 2.0 * sum.final_cost / std::max(dof, 1);
-  const double scale = (o.scale_covariance_by_chi2 && chi2_red > 1.0) ? chi2_red : 1.0;
+  const double scale = o.scale_covariance_by_chi2 ? chi2_red : 1.0;
   Eigen::Matrix2d cp;
   cp << c8[0], c8[1], c8[8], c8[9];
   cp *= scale;

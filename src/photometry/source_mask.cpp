@@ -105,6 +105,35 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
     for (int i : seg.pixels)
       if (std::isfinite(data[i])) seg.flux += data[i];
 
+  // Extended: the light-weighted second moments of the segment (in pixels,
+  // of the unsmoothed data) exceed those of the PSF, det(M)^(1/2) >
+  // extended_size_ratio * sigma_psf^2 (a point source gives ~1).
+  auto extended = [&](const Segment& seg) {
+    double sw = 0, sx = 0, sy = 0;
+    for (int i : seg.pixels)
+      if (std::isfinite(data[i]) && data[i] > 0) {
+        sw += data[i];
+        sx += data[i] * (i % nx);
+        sy += data[i] * (i / nx);
+      }
+    if (!(sw > 0)) return false;
+    sx /= sw;
+    sy /= sw;
+    double mxx = 0, myy = 0, mxy = 0;
+    for (int i : seg.pixels)
+      if (std::isfinite(data[i]) && data[i] > 0) {
+        const double dx = i % nx - sx, dy = i / nx - sy;
+        mxx += data[i] * dx * dx;
+        myy += data[i] * dy * dy;
+        mxy += data[i] * dx * dy;
+      }
+    mxx /= sw;
+    myy /= sw;
+    mxy /= sw;
+    const double size2 = std::sqrt(std::max(mxx * myy - mxy * mxy, 0.0));
+    return size2 > o.extended_size_ratio * std::sqrt(cpsf.determinant());
+  };
+
   int gal = -1;
   if (o.galaxy_hint) {
     const int hx = static_cast<int>(std::lround(o.galaxy_hint->x));
@@ -116,7 +145,7 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
     double best = -1.0;
     for (int k = 0; k < static_cast<int>(segs.size()); ++k) {
       const double area = static_cast<double>(segs[k].pixels.size());
-      if (area < o.extended_psf_areas * psf_area_px) continue;
+      if (area < o.extended_psf_areas * psf_area_px || !extended(segs[k])) continue;
       if (segs[k].flux > best) {
         best = segs[k].flux;
         gal = k;
@@ -128,8 +157,7 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
                      ? "no galaxy: nothing on the image rises " + std::to_string(o.detect_sigma) +
                            " sigma above the sky after smoothing to the PSF"
                      : "no galaxy: " + std::to_string(segs.size()) +
-                           " source(s) detected, none extended beyond " +
-                           std::to_string(o.extended_psf_areas) + " PSF areas";
+                           " source(s) detected, none extended (all are the size of the PSF)";
     // Still mask what was found, so a caller can inspect it.
   } else {
     out.galaxy_found = true;
@@ -155,18 +183,26 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
   if (gal < 0) return out;
   out.galaxy_area_pixels = static_cast<int>(segs[gal].pixels.size());
 
-  int ib = segs[gal].pixels.front();
+  // The galaxy's core: the brightest point of the image smoothed with the
+  // wide kernel, where a star's peak is diluted by 1/(1 + w^2) and an
+  // extended core much less, so a bright star on the segment is not taken
+  // for the nucleus.
+  const std::vector<double> sw =
+      smooth_to_fwhm(data, nx, ny, jac, psf_fwhm_arcsec * o.wide_factor);
+  int ib = -1;
   for (int i : segs[gal].pixels)
-    if (s[i] > s[ib]) ib = i;
+    if (std::isfinite(sw[i]) && (ib < 0 || sw[i] > sw[ib])) ib = i;
+  if (ib < 0) ib = segs[gal].pixels.front();
   out.brightest = {static_cast<double>(ib % nx), static_cast<double>(ib / nx)};
-  out.galaxy_peak_snr = (s[ib] - sb.level) / sb.rms;
+  double smax = -1e300;
+  for (int i : segs[gal].pixels)
+    if (std::isfinite(s[i])) smax = std::max(smax, s[i]);
+  out.galaxy_peak_snr = (smax - sb.level) / sb.rms;
 
   if (o.mask_stars_on_galaxy) {
     // Band pass: structure of the PSF's size survives, the galaxy's smooth
     // light mostly cancels. A PSF-shaped star of amplitude A gives a band
     // peak of A (1/2 - 1/(1 + w^2)) for circular Gaussians (w = wide factor).
-    const std::vector<double> sw =
-        smooth_to_fwhm(data, nx, ny, jac, psf_fwhm_arcsec * o.wide_factor);
     std::vector<double> band(n, std::numeric_limits<double>::quiet_NaN());
     for (std::size_t i = 0; i < n; ++i)
       if (std::isfinite(s[i]) && std::isfinite(sw[i])) band[i] = s[i] - sw[i];

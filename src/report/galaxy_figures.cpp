@@ -77,6 +77,8 @@ void draw_centre(Svg& svg, const Axes& ax, const CentreMark& c, double nsigma) {
     svg.ellipse(p, std::max(0.5, ax.sx(nsigma * std::sqrt(l1))), std::max(0.5, ax.sx(nsigma * std::sqrt(l2))),
                 canvas_rotation(pa), s);
   }
+  // A dark halo under every marker keeps light colours visible on light backgrounds.
+  svg.marker(p, centre_shape(c.id), c.adopted ? 13 : 10, "#111111", c.adopted ? 4.2 : 3.4);
   svg.marker(p, centre_shape(c.id), c.adopted ? 13 : 10, col, c.adopted ? 2.2 : 1.6);
 }
 
@@ -85,6 +87,7 @@ void centre_legend(Svg& svg, double x, double y, const std::vector<CentreMark>& 
   svg.text({x, y}, "Centre estimates", 12, "start", 0, "#111111", "bold");
   double yy = y + 18;
   for (const auto& c : centres) {
+    svg.marker({x + 6, yy - 4}, centre_shape(c.id), 10, "#111111", 3.4);
     svg.marker({x + 6, yy - 4}, centre_shape(c.id), 10, centre_colour(c.id), 1.6);
     std::string label = c.id + (c.adopted ? " (adopted)" : "") + (c.ok ? "" : " (failed)");
     svg.text({x + 18, yy}, label, 11, "start", 0, c.ok ? "#111111" : "#888888");
@@ -204,7 +207,7 @@ std::string intensity_figure(const IntensityFigure& f) {
   }
   north_east_compass(svg, ax, "#ffffff");
   svg.end_clip();
-  ax.draw(svg, "east offset (arcsec)  \u2190 east", "north offset (arcsec)", f.galaxy + ": line intensity");
+  ax.draw(svg, "offset east (arcsec); east is to the left", "north offset (arcsec)", f.galaxy + ": line intensity");
   colour_bar(svg, 480, 40, 14, 390, ColourMapKind::kCubehelix, lo, hi, f.unit.empty() ? "intensity" : f.unit);
   centre_legend(svg, 565, 52, f.centres, f.error_ellipse_sigma);
   double y = 60 + 16.0 * f.centres.size() + 40;
@@ -242,7 +245,7 @@ std::string asymmetry_plane_figure(const AsymmetryPlaneFigure& f) {
   }
   north_east_compass(svg, ax, "#111111");
   svg.end_clip();
-  ax.draw(svg, "centre offset east (arcsec)  \u2190 east", "centre offset north (arcsec)",
+  ax.draw(svg, "centre offset east (arcsec); east is to the left", "centre offset north (arcsec)",
           f.galaxy + ": A = (L \u2212 T)/(L + T) at each centre");
   colour_bar(svg, 480, 40, 14, 390, ColourMapKind::kCoolWarm, -m, m, "A (red: leading excess)");
   // Markers are reused from the intensity figure; these show where each estimate sits on A.
@@ -258,7 +261,7 @@ std::string asymmetry_plane_figure(const AsymmetryPlaneFigure& f) {
 }
 
 std::string flip_angle_figure(const FlipAngleFigure& f) {
-  Svg svg(620, 400, f.galaxy + ": flip distance against split angle");
+  Svg svg(620, 410, f.galaxy + ": flip distance against split angle");
   Axes ax;
   ax.left = 72; ax.top = 40; ax.width = 500; ax.height = 300;
   double amin = f.angle_deg.empty() ? f.nominal_deg - 30 : *std::min_element(f.angle_deg.begin(), f.angle_deg.end());
@@ -310,8 +313,9 @@ std::string flip_angle_figure(const FlipAngleFigure& f) {
   ax.draw(svg, "split angle: tail PA (deg)", "flip distance (arcsec)",
           f.galaxy + ": how far the centre must move to reverse A");
   double y = 370;
-  svg.text({72, y + 16}, "blue: flip distance; red dashed: farthest plausible centre; grey dotted: beam FWHM; "
-                         "shaded: tail PA \u00b1 error",
+  svg.text({72, y + 4}, "blue: flip distance; red dashed: distance of the farthest plausible centre;", 10.5, "start", 0,
+           "#444444");
+  svg.text({72, y + 18}, "grey dotted: beam FWHM; shaded: tail PA \u00b1 its error; dotted vertical: nominal tail PA",
            10.5, "start", 0, "#444444");
   return svg.str();
 }

@@ -492,6 +492,20 @@ MockProducts make_mock(const MockGalaxy& g) {
   for (std::size_t k = 0; k < npix; ++k)
     if (!std::isfinite(vel[k])) verr[k] = NAN;
 
+  // Intensity-weighted, beam-smeared model velocity: conv(I v) / conv(I),
+  // what a noise-free first moment of the cube sees (up to channelisation).
+  {
+    std::vector<double> iv(wg.size());
+    for (int y = 0; y < wg.ny; ++y)
+      for (int x = 0; x < wg.nx; ++x) {
+        const std::size_t k = static_cast<std::size_t>(x) + static_cast<std::size_t>(wg.nx) * y;
+        iv[k] = intrinsic[k] * model_velocity(g, wg.off.at(x, y));
+      }
+    auto num = wg.crop(convolve_gaussian(iv, wg.nx, wg.ny, beam_cov, plain_convolution()));
+    std::vector<double> vb(npix);
+    for (std::size_t k = 0; k < npix; ++k) vb[k] = model[k] > 1e-12 * peak ? num[k] / model[k] : NAN;
+    out.velocity_model_beam = make_image(nx, ny, map_wcs, vb, beam, "km/s");
+  }
   out.velocity = make_image(nx, ny, map_wcs, vel, beam, "km/s");
   out.velocity_error = make_image(nx, ny, map_wcs, verr, beam, "km/s");
   out.velocity_model = make_image(nx, ny, map_wcs, vmodel, beam, "km/s");
@@ -723,6 +737,14 @@ MockProducts make_mock(const MockGalaxy& g) {
     }
     cards += card("RESTFRQ", num17(c.rest_frequency_hz), false, "rest frequency, Hz");
     cards += card("SPECSYS", "BARYCENT", true);
+    // The in-memory cube carries the header a file would: celestial cards
+    // (without WCSAXES = 2) and the spectral axis.
+    std::string celestial = map_wcs.header_cards();
+    for (std::size_t pos = 0; pos + 80 <= celestial.size(); pos += 80)
+      if (celestial.compare(pos, 7, "WCSAXES") != 0 && celestial.compare(pos, 8, "END     ") != 0)
+        cube.header += celestial.substr(pos, 80);
+    cube.header += cards;
+    cube.spectral_axis = 3;
     out.cube = std::move(cube);
     out.cube_spectral_cards = cards;
     d["cube"] = {{"channel_velocities_kms", vchan},

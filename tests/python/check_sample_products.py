@@ -28,6 +28,13 @@ errors = []
 
 
 def at_path(j, path):
+    if path.startswith("centres[adopted]."):
+        # The adopted centre's entry of the centres list.
+        key = path.split(".", 1)[1]
+        for c in j.get("centres", []):
+            if c.get("id") == j.get("adopted_centre"):
+                return c.get(key)
+        return None
     cur = j
     for part in path.split("."):
         m = re.match(r"^(\w+)(?:\[(\d+)\])?$", part)

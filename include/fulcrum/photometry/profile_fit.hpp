@@ -12,8 +12,9 @@
 // which is smooth through q = 1 (where theta is undefined), so the
 // covariance of the centre stays well defined for round galaxies.
 //
-// Rendering: S is averaged over sub-pixels (9x9 within 3 pixels of the
-// starting centre, 5x5 within 8, the pixel centre beyond; the scheme is fixed
+// Rendering: S is averaged over sub-pixels (9x9 within 2 pixels of the
+// starting centre, 5x5 within 4, 3x3 within 8, the pixel centre beyond; the
+// scheme is fixed
 // during the fit so the model is smooth in the parameters), then convolved
 // with the PSF sampled on the pixel grid (its pixel covariance from J, so any
 // grid works; separable when the covariance is diagonal). The fit box is the
@@ -21,13 +22,15 @@
 // margin so that every fitted pixel sees the whole kernel.
 //
 // Fit: residuals (m_i - d_i) / sigma over the usable pixels of the box,
-// Levenberg-Marquardt (Ceres) with central-difference derivatives. The
+// Levenberg-Marquardt (Ceres) with forward-difference derivatives. The
 // parameter vector is (x0, y0, ln I_e, ln r_e[arcsec], n, e1, e2, B).
 //
 // Uncertainty: the covariance of the parameters at the minimum,
 // (J_r^T J_r)^-1 for the whitened residuals (ceres::Covariance, dense SVD),
-// multiplied by the reduced chi-square when that exceeds 1 (so model
-// mismatch widens the error rather than hiding), and carried to the sky as
+// multiplied by the reduced chi-square (the residual variance sets the noise
+// scale, so a sky rms misjudged by the clipping or a model mismatch does not
+// mislead the error; common practice for least squares with estimated
+// noise), and carried to the sky as
 // C_sky = J C_pix J^T (arcsec^2, east-north).
 #pragma once
 

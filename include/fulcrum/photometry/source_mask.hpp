@@ -4,8 +4,11 @@
 // (a matched filter for unresolved sources): pixels above `detect_sigma`
 // times the rms of the smoothed image are grouped into 8-connected segments
 // of at least `min_pixels`. The galaxy is the segment that contains
-// `galaxy_hint` when one is given, otherwise the extended segment (area at
-// least `extended_psf_areas` PSF areas) with the largest summed flux. Every
+// `galaxy_hint` when one is given, otherwise the extended segment with the
+// largest summed flux; extended means an area of at least
+// `extended_psf_areas` PSF areas and light-weighted second moments whose
+// size sqrt(det M) exceeds `extended_size_ratio` times the PSF's sigma^2 (a
+// bright star has a large segment but the PSF's moments). Every
 // other segment (foreground stars, neighbours) is masked, grown by
 // `grow_fwhm` PSF FWHMs so that its wings go too.
 //
@@ -15,7 +18,8 @@
 // keeps structure of the PSF's size): local maxima above `star_sigma` times
 // the rms of the band-passed image, carrying at least `star_fraction` of the
 // local light, and farther than `core_exclusion_fwhm` FWHMs from the
-// galaxy's brightest point (so the galaxy's own nucleus is not masked). Each
+// galaxy's core (the brightest point after the wide smoothing, where a
+// star's peak is diluted; so the galaxy's own nucleus is not masked). Each
 // is masked out to the radius where a PSF of its amplitude falls to the
 // pixel noise, sigma_psf * sqrt(2 ln(A / rms)).
 //
@@ -38,6 +42,7 @@ struct SourceMaskOptions {
   double detect_sigma = 3.0;
   int min_pixels = 5;
   double extended_psf_areas = 3.0;
+  double extended_size_ratio = 1.5;  // second-moment size^2 over the PSF's
   double grow_fwhm = 1.0;
   bool mask_stars_on_galaxy = true;
   double wide_factor = 3.0;

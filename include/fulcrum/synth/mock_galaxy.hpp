@@ -122,12 +122,13 @@ struct MockProducts {
   Image velocity;          // km/s, NaN outside the mask
   Image velocity_error;    // km/s
   Image velocity_model;    // km/s, noise-free, everywhere
+  Image velocity_model_beam;  // km/s, intensity-weighted and beam-smeared: conv(I v)/conv(I); NaN without gas
   Image intensity;         // Jy/beam km/s, with noise
   Image intensity_error;   // Jy/beam km/s, per pixel rms
   Image intensity_model;   // Jy/beam km/s, noise-free
   std::optional<Image> optical;
   std::optional<Image> optical_model;
-  std::optional<Cube> cube;
+  std::optional<Cube> cube;  // header holds celestial + spectral cards, as if read from a file
   std::string cube_spectral_cards;  // spectral-axis header cards for write_cube
   nlohmann::json truth;    // every parameter plus derived truths
 };

@@ -1,0 +1,484 @@
+// Masked moment maps of a spectral-line cube and their errors (the method,
+// formulas and sources are in moment_maps.hpp). Velocities km/s; S in the
+// cube's BUNIT; sizes in pixels unless named _arcsec.
+#include "fulcrum/moments/moment_maps.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <filesystem>
+#include <numeric>
+
+#include <Eigen/LU>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/core/log.hpp"
+#include "fulcrum/imaging/gaussian_smooth.hpp"
+#include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/sky/pixel_offsets.hpp"
+
+namespace fulcrum {
+
+namespace {
+
+// 1/Phi^-1(3/4): MAD -> Gaussian sigma (common practice).
+constexpr double kMadToSigma = 1.482602218505602;
+
+double median_of(std::vector<double>& v) {
+  const std::size_t n = v.size();
+  auto mid = v.begin() + static_cast<std::ptrdiff_t>(n / 2);
+  std::nth_element(v.begin(), mid, v.end());
+  double m = *mid;
+  if (n % 2 == 0) m = 0.5 * (m + *std::max_element(v.begin(), mid));
+  return m;
+}
+
+std::string lower_nospace(const std::string& s) {
+  std::string o;
+  for (char c : s)
+    if (c != ' ') o += static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return o;
+}
+
+bool is_jy_per_beam(const std::string& unit) {
+  const std::string u = lower_nospace(unit);
+  return u == "jy/beam" || u == "jy/bm" || u == "jybeam-1" || u == "jy.beam-1" || u == "jy/beam.";
+}
+
+Image plane_image(const Cube& c, std::vector<double> data, const std::string& unit) {
+  Image im;
+  im.nx = c.nx;
+  im.ny = c.ny;
+  im.wcs = c.wcs;
+  im.beam = c.beam;
+  im.unit = unit;
+  im.data = std::move(data);
+  im.path = c.path;
+  return im;
+}
+
+// Dilate a voxel mask by `dz` channels and a round footprint of radius `r` pixels.
+std::vector<unsigned char> dilate(const std::vector<unsigned char>& m, int nx, int ny, int nz, int dz, double r) {
+  const std::size_t plane = static_cast<std::size_t>(nx) * ny;
+  std::vector<unsigned char> a = m;
+  if (dz > 0) {
+    for (int z = 0; z < nz; ++z)
+      for (std::size_t p = 0; p < plane; ++p)
+        if (m[p + plane * z])
+          for (int k = std::max(0, z - dz); k <= std::min(nz - 1, z + dz); ++k) a[p + plane * k] = 1;
+  }
+  if (r <= 0.0) return a;
+  std::vector<std::pair<int, int>> fp;
+  const int ri = static_cast<int>(std::floor(r));
+  for (int dy = -ri; dy <= ri; ++dy)
+    for (int dx = -ri; dx <= ri; ++dx)
+      if (dx * dx + dy * dy <= r * r + 1e-9) fp.emplace_back(dx, dy);
+  std::vector<unsigned char> b = a;
+  for (int z = 0; z < nz; ++z)
+    for (int y = 0; y < ny; ++y)
+      for (int x = 0; x < nx; ++x) {
+        if (!a[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y + plane * z]) continue;
+        for (auto [dx, dy] : fp) {
+          const int xx = x + dx, yy = y + dy;
+          if (xx >= 0 && yy >= 0 && xx < nx && yy < ny)
+            b[static_cast<std::size_t>(xx) + static_cast<std::size_t>(nx) * yy + plane * z] = 1;
+        }
+      }
+  return b;
+}
+
+// Per-voxel noise lookup: per channel or per pixel.
+struct NoiseModel {
+  std::vector<double> chan;   // per channel
+  std::vector<double> pixel;  // per pixel (empty unless per-pixel)
+  std::size_t plane = 0;
+  double at(std::size_t p, int z) const { return pixel.empty() ? chan[static_cast<std::size_t>(z)] : pixel[p]; }
+};
+
+NoiseModel measure_noise(const std::vector<double>& data, int nx, int ny, int nz, const NoiseOptions& opt) {
+  NoiseModel nm;
+  nm.plane = static_cast<std::size_t>(nx) * ny;
+  nm.chan.resize(nz);
+  std::vector<double> buf;
+  for (int z = 0; z < nz; ++z) {
+    buf.assign(data.begin() + static_cast<std::ptrdiff_t>(nm.plane * z),
+               data.begin() + static_cast<std::ptrdiff_t>(nm.plane * (z + 1)));
+    nm.chan[z] = robust_sigma(buf, opt);
+  }
+  if (opt.per_pixel) {
+    nm.pixel.resize(nm.plane);
+    for (std::size_t p = 0; p < nm.plane; ++p) {
+      buf.resize(nz);
+      for (int z = 0; z < nz; ++z) buf[z] = data[p + nm.plane * z];
+      nm.pixel[p] = robust_sigma(buf, opt);
+    }
+  }
+  return nm;
+}
+
+}  // namespace
+
+const char* mask_method_name(MaskMethod m) {
+  switch (m) {
+    case MaskMethod::SmoothAndMask: return "smooth-and-mask";
+    case MaskMethod::MomentMasking: return "moment-masking";
+    case MaskMethod::External: return "external";
+    case MaskMethod::None: return "none";
+  }
+  return "?";
+}
+
+MaskMethod parse_mask_method(const std::string& s) {
+  if (s == "smooth-and-mask" || s == "smooth") return MaskMethod::SmoothAndMask;
+  if (s == "moment-masking" || s == "dame") return MaskMethod::MomentMasking;
+  if (s == "external") return MaskMethod::External;
+  if (s == "none") return MaskMethod::None;
+  throw InputError("", "unknown mask method '" + s + "' (use smooth-and-mask, moment-masking, external or none)");
+}
+
+double robust_sigma(std::vector<double> v, const NoiseOptions& opt) {
+  v.erase(std::remove_if(v.begin(), v.end(), [](double x) { return !std::isfinite(x); }), v.end());
+  if (v.size() < 3) return NAN;
+  double sigma = NAN;
+  std::vector<double> dev;
+  for (int it = 0; it < std::max(1, opt.max_iterations); ++it) {
+    std::vector<double> w = v;
+    const double med = median_of(w);
+    dev.resize(v.size());
+    for (std::size_t i = 0; i < v.size(); ++i) dev[i] = std::abs(v[i] - med);
+    const double s = kMadToSigma * median_of(dev);
+    std::vector<double> kept;
+    kept.reserve(v.size());
+    for (double x : v)
+      if (std::abs(x - med) <= opt.clip_sigma * s) kept.push_back(x);
+    sigma = s;
+    if (kept.size() == v.size() || kept.size() < 3 || s == 0.0) break;
+    v.swap(kept);
+  }
+  return sigma;
+}
+
+MomentProducts make_moment_maps(const Cube& cube, const MomentOptions& opt) {
+  const std::string src = cube.path.empty() ? std::string("cube") : cube.path;
+  const int nx = cube.nx, ny = cube.ny, nz = cube.nz;
+  const std::size_t plane = static_cast<std::size_t>(nx) * ny;
+  FULCRUM_CHECK(cube.data.size() == plane * static_cast<std::size_t>(nz), plane * nz, cube.data.size());
+  if (std::none_of(cube.data.begin(), cube.data.end(), [](double v) { return std::isfinite(v); }))
+    throw InputError(src, "all channels are blank (every voxel is NaN or BLANK)");
+  if (opt.smooth_factor <= 1.0) throw InputError("", "the smoothing factor must be > 1");
+  if (opt.smooth_channels < 1 || opt.smooth_channels % 2 == 0)
+    throw InputError("", "the spectral smoothing width must be an odd number of channels >= 1");
+  if (opt.noise.clip_sigma <= 0.0) throw InputError("", "the clipping threshold must be > 0");
+
+  MomentProducts out;
+  out.axis = spectral_axis_of(cube, opt.spectral);
+  out.spectral_cards = spectral_cards_as_axis3(cube.header, cube.spectral_axis);
+  const auto& v = out.axis.velocity_kms;
+  const auto& dv = out.axis.width_kms;
+
+  // ---- noise of the cube
+  NoiseModel noise = measure_noise(cube.data, nx, ny, nz, opt.noise);
+  out.channel_rms = noise.chan;
+  if (opt.noise.per_pixel) out.pixel_rms = plane_image(cube, noise.pixel, cube.unit);
+  {
+    std::vector<double> finite;
+    for (double s : noise.chan)
+      if (std::isfinite(s)) finite.push_back(s);
+    if (finite.empty()) throw InputError(src, "cannot measure the noise: no channel has three finite pixels");
+  }
+
+  // ---- mask
+  std::vector<unsigned char> mask(plane * nz, 0);
+  nlohmann::json mask_json = {{"method", mask_method_name(opt.mask)}};
+  if (opt.mask == MaskMethod::None) {
+    for (std::size_t i = 0; i < mask.size(); ++i) mask[i] = std::isfinite(cube.data[i]) ? 1 : 0;
+  } else if (opt.mask == MaskMethod::External) {
+    if (!opt.external_mask) throw InputError("", "the external mask method needs a mask cube");
+    const Cube& m = *opt.external_mask;
+    if (m.nx != nx || m.ny != ny || m.nz != nz)
+      throw InputError(m.path, "the mask cube is " + std::to_string(m.nx) + " x " + std::to_string(m.ny) + " x " +
+                                   std::to_string(m.nz) + " but the cube is " + std::to_string(nx) + " x " +
+                                   std::to_string(ny) + " x " + std::to_string(nz));
+    for (std::size_t i = 0; i < mask.size(); ++i)
+      mask[i] = (std::isfinite(m.data[i]) && m.data[i] != 0.0 && std::isfinite(cube.data[i])) ? 1 : 0;
+    mask_json["file"] = m.path;
+  } else {
+    // Smooth spatially to smooth_factor x the beam, then spectrally.
+    Beam kernel;
+    double pixel_scale = 1.0;
+    {
+      PixelOffsets off(nx, ny, cube.wcs, cube.wcs.pixel_to_world({0.5 * (nx - 1), 0.5 * (ny - 1)}));
+      pixel_scale = off.pixel_scale_arcsec();
+    }
+    if (cube.beam) {
+      Beam target{opt.smooth_factor * cube.beam->bmaj_arcsec, opt.smooth_factor * cube.beam->bmin_arcsec,
+                  cube.beam->bpa_deg};
+      kernel = kernel_between(*cube.beam, target);
+    } else {
+      warn(src + ": no beam (BMAJ/BMIN) in the header; smoothing the mask with a 3-pixel kernel");
+      kernel = Beam{3.0 * pixel_scale, 3.0 * pixel_scale, 0.0};
+    }
+    // One pixel-space kernel for every channel (the grid's Jacobian is the
+    // same for all planes).
+    Eigen::Matrix2d jac;
+    {
+      PixelOffsets off(nx, ny, cube.wcs, cube.wcs.pixel_to_world({0.5 * (nx - 1), 0.5 * (ny - 1)}));
+      jac = off.jacobian();
+    }
+    const Eigen::Matrix2d kcov = pixel_covariance(kernel, jac);
+    std::vector<double> sm(plane * nz);
+    SmoothOptions so;
+    so.normalise_missing = true;
+    so.fill_missing = false;
+    std::vector<double> chan(plane);
+    for (int z = 0; z < nz; ++z) {
+      std::copy(cube.data.begin() + static_cast<std::ptrdiff_t>(plane * z),
+                cube.data.begin() + static_cast<std::ptrdiff_t>(plane * (z + 1)), chan.begin());
+      auto s = convolve_gaussian(chan, nx, ny, kcov, so);
+      std::copy(s.begin(), s.end(), sm.begin() + static_cast<std::ptrdiff_t>(plane * z));
+    }
+    const int half = opt.smooth_channels / 2;
+    if (half > 0) {
+      std::vector<double> sp(plane * nz, NAN);
+      for (std::size_t p = 0; p < plane; ++p)
+        for (int z = 0; z < nz; ++z) {
+          double s = 0.0;
+          int n = 0;
+          for (int k = std::max(0, z - half); k <= std::min(nz - 1, z + half); ++k) {
+            const double x = sm[p + plane * k];
+            if (std::isfinite(x)) { s += x; ++n; }
+          }
+          if (n > 0 && std::isfinite(sm[p + plane * z])) sp[p + plane * z] = s / n;
+        }
+      sm.swap(sp);
+    }
+    NoiseModel snoise = measure_noise(sm, nx, ny, nz, opt.noise);
+    const double t = opt.mask == MaskMethod::SmoothAndMask ? opt.threshold_sigma : opt.dame_threshold_sigma;
+    std::vector<unsigned char> seed(plane * nz, 0);
+    for (int z = 0; z < nz; ++z)
+      for (std::size_t p = 0; p < plane; ++p) {
+        const double s = snoise.at(p, z), x = sm[p + plane * z];
+        if (std::isfinite(x) && std::isfinite(s) && s > 0.0 && x > t * s) seed[p + plane * z] = 1;
+      }
+    int dz = 0;
+    double r = 0.0;
+    if (opt.mask == MaskMethod::SmoothAndMask) {
+      dz = opt.grow_channels;
+      r = opt.grow_pixels;
+      mask_json["threshold_sigma"] = opt.threshold_sigma;
+      mask_json["grow_channels"] = opt.grow_channels;
+      mask_json["grow_pixels"] = opt.grow_pixels;
+    } else {
+      // Dame (2011): every voxel that contributes to an above-threshold
+      // smoothed voxel, i.e. within the smoothing kernel.
+      dz = half;
+      r = kernel.fwhm_arcsec() / pixel_scale;
+      mask_json["threshold_sigma"] = opt.dame_threshold_sigma;
+      mask_json["footprint_radius_pixels"] = r;
+      mask_json["footprint_half_channels"] = dz;
+    }
+    mask = dilate(seed, nx, ny, nz, dz, r);
+    for (std::size_t i = 0; i < mask.size(); ++i)
+      if (!std::isfinite(cube.data[i])) mask[i] = 0;
+    mask_json["smooth_factor"] = opt.smooth_factor;
+    mask_json["smooth_channels"] = opt.smooth_channels;
+    mask_json["smoothing_kernel_arcsec"] = {{"bmaj", kernel.bmaj_arcsec}, {"bmin", kernel.bmin_arcsec},
+                                            {"bpa_deg", kernel.bpa_deg}};
+    std::vector<double> finite;
+    for (double s : snoise.chan)
+      if (std::isfinite(s)) finite.push_back(s);
+    mask_json["smoothed_noise_median"] = finite.empty() ? 0.0 : median_of(finite);
+  }
+
+  // ---- noise again, from the emission-free voxels (outside the mask), so
+  // that emission filling much of a channel does not inflate it. Channels
+  // with fewer than kMinFreeVoxels unmasked finite voxels keep the first
+  // estimate.
+  {
+    constexpr std::size_t kMinFreeVoxels = 30;
+    std::vector<double> buf;
+    for (int z = 0; z < nz; ++z) {
+      buf.clear();
+      for (std::size_t p = 0; p < plane; ++p) {
+        const double x = cube.data[p + plane * z];
+        if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
+      }
+      if (buf.size() >= kMinFreeVoxels && opt.mask != MaskMethod::None) {
+        const double s = robust_sigma(buf, opt.noise);
+        if (std::isfinite(s) && s > 0.0) noise.chan[z] = s;
+      }
+    }
+    if (opt.noise.per_pixel && opt.mask != MaskMethod::None) {
+      for (std::size_t p = 0; p < plane; ++p) {
+        buf.clear();
+        for (int z = 0; z < nz; ++z) {
+          const double x = cube.data[p + plane * z];
+          if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
+        }
+        if (buf.size() >= 8) {
+          const double s = robust_sigma(buf, opt.noise);
+          if (std::isfinite(s) && s > 0.0) noise.pixel[p] = s;
+        }
+      }
+      out.pixel_rms = plane_image(cube, noise.pixel, cube.unit);
+    }
+    out.channel_rms = noise.chan;
+  }
+
+  // ---- moments
+  const std::string m0_unit = cube.unit.empty() ? "km/s" : cube.unit + ".km/s";
+  std::vector<double> m0(plane, NAN), e0(plane, NAN), m1(plane, NAN), e1(plane, NAN), m2(plane, NAN),
+      pk(plane, NAN), nc(plane, 0.0);
+  double dv_med = 0.0;
+  {
+    std::vector<double> w = dv;
+    dv_med = median_of(w);
+  }
+  std::size_t nmask = 0;
+  for (std::size_t p = 0; p < plane; ++p) {
+    bool any_finite = false;
+    double s0 = 0.0, s1 = 0.0, var0 = 0.0, peak = -INFINITY;
+    int n = 0;
+    double floor_sigma = NAN;
+    for (int z = 0; z < nz; ++z) {
+      const double x = cube.data[p + plane * z];
+      if (!std::isfinite(x)) continue;
+      any_finite = true;
+      const double s = noise.at(p, z);
+      if (std::isfinite(s) && !std::isfinite(floor_sigma)) floor_sigma = s;
+      if (!mask[p + plane * z]) continue;
+      ++n;
+      s0 += x * dv[z];
+      s1 += x * v[z] * dv[z];
+      if (std::isfinite(s)) var0 += s * s * dv[z] * dv[z];
+      peak = std::max(peak, x);
+    }
+    if (!any_finite) continue;
+    nmask += static_cast<std::size_t>(n);
+    nc[p] = n;
+    if (n == 0) {
+      m0[p] = 0.0;
+      e0[p] = std::isfinite(floor_sigma) ? floor_sigma * dv_med : NAN;
+      continue;
+    }
+    m0[p] = s0;
+    e0[p] = std::sqrt(var0);
+    pk[p] = peak;
+    if (n >= opt.min_channels_velocity && s0 > 0.0) {
+      const double mean = s1 / s0;
+      double var1 = 0.0, s2 = 0.0;
+      for (int z = 0; z < nz; ++z) {
+        const double x = cube.data[p + plane * z];
+        if (!std::isfinite(x) || !mask[p + plane * z]) continue;
+        const double s = noise.at(p, z);
+        const double d = v[z] - mean;
+        if (std::isfinite(s)) var1 += s * s * dv[z] * dv[z] * d * d;
+        s2 += x * d * d * dv[z];
+      }
+      m1[p] = mean;
+      e1[p] = std::sqrt(var1) / s0;
+      if (n >= opt.min_channels_dispersion && s2 > 0.0) m2[p] = std::sqrt(s2 / s0);
+    }
+  }
+  out.mask_voxels = nmask;
+  out.mom0 = plane_image(cube, m0, m0_unit);
+  out.mom0_err = plane_image(cube, e0, m0_unit);
+  out.mom1 = plane_image(cube, m1, "km/s");
+  out.mom1_err = plane_image(cube, e1, "km/s");
+  out.mom2 = plane_image(cube, m2, "km/s");
+  out.peak = plane_image(cube, pk, cube.unit);
+  out.nchan = plane_image(cube, nc, "");
+  out.mask.nx = nx;
+  out.mask.ny = ny;
+  out.mask.nz = nz;
+  out.mask.wcs = cube.wcs;
+  out.mask.beam = cube.beam;
+  out.mask.header = cube.header;
+  out.mask.spectral_axis = cube.spectral_axis;
+  out.mask.data.assign(mask.begin(), mask.end());
+
+  // ---- total flux
+  PixelOffsets off(nx, ny, cube.wcs, cube.wcs.pixel_to_world({0.5 * (nx - 1), 0.5 * (ny - 1)}));
+  const double pixel_area = off.pixel_area_arcsec2();
+  double sum = 0.0, var = 0.0;
+  for (std::size_t p = 0; p < plane; ++p)
+    if (std::isfinite(m0[p]) && nc[p] > 0) {
+      sum += m0[p];
+      var += e0[p] * e0[p];
+    }
+  if (cube.beam && is_jy_per_beam(cube.unit)) {
+    const double ppb = cube.beam->solid_angle_arcsec2() / pixel_area;
+    out.total_flux = sum / ppb;
+    // Beam-correlated noise: one independent value per beam area (approximate, common practice).
+    out.total_flux_err = std::sqrt(var * ppb) / ppb;
+    out.flux_unit = "Jy km/s";
+  } else {
+    out.total_flux = sum;
+    out.total_flux_err = std::sqrt(var);
+    out.flux_unit = m0_unit + " (summed over pixels)";
+  }
+
+  // ---- summary
+  nlohmann::json j;
+  j["cube"] = {{"path", cube.path}, {"nx", nx}, {"ny", ny}, {"nchan", nz}, {"unit", cube.unit}};
+  j["spectral_axis"] = {{"ctype", out.axis.axis_ctype},
+                        {"velocity_ctype", out.axis.velocity_ctype},
+                        {"convention", convention_name(out.axis.convention)},
+                        {"rest_frequency_hz", out.axis.rest_frequency_hz},
+                        {"channel_velocity_kms", v},
+                        {"channel_width_kms", dv}};
+  std::vector<double> rms_json;
+  for (double s : noise.chan) rms_json.push_back(std::isfinite(s) ? s : -1.0);
+  std::vector<double> finite;
+  for (double s : noise.chan)
+    if (std::isfinite(s)) finite.push_back(s);
+  j["noise"] = {{"method", "1.4826 x median absolute deviation, iterated with clipping"},
+                {"clip_sigma", opt.noise.clip_sigma},
+                {"per_pixel", opt.noise.per_pixel},
+                {"unit", cube.unit},
+                {"channel_rms", rms_json},
+                {"channel_rms_note", "-1 marks a channel with fewer than three finite pixels"},
+                {"median_channel_rms", median_of(finite)}};
+  j["mask"] = mask_json;
+  j["mask"]["voxels"] = nmask;
+  std::size_t nvel = 0;
+  for (double x : m1) nvel += std::isfinite(x) ? 1 : 0;
+  j["maps"] = {{"mom0_unit", m0_unit}, {"pixels_with_velocity", nvel},
+               {"min_channels_velocity", opt.min_channels_velocity},
+               {"min_channels_dispersion", opt.min_channels_dispersion}};
+  j["total_flux"] = {{"value", out.total_flux}, {"error", out.total_flux_err}, {"unit", out.flux_unit}};
+  out.summary = std::move(j);
+  return out;
+}
+
+std::vector<std::string> write_moment_maps(const std::string& dir, const MomentProducts& p,
+                                           const std::string& input_path) {
+  namespace fs = std::filesystem;
+  std::error_code ec;
+  fs::create_directories(dir, ec);
+  if (ec) throw InputError(dir, "cannot create the output folder: " + ec.message());
+  std::vector<std::string> files;
+  auto img = [&](const char* name, const Image& im, const char* what) {
+    std::vector<HeaderCard> extra = {{"BTYPE", what, "", false}, {"ORIGIN", "fulcrum moments", "", false}};
+    write_image((fs::path(dir) / name).string(), im, extra);
+    files.push_back(name);
+  };
+  img("mom0.fits", p.mom0, "integrated intensity");
+  img("mom0_err.fits", p.mom0_err, "integrated intensity error");
+  img("mom1.fits", p.mom1, "intensity-weighted velocity");
+  img("mom1_err.fits", p.mom1_err, "velocity error");
+  img("mom2.fits", p.mom2, "velocity dispersion");
+  img("peak.fits", p.peak, "peak intensity");
+  img("nchan.fits", p.nchan, "channels in the mask");
+  write_cube((fs::path(dir) / "mask.fits").string(), p.mask, p.spectral_cards,
+             {{"BTYPE", "mask", "1 = in the mask", false}, {"ORIGIN", "fulcrum moments", "", false}});
+  files.push_back("mask.fits");
+  nlohmann::json j = p.summary;
+  if (!input_path.empty()) j["cube"]["path"] = input_path;
+  j["files"] = files;
+  write_text_file((fs::path(dir) / "moments.json").string(), j.dump(2) + "\n");
+  files.push_back("moments.json");
+  return files;
+}
+
+}  // namespace fulcrum
