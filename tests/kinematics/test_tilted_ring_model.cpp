@@ -6,11 +6,9 @@
 //  * Ceres' automatic differentiation, for the hand-written Jacobian of the
 //    global-fit cost function.
 //
-// tilted_ring_model.hpp includes Ceres, whose logging library defines a
-// CHECK macro of its own; it is included first and its CHECK removed so that
-// Catch's CHECK (which counts and reports) is the one used below.
+// (Ceres' own CHECK macro is removed in tests/support/precompiled.hpp, so
+// Catch's CHECK is the one used below.)
 #include "fulcrum/kinematics/tilted_ring_model.hpp"
-#undef CHECK
 
 #include <catch2/catch.hpp>
 
