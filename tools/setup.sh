@@ -17,7 +17,7 @@ build_packages=(build-essential cmake pkg-config libeigen3-dev libceres-dev libc
                 wcslib-dev libcli11-dev catch2 nlohmann-json3-dev libtomlplusplus-dev)
 # Outside references for the tests (astropy, scipy, shapely, numpy), GNU
 # parallel for the shard/merge test and Chromium for the HTML report test.
-test_packages=(python3 python3-astropy python3-numpy python3-scipy python3-shapely parallel
+test_packages=(python3 python3-astropy python3-numpy python3-scipy python3-shapely python3-pil parallel
                chromium)
 
 install_missing() {

@@ -573,6 +573,15 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
 #endif
   }
 
+  {
+    bool have_split = false;
+    for (const auto& s : stages) have_split = have_split || s.name == "split";
+    if (!have_split) {
+      std::string why = undetermined_reason.empty() ? "no adopted centre" : undetermined_reason;
+      stages.push_back({"split", "skipped", why});
+      stages.push_back({"robustness", "skipped", why});
+    }
+  }
   if (verdict == "undetermined") {
     if (undetermined_reason.empty()) undetermined_reason = "the measurement could not be made";
     if (statement.empty())

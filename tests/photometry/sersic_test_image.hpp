@@ -9,11 +9,14 @@
 //   F = 2 pi n q r_e^2 I_e e^b b^(-2n) Gamma(2n)   (Ciotti & Bertin 1999, eq. 4).
 // Stars are Gaussian PSFs sampled at pixel centres. The WCS is a TAN
 // projection with a CD matrix for a grid whose +y axis points to position
-// angle `rotation_deg`, optionally flipped (east to the right).
+// angle `rotation_deg`, optionally flipped (east to the right), with square
+// or rectangular pixels (a round PSF stays diagonal in pixel space for
+// those, so the fine-grid convolution is separable).
 //
 // The truth is the 0-based pixel (x0, y0) and its world position.
 #pragma once
 
+#include <Eigen/Dense>
 #include <cmath>
 #include <numbers>
 #include <random>
@@ -32,6 +35,7 @@ struct TestStar {
 struct TestGalaxy {
   int nx = 48, ny = 48;
   double pixel_arcsec = 0.4;
+  double pixel_y_arcsec = 0.0;  // > 0: rectangular pixels (y size)
   double rotation_deg = 0.0;
   bool flip = false;
   double ra_deg = 150.0, dec_deg = 20.0;  // at the grid centre
@@ -52,9 +56,10 @@ struct TestGalaxy {
 // d(east, north)/d(x, y) in arcsec/pixel.
 inline Eigen::Matrix2d test_jacobian(const TestGalaxy& g) {
   const double r = g.rotation_deg * std::numbers::pi / 180.0, s = g.pixel_arcsec;
+  const double sy = g.pixel_y_arcsec > 0 ? g.pixel_y_arcsec : s;
   Eigen::Matrix2d j;
   const double px = g.flip ? 1.0 : -1.0;  // +x towards west in the usual parity
-  j << px * s * std::cos(r), s * std::sin(r), -px * s * std::sin(r), s * std::cos(r);
+  j << px * s * std::cos(r), sy * std::sin(r), -px * s * std::sin(r), sy * std::cos(r);
   return j;
 }
 
@@ -70,7 +75,7 @@ inline std::vector<double> test_galaxy_model(const TestGalaxy& g) {
   const int k = g.oversample, fx = g.nx * k, fy = g.ny * k;
   const Eigen::Matrix2d jac = test_jacobian(g);
   const double bn = photometry::sersic_bn(g.n);
-  const double area = g.pixel_arcsec * g.pixel_arcsec;
+  const double area = std::abs(jac.determinant());
   const double ie = g.total_flux /
                     (2.0 * std::numbers::pi * g.n * g.q * g.re_arcsec * g.re_arcsec *
                      std::exp(bn - 2.0 * g.n * std::log(bn) + std::lgamma(2.0 * g.n)));
@@ -87,29 +92,35 @@ inline std::vector<double> test_galaxy_model(const TestGalaxy& g) {
           ie * std::exp(-bn * (std::pow(r / g.re_arcsec, 1.0 / g.n) - 1.0)) * area / (k * k);
     }
   // PSF on the fine grid.
-  const double sigma = g.psf_fwhm_arcsec / (2.0 * std::sqrt(2.0 * std::numbers::ln2)) /
-                       g.pixel_arcsec * k;
-  const int h = static_cast<int>(std::ceil(5.0 * sigma));
-  std::vector<double> ker(2 * h + 1);
-  double ks = 0;
-  for (int t = -h; t <= h; ++t) ks += ker[t + h] = std::exp(-0.5 * t * t / (sigma * sigma));
-  for (double& v : ker) v /= ks;
+  const double sig_arcsec = g.psf_fwhm_arcsec / (2.0 * std::sqrt(2.0 * std::numbers::ln2));
+  auto kernel = [&](double sigma) {
+    const int hh = static_cast<int>(std::ceil(5.0 * sigma));
+    std::vector<double> kk(2 * hh + 1);
+    double ks = 0;
+    for (int t = -hh; t <= hh; ++t) ks += kk[t + hh] = std::exp(-0.5 * t * t / (sigma * sigma));
+    for (double& v : kk) v /= ks;
+    return kk;
+  };
+  const std::vector<double> kerx = kernel(sig_arcsec / g.pixel_arcsec * k);
+  const std::vector<double> kery =
+      kernel(sig_arcsec / (g.pixel_y_arcsec > 0 ? g.pixel_y_arcsec : g.pixel_arcsec) * k);
+  const int hx = static_cast<int>(kerx.size() / 2), hy = static_cast<int>(kery.size() / 2);
   std::vector<double> tmp(fine.size(), 0.0), conv(fine.size(), 0.0);
   for (int j = 0; j < fy; ++j)
     for (int i = 0; i < fx; ++i) {
       double a = 0;
-      for (int t = -h; t <= h; ++t) {
+      for (int t = -hx; t <= hx; ++t) {
         const int ii = i - t;
-        if (ii >= 0 && ii < fx) a += ker[t + h] * fine[ii + static_cast<std::size_t>(fx) * j];
+        if (ii >= 0 && ii < fx) a += kerx[t + hx] * fine[ii + static_cast<std::size_t>(fx) * j];
       }
       tmp[i + static_cast<std::size_t>(fx) * j] = a;
     }
   for (int j = 0; j < fy; ++j)
     for (int i = 0; i < fx; ++i) {
       double a = 0;
-      for (int t = -h; t <= h; ++t) {
+      for (int t = -hy; t <= hy; ++t) {
         const int jj = j - t;
-        if (jj >= 0 && jj < fy) a += ker[t + h] * tmp[i + static_cast<std::size_t>(fx) * jj];
+        if (jj >= 0 && jj < fy) a += kery[t + hy] * tmp[i + static_cast<std::size_t>(fx) * jj];
       }
       conv[i + static_cast<std::size_t>(fx) * j] = a;
     }
@@ -129,12 +140,13 @@ inline Image make_test_image(const TestGalaxy& g, const std::vector<double>* mod
   im.wcs = test_wcs(g);
   im.unit = "adu";
   im.data = model ? *model : test_galaxy_model(g);
-  const double sp = g.psf_fwhm_arcsec / (2.0 * std::sqrt(2.0 * std::numbers::ln2)) / g.pixel_arcsec;
+  const double sa = g.psf_fwhm_arcsec / (2.0 * std::sqrt(2.0 * std::numbers::ln2));
+  const double spx = sa / g.pixel_arcsec, spy = sa / (g.pixel_y_arcsec > 0 ? g.pixel_y_arcsec : g.pixel_arcsec);
   for (const auto& s : g.stars)
     for (int y = 0; y < g.ny; ++y)
       for (int x = 0; x < g.nx; ++x)
-        im.at(x, y) += s.flux / (2 * std::numbers::pi * sp * sp) *
-                       std::exp(-0.5 * ((x - s.x) * (x - s.x) + (y - s.y) * (y - s.y)) / (sp * sp));
+        im.at(x, y) += s.flux / (2 * std::numbers::pi * spx * spy) *
+                       std::exp(-0.5 * ((x - s.x) * (x - s.x) / (spx * spx) + (y - s.y) * (y - s.y) / (spy * spy)));
   std::mt19937_64 rng(seed_override ? seed_override : g.seed);
   std::normal_distribution<double> nd(0.0, 1.0);
   for (double& v : im.data) v += g.sky + (g.noise > 0 ? g.noise * nd(rng) : 0.0);
