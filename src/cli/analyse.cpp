@@ -1,6 +1,7 @@
 // `fulcrum analyse`: the whole chain for one galaxy into one output folder
 // (report.json, figures/*.svg, report.html). The library does the work
 // (pipeline/galaxy_analysis.hpp); this file only reads options.
+#include <cmath>
 #include <filesystem>
 #include <iostream>
 #include <memory>
@@ -35,7 +36,11 @@ void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
     in.rms = a.rms;
   }
   if (cmd->count("--psf-fwhm")) in.psf_fwhm_arcsec = a.psf;
-  if (cmd->count("--tail-pa")) in.tail_pa_deg = a.tail_pa;
+  if (cmd->count("--tail-pa")) {
+    if (!std::isfinite(a.tail_pa))
+      throw InputError("", "--tail-pa must be a finite angle in degrees (got " + std::to_string(a.tail_pa) + ")");
+    in.tail_pa_deg = a.tail_pa;
+  }
   if (!in.tail_pa_deg && in.tail_image.empty()) throw InputError("", "give --tail-pa DEG or --tail-image IMG.fits");
   if (cmd->count("--distance-mpc")) {
     if (!(a.distance > 0)) throw InputError("", "--distance-mpc must be positive");
@@ -52,6 +57,8 @@ void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
   namespace fs = std::filesystem;
   if (fs::exists(fs::path(a.out) / "report.json") && !cli::global_flags().force)
     throw InputError(a.out, "already holds a report.json (use --force to overwrite)");
+  if (fs::exists(a.out) && !fs::is_directory(a.out))
+    throw InputError(a.out, "exists and is not a folder: choose another output folder");
 
   pipeline::AnalysisOptions o;
   o.seed = a.seed;

@@ -6,6 +6,8 @@
 #include <cstdlib>
 #include <iostream>
 
+#include <glog/logging.h>
+
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
@@ -41,6 +43,9 @@ extern "C" void on_termination_signal(int sig) {
 
 int main(int argc, char** argv) {
   using namespace fulcrum;
+  // Ceres logs through glog; its warnings (e.g. a rank-deficient covariance,
+  // which fulcrum reports itself) must not break the one-line error rule.
+  FLAGS_minloglevel = google::GLOG_ERROR;
   std::signal(SIGINT, on_termination_signal);
   std::signal(SIGTERM, on_termination_signal);
 

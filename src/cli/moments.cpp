@@ -7,6 +7,7 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/io/output_folder.hpp"
 #include "fulcrum/moments/moment_maps.hpp"
 #include "subcommand.hpp"
 
@@ -40,11 +41,11 @@ void run_moments(MomentsCli& cli) {
   else if (cli.convention == "optical") o.spectral.convention = VelocityConvention::Optical;
   else if (!cli.convention.empty())
     throw InputError("", "--convention must be radio or optical (got '" + cli.convention + "')");
-  if (fs::exists(fs::path(cli.out) / "moments.json") && !cli::global_flags().force)
-    throw InputError(cli.out, "already holds moment maps (moments.json); use --force to overwrite");
   Cube cube = read_cube(cli.cube);
   MomentProducts p = make_moment_maps(cube, o);
-  auto files = write_moment_maps(cli.out, p, cli.cube);
+  OutputFolder folder(cli.out, cli::global_flags().force);
+  auto files = write_moment_maps(folder.path().string(), p, cli.cube);
+  folder.keep();
   std::cout << "total flux " << p.total_flux << " +/- " << p.total_flux_err << " " << p.flux_unit << "  ("
             << mask_method_name(o.mask) << " mask, " << p.mask_voxels << " voxels, "
             << convention_name(p.axis.convention) << " velocities)\n";

@@ -23,6 +23,7 @@ void run_scan(const ScanArgs& a) {
   cli::check_output(a.json);
   split::SplitOptions so;
   so.centre = cli::parse_centre(a.centre);
+  cli::check_finite_angle(a.tail_pa, "--tail-pa");
   so.tail_pa_deg = a.tail_pa;
   so.aperture = a.aperture.spec();
   const Image map = read_image(a.intensity);

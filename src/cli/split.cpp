@@ -27,7 +27,9 @@ void run_split(const SplitArgs& a) {
   so.tail_pa_deg = a.tail_pa;
   so.aperture = a.aperture.spec();
   so.rms = a.rms;
+  cli::check_finite_angle(a.tail_pa, "--tail-pa");
   const Image map = read_image(a.intensity);
+  cli::check_centre_on_map(map, so.centre, a.centre);
   std::optional<Image> err;
   if (!a.intensity_error.empty()) {
     err = read_image(a.intensity_error);
@@ -35,6 +37,10 @@ void run_split(const SplitArgs& a) {
   }
   if (a.rms < 0.0) throw InputError("", "--rms must be positive");
   const split::SplitSummary s = split::split_halves(map, so);
+  if (!(s.total_flux > 0.0))
+    throw InputError(a.intensity, "the total flux in the analysis region is not positive (" +
+                                      std::to_string(s.total_flux) + " " + s.flux_unit +
+                                      "): no leading/trailing asymmetry can be measured");
   char line[512];
   std::snprintf(line, sizeof line,
                 "leading  (PA %5.1f): %.6g +- %.3g %s\ntrailing (PA %5.1f): %.6g +- %.3g %s\n"

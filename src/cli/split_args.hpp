@@ -30,6 +30,23 @@ inline WorldCoord parse_centre(const std::string& s) {
   }
 }
 
+// An angle option must be a finite number of degrees (CLI11 accepts "nan").
+inline void check_finite_angle(double deg, const std::string& option) {
+  if (!std::isfinite(deg))
+    throw InputError("", option + " must be a finite angle in degrees (got " + std::to_string(deg) + ")");
+}
+
+// The centre must fall on the map (within half a pixel of its edge).
+inline void check_centre_on_map(const Image& map, WorldCoord c, const std::string& text) {
+  bool on = false;
+  try {
+    const PixelCoord p = map.wcs.world_to_pixel(c);
+    on = p.x >= -0.5 && p.y >= -0.5 && p.x <= map.nx - 0.5 && p.y <= map.ny - 0.5;
+  } catch (const InputError&) {
+  }
+  if (!on) throw InputError("", "--centre " + text + " is outside the map " + map.path);
+}
+
 struct ApertureArgs {
   double radius = 0.0;
   double pa = 0.0;

@@ -12,6 +12,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/io/output_folder.hpp"
 #include "fulcrum/synth/mock_field_table.hpp"
 #include "fulcrum/synth/mock_galaxy.hpp"
 #include "subcommand.hpp"
@@ -68,11 +69,12 @@ void run_synth(const SynthCli& cli) {
     for (const auto& [opt, set] : cli.setters)
       if (opt->count() > 0)
         throw InputError("", "--demo-sample takes no mock parameters (got " + opt->get_name() + ")");
-    if (fs::exists(fs::path(cli.out) / "sample.toml") && !force)
-      throw InputError(cli.out, "already holds a sample.toml (use --force to overwrite)");
+    OutputFolder folder(cli.out, force);
     auto sample = synth::demo_sample();
     note("writing " + std::to_string(sample.size()) + " demo galaxies into " + cli.out);
-    std::string manifest = synth::write_sample(cli.out, sample, "Orrin cluster (invented demo sample)", 7);
+    std::string manifest =
+        synth::write_sample(folder.path().string(), sample, "Orrin cluster (invented demo sample)", 7);
+    folder.keep();
     for (const auto& g : sample)
       std::cout << (fs::path(cli.out) / g.name).string() << "/  (" << g.expected_verdict << ")\n";
     std::cout << manifest << "\n";
@@ -82,10 +84,10 @@ void run_synth(const SynthCli& cli) {
   for (const auto& [opt, set] : cli.setters)
     if (opt->count() > 0) set(g);
   synth::validate_mock(g);
-  if (fs::exists(fs::path(cli.out) / "truth.json") && !force)
-    throw InputError(cli.out, "already holds a mock (truth.json); use --force to overwrite");
   auto products = synth::make_mock(g);
-  auto files = synth::write_mock(cli.out, products);
+  OutputFolder folder(cli.out, force);
+  auto files = synth::write_mock(folder.path().string(), products);
+  folder.keep();
   for (const auto& f : files) std::cout << (fs::path(cli.out) / f).string() << "\n";
 }
 

@@ -73,6 +73,17 @@ FirstGuess first_guess(const VelocitySamples& s) {
   if (n >= 3) coef = ata.ldlt().solve(atb);
   if (!coef.allFinite()) coef.setZero();
   g.gradient_kms_per_arcsec = std::hypot(coef(1), coef(2));
+  if (n > 3 && g.gradient_kms_per_arcsec > 0) {
+    double ss = 0;
+    for (std::size_t i = 0; i < n; ++i) {
+      const double r = s.velocity[i] - (coef(0) + coef(1) * (s.east[i] - me) + coef(2) * (s.north[i] - mn));
+      ss += r * r;
+    }
+    const Eigen::Matrix3d cov = ata.inverse() * (ss / static_cast<double>(n - 3));
+    const Eigen::Vector2d dir(coef(1) / g.gradient_kms_per_arcsec, coef(2) / g.gradient_kms_per_arcsec);
+    const double var = dir.dot(cov.bottomRightCorner<2, 2>() * dir);
+    g.gradient_snr = var > 0 ? g.gradient_kms_per_arcsec / std::sqrt(var) : 0.0;
+  }
   if (g.gradient_kms_per_arcsec > 0) {
     g.pa_deg = wrap_pa_deg(std::atan2(coef(1), coef(2)) * 180.0 / std::numbers::pi);
   } else {

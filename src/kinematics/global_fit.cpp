@@ -220,7 +220,8 @@ GlobalFitSummary fit_global_rings(const VelocitySamples& s, const DiscGeometry& 
     std::vector<PixelGroup*> by_node(N, nullptr);
     for (std::size_t i = 0; i < n; ++i) {
       const SampleState st = disc_state(p, s.east[i], s.north[i]);
-      if (!(st.R > 0) || st.R > node_r[N] || std::abs(st.cos_t) < sin_wedge) continue;
+      if (!(st.R > opt.min_radius_arcsec) || st.R > node_r[N] || std::abs(st.cos_t) < sin_wedge)
+        continue;
       const int k = std::min(N - 1, static_cast<int>(st.R / w));
       new_bracket[i] = k;
       if (!by_node[k]) {

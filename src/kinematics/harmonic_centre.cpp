@@ -17,10 +17,24 @@ std::vector<HarmonicRing> expand_all(const VelocitySamples& s, const DiscGeometr
                                      const HarmonicCentreOptions& opt) {
   std::vector<HarmonicRing> rings;
   const double w = opt.ring_width_arcsec;
-  for (int k = 1; k * w <= opt.max_radius_arcsec + 1e-9; ++k) {
-    const double R = k * w;
-    rings.push_back(expand_ring(s, g, R, w, opt.expansion));
+  const int K = static_cast<int>(std::floor(opt.max_radius_arcsec / w + 1e-9));
+  // Bucket the samples by ring once (ring k covers [k w - w/2, k w + w/2)),
+  // so that each expansion sees only its own pixels.
+  std::vector<VelocitySamples> sub(K + 1);
+  const Angle pa = g.pa_deg * degrees, inc = g.inc_deg * degrees;
+  const double cp = pa.cos(), sp = pa.sin(), ci = inc.cos();
+  for (std::size_t i = 0; i < s.size(); ++i) {
+    const double de = s.east[i] - g.centre.east, dn = s.north[i] - g.centre.north;
+    const double X = de * sp + dn * cp, Y = (de * cp - dn * sp) / ci;
+    const int k = static_cast<int>(std::floor(std::hypot(X, Y) / w + 0.5));
+    if (k < 1 || k > K) continue;
+    VelocitySamples& b = sub[k];
+    b.east.push_back(s.east[i]);
+    b.north.push_back(s.north[i]);
+    b.velocity.push_back(s.velocity[i]);
+    b.sigma.push_back(s.sigma[i]);
   }
+  for (int k = 1; k <= K; ++k) rings.push_back(expand_ring(sub[k], g, k * w, w, opt.expansion));
   return rings;
 }
 

@@ -9,6 +9,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <numbers>
 #include <sstream>
 
 #include "fulcrum/core/error.hpp"
@@ -136,7 +137,8 @@ KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
   KinematicFit fit = fit_kinematics_samples(s, OffsetFrame(reference), velocity.wcs, options);
   fit.source = velocity.path;
   fit.notes.insert(fit.notes.begin(), notes.begin(), notes.end());
-  for (const auto& n : notes) note(n);
+  // Unit conversions change every number: a warning, not a note.
+  for (const auto& n : notes) warn(n);
   return fit;
 }
 
@@ -170,6 +172,18 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
     g.max_radius_arcsec = radius_quantile(s, g.centre, g.pa_deg, g.inc_deg, 0.98);
   if (opt.max_radius_arcsec) g.max_radius_arcsec = *opt.max_radius_arcsec;
   fit.guess = g;
+  if (g.gradient_snr / std::sqrt(d.correlation_factor) < opt.min_rotation_snr) {
+    refuse(fit, "no measurable rotation (the velocity gradient across the map is " +
+                    fmt(g.gradient_snr / std::sqrt(d.correlation_factor), 1) + " sigma, at least " +
+                    fmt(opt.min_rotation_snr, 1) + " needed)");
+    return fit;
+  }
+  if (!opt.inc_guess_deg && g.axis_ratio > std::cos(opt.min_inc_deg * std::numbers::pi / 180.0)) {
+    refuse(fit, "the disc is nearly face-on (footprint axis ratio " + fmt(g.axis_ratio, 3) +
+                    ", rounder than a disc inclined by " + fmt(opt.min_inc_deg, 1) +
+                    " deg; give --inc to override)");
+    return fit;
+  }
   if (opt.inc_guess_deg && *opt.inc_guess_deg < opt.min_inc_deg) {
     refuse(fit, "the disc is nearly face-on (inclination guess " + fmt(*opt.inc_guess_deg, 1) +
                     " deg, below " + fmt(opt.min_inc_deg, 1) + " deg)");
@@ -199,6 +213,7 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   GlobalFitOptions go;
   go.ring_width_arcsec = width;
   go.max_radius_arcsec = g.max_radius_arcsec;
+  go.min_radius_arcsec = s.beam ? opt.inner_exclusion_beams * s.beam->fwhm_arcsec() : 0.0;
   go.weight_power = opt.weight_power;
   go.wedge_deg = opt.wedge_deg;
   go.fit_radial = opt.fit_radial;

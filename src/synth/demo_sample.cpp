@@ -75,11 +75,14 @@ std::vector<MockGalaxy> demo_sample() {
   {
     MockGalaxy g = base("orrin-04", 104, 226.6401, 27.2733, 6977.0);
     g.pa_deg = 255.0; g.inc_deg = 58.0; g.vflat_kms = 160.0;
-    g.total_flux_jykms = 4.0; g.intensity_rms = 0.02; g.leading_excess = 0.12;
-    g.tail_pa_deg = 20.0; g.tail_flux_fraction = 0.05; g.velocity_noise_kms = 8.0;
-    g.hole_fraction = 0.05;
-    offset_towards(g, 75.0, 0.8);
-    g.description = "A faint disc with a weak leading excess: the sign is not secure given the noise.";
+    // Faint and noisy in the line map, but with a well-sampled velocity field
+    // (low velocity noise, velocities kept down to S/N 1) so that the centre
+    // is known well: the sign is then limited by the map noise, not the centre.
+    g.total_flux_jykms = 10.0; g.intensity_rms = 0.06; g.leading_excess = 0.18;
+    g.tail_pa_deg = 20.0; g.tail_flux_fraction = 0.03;
+    g.mask_snr = 1.0; g.velocity_noise_kms = 2.0; g.velocity_noise_floor_kms = 0.5;
+    g.description = "A faint, noisy line map with a modest leading excess: the centre is well known but the "
+                    "sign is not secure given the noise.";
     g.expected_verdict = "marginal";
     s.push_back(g);
   }
@@ -103,7 +106,7 @@ std::vector<MockGalaxy> demo_sample() {
     g.optical.grid.ny = 180;
     offset_towards(g, 290.0, 0.35);
     g.cube.enabled = true; g.cube.spectral_type = "FREQ"; g.cube.n_channels = 64;
-    g.cube.channel_width_kms = 12.0; g.cube.noise_rms = 0.003;
+    g.cube.channel_width_kms = 12.0; g.cube.noise_rms = 0.0006;
     g.description = "A clear leading excess observed on a rotated and flipped pixel grid (and as a "
                     "frequency cube): nothing may assume north is up.";
     g.expected_verdict = "robust";

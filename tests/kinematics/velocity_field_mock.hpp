@@ -41,6 +41,12 @@ struct VelocityMockSpec {
   Beam beam{2.0, 1.6, 20.0};
   bool smear = true;
   double noise_kms = 5.0;
+  // When true, the noise rms is noise_kms at the disc edge and falls inwards
+  // as 1 / (line S/N) with the exponential disc, sigma(R) = noise_kms *
+  // exp((R - disc_radius) / scale_length) (as a moment-1 map's error does),
+  // floored at noise_floor_kms.
+  bool snr_scaled_noise = false;
+  double noise_floor_kms = 0.5;
   double hole_fraction = 0.0;
   unsigned seed = 1;
 };
@@ -53,6 +59,12 @@ struct VelocityMock {
 
 inline double mock_vrot(const VelocityMockSpec& s, double R) {
   return s.vflat_kms * (2.0 / std::numbers::pi) * std::atan(R / s.r_turn_arcsec);
+}
+
+inline double noise_at(const VelocityMockSpec& s, double R) {
+  if (!s.snr_scaled_noise) return s.noise_kms;
+  return std::max(s.noise_floor_kms,
+                  s.noise_kms * std::exp((R - s.disc_radius_arcsec) / s.scale_length_arcsec));
 }
 
 inline CelestialWcs mock_wcs(const VelocityMockSpec& s) {
@@ -118,7 +130,7 @@ inline VelocityMock make_velocity_mock(const VelocityMockSpec& s) {
     double k2 = 0;
     for (double w : k) k2 += w * w;
     const double norm = 1.0 / std::sqrt(k2);
-    for (std::size_t i = 0; i < v.size(); ++i) v.data[i] += s.noise_kms * norm * sn[i];
+    for (std::size_t i = 0; i < v.size(); ++i) v.data[i] += noise_at(s, radius[i]) * norm * sn[i];
   }
   // Mask: outside the disc and in holes.
   const double nan = std::numeric_limits<double>::quiet_NaN();
@@ -141,9 +153,11 @@ inline VelocityMock make_velocity_mock(const VelocityMockSpec& s) {
         if ((off.at(x, y) - c).norm() < r) keep = false;
       if (!keep) v.data[i] = nan;
     }
-  m.velocity_error = v.like(s.noise_kms > 0 ? s.noise_kms : 1.0);
-  for (std::size_t i = 0; i < v.size(); ++i)
+  m.velocity_error = v.like(1.0);
+  for (std::size_t i = 0; i < v.size(); ++i) {
+    if (s.noise_kms > 0) m.velocity_error.data[i] = noise_at(s, radius[i]);
     if (!std::isfinite(v.data[i])) m.velocity_error.data[i] = nan;
+  }
   return m;
 }
 

@@ -1,6 +1,3 @@
-#define CATCH_CONFIG_MAIN
-#include <catch2/catch.hpp>
-
 #include "test_support.hpp"
 
 #include <atomic>

@@ -27,6 +27,10 @@ struct FirstGuess {
   double max_radius_arcsec = 0.0;
   double gradient_kms_per_arcsec = 0.0;  // size of the fitted plane's gradient
   double axis_ratio = 1.0;               // footprint b/a
+  // Size of the plane's gradient over its formal error (residual scatter
+  // about the plane, pixels taken as independent): divide by sqrt(eta) of
+  // covariance_scaling.hpp for correlated pixels.
+  double gradient_snr = 0.0;
 };
 
 FirstGuess first_guess(const VelocitySamples& samples);

@@ -44,6 +44,7 @@ struct DiscGeometry {
 struct GlobalFitOptions {
   double ring_width_arcsec = 1.0;   // node spacing (about half a beam)
   double max_radius_arcsec = 10.0;  // outer node is the last k * width <= this
+  double min_radius_arcsec = 0.0;   // pixels inside are left out (beam smearing)
   double weight_power = 1.0;        // k in |cos theta|^k
   double wedge_deg = 15.0;          // half-opening of the excluded wedge about the minor axis
   bool fit_radial = false;
@@ -54,8 +55,8 @@ struct GlobalFitOptions {
   double min_inc_deg = 5.0, max_inc_deg = 85.0;
   int max_passes = 6;
   int max_iterations = 100;         // per pass
-  double function_tolerance = 1e-12;
-  double parameter_tolerance = 1e-12;
+  double function_tolerance = 1e-20;  // effectively: stop on the parameter tolerance
+  double parameter_tolerance = 1e-14;
   double gradient_tolerance = 1e-14;
   bool record_problem = false;      // keep the last pass's problem (for cross-checks)
 };

@@ -51,6 +51,10 @@ struct KinematicOptions {
   std::optional<double> max_radius_arcsec;
   std::optional<double> ring_width_arcsec;  // overrides ring_width_beams
   double ring_width_beams = 0.5;
+  // The global fit leaves out pixels closer to the centre than this many
+  // beam FWHM, where beam smearing flattens the velocity gradient and biases
+  // the inclination (the centre stays unbiased by symmetry either way).
+  double inner_exclusion_beams = 0.0;
   // Hold parameters at their guesses.
   bool fix_centre = false, fix_pa = false, fix_inc = false, fix_vsys = false;
   double weight_power = 1.0;                // |cos theta|^k

@@ -65,7 +65,7 @@ struct CubeSpec {
   int n_channels = 64;
   double channel_width_kms = 10.0;
   double dispersion_kms = 12.0;      // intrinsic line width (Gaussian sigma)
-  double noise_rms = 0.002;          // Jy/beam per channel
+  double noise_rms = 0.0005;         // Jy/beam per channel (~ the line-map noise for a few channels)
   std::string spectral_type = "VRAD"; // VRAD, VOPT or FREQ
   double rest_frequency_hz = 230.538e9;
   bool reverse_channels = false;
