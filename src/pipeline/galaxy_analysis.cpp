@@ -4,6 +4,7 @@
 // __has_include), so that the pipeline builds at every step of the project;
 // a stage whose library is absent is reported as "missing", never faked.
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "fulcrum/calibration/from_report.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -587,6 +588,23 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
     if (statement.empty())
       statement = in.name + ": no verdict (undetermined): " + undetermined_reason + ".";
     rep["verdict_reason"] = undetermined_reason;
+  }
+  // ---- matched-mock calibration (calibration/calibration.hpp) ---------------------------
+  rep["calibration"] = nullptr;
+  if (opt.calibrate > 0 && verdict != "undetermined") {
+    try {
+      auto maps = calibration::load_maps(in);
+      calibration::CalibrationOptions co;
+      co.n_mocks = static_cast<std::size_t>(opt.calibrate);
+      co.seed = opt.seed;
+      auto cs = calibration::calibrate(calibration::matched_inputs_from_report(rep, in, maps, in.name), co);
+      rep["calibration"] = calibration::to_json(cs);
+      if (!statement.empty() && statement.back() == '.') statement.pop_back();
+      statement += "; " + cs.statement + ".";
+    } catch (const InputError& e) {
+      rep["calibration"] = {{"status", "failed"}, {"reason", e.what()}};
+      r.notes.push_back(std::string("calibration failed: ") + e.what());
+    }
   }
   rep["verdict"] = verdict;
   rep["statement"] = statement;

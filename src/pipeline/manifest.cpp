@@ -174,7 +174,7 @@ SampleManifest parse_manifest(const std::string& text, const std::string& path) 
       auto* t = node.as_table();
       if (!t) fail(c, line_of(node), "'sample' must be a table: [sample]");
       static const std::set<std::string> keys = [] {
-        std::set<std::string> s = {"name", "seed", "draws", "description"};
+        std::set<std::string> s = {"name", "seed", "draws", "calibrate", "description"};
         s.insert(kMolecularKeys.begin(), kMolecularKeys.end());
         return s;
       }();
@@ -192,6 +192,10 @@ SampleManifest parse_manifest(const std::string& text, const std::string& path) 
           auto v = get_integer(c, sn, skey);
           if (v < 100 || v > 100000000) fail(c, line_of(sn), "draws must be between 100 and 1e8");
           m.draws = static_cast<int>(v);
+        } else if (skey == "calibrate") {
+          auto v = get_integer(c, sn, skey);
+          if (v < 0 || v > 100000) fail(c, line_of(sn), "calibrate must be between 0 and 100000 mocks");
+          m.calibrate = static_cast<int>(v);
         } else {
           read_molecular(c, skey, sn, defaults);
         }

@@ -199,6 +199,14 @@ report::Table robustness_table(const std::vector<json>& reports) {
     t.add_int("draws", "", "Bootstrap draws [report.json: robustness.draws]", draws);
     t.add_int("seed", "", "Seed of the galaxy's random generator [report.json: robustness.seed]", seeds);
   }
+  {
+    bool calibrated = false;
+    for (const auto& r : reports) calibrated = calibrated || (r.contains("calibration") && r["calibration"].is_object());
+    if (calibrated) {
+      floats("false_robust_rate", "", "Matched symmetric mocks called robust or reversed", "calibration.false_robust_rate", 3);
+      floats("recovery_rate", "", "Matched mocks with the measured A called robust", "calibration.recovery_rate", 3);
+    }
+  }
   strings("reason", "Why the verdict is undetermined (empty otherwise) [report.json: verdict_reason]",
           [](const json& r) { return get_str(r, "verdict_reason"); });
   // Common flux unit: put it on the flux columns.
@@ -344,6 +352,28 @@ void write_sample_products(const std::string& out_dir, std::vector<json> reports
   for (const auto& r : reports)
     sj["galaxies"].push_back({{"galaxy", get_str(r, "galaxy")}, {"verdict", get_str(r, "verdict")},
                               {"report", get_str(r, "galaxy") + "/report.json"}});
+  {
+    // Expected number of false robust (or reversed) galaxies: the sum of the
+    // calibrated false-robust rates, beside the number observed.
+    double expected = 0.0, var = 0.0;
+    std::size_t n_cal = 0, observed = 0;
+    for (const auto& r : reports) {
+      if (!r.contains("calibration") || !r["calibration"].is_object()) continue;
+      const double fr = get_num(r, "calibration.false_robust_rate");
+      if (!std::isfinite(fr)) continue;
+      const double e = get_num(r, "calibration.false_robust.err");
+      expected += fr;
+      var += std::isfinite(e) ? e * e : 0.0;
+      ++n_cal;
+      const std::string v = get_str(r, "verdict");
+      observed += (v == "robust" || v == "reversed") ? 1 : 0;
+    }
+    if (n_cal > 0)
+      sj["calibration"] = {{"galaxies_calibrated", n_cal},
+                           {"expected_false_robust", expected},
+                           {"expected_false_robust_err", std::sqrt(var)},
+                           {"observed_robust_or_reversed", observed}};
+  }
   write_text_file((dir / "sample.json").string(), dump_json(sj));
 
   // report.html
@@ -389,6 +419,7 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
     AnalysisOptions ao;
     ao.seed = galaxy_seed(o.seed.value_or(manifest.seed), g);
     ao.draws = o.draws.value_or(manifest.draws);
+    ao.calibrate = manifest.calibrate;
     ao.figures = o.figures;
     GalaxyResult res;
     try {

@@ -37,6 +37,7 @@ struct AnalysisOptions {
   bool figures = true;
   double error_ellipse_sigma = 2.0;   // figures draw centre errors at this many sigma
   int figure_grid = 160;              // resampled sky-map size (pixels per side, at most)
+  int calibrate = 0;                  // matched mocks per set for calibration/ (0: none)
 };
 
 struct FigureFile {

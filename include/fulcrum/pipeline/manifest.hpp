@@ -5,6 +5,7 @@
 //   name = "..."          # free text
 //   seed = 7              # optional; default 1
 //   draws = 20000         # optional; bootstrap draws per galaxy
+//   calibrate = 0         # optional; matched mocks per set for each galaxy (0: none)
 //   [[galaxy]]
 //   name = "..."
 //   velocity = "g1/vel.fits"
@@ -66,6 +67,7 @@ struct SampleManifest {
   std::string name;
   std::uint64_t seed = 1;
   int draws = 20000;
+  int calibrate = 0;            // matched mocks per set (calibration/), 0: none
   std::vector<GalaxyInput> galaxies;
 };
 

@@ -1,0 +1,409 @@
+// Matched-mock calibration of the split/robustness analysis (see
+// include/fulcrum/calibration/calibration.hpp for the model and conventions).
+#include "fulcrum/calibration/calibration.hpp"
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <numbers>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/core/log.hpp"
+#include "fulcrum/imaging/gaussian_smooth.hpp"
+#include "fulcrum/kinematics/kinematic_fit.hpp"
+#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/sky/ellipse.hpp"
+#include "fulcrum/sky/pixel_offsets.hpp"
+
+namespace fulcrum::calibration {
+
+using nlohmann::json;
+
+namespace {
+
+constexpr double kDeg = std::numbers::pi / 180.0;
+
+std::uint64_t splitmix(std::uint64_t x) {
+  x += 0x9e3779b97f4a7c15ull;
+  x = (x ^ (x >> 30)) * 0xbf58476d1ce4e5b9ull;
+  x = (x ^ (x >> 27)) * 0x94d049bb133111ebull;
+  return x ^ (x >> 31);
+}
+
+Rate make_rate(std::size_t k, std::size_t n) {
+  Rate r;
+  r.k = k;
+  r.n = n;
+  if (n > 0) {
+    r.rate = static_cast<double>(k) / static_cast<double>(n);
+    r.err = std::sqrt(r.rate * (1.0 - r.rate) / static_cast<double>(n));
+  }
+  return r;
+}
+
+double interp_vrot(const MatchedInputs& in, double r) {
+  const auto& R = in.ring_radius_arcsec;
+  const auto& V = in.ring_vrot_kms;
+  if (r <= R.front()) return R.front() > 0 ? V.front() * r / R.front() : V.front();
+  if (r >= R.back()) return V.back();
+  auto it = std::upper_bound(R.begin(), R.end(), r);
+  std::size_t j = static_cast<std::size_t>(it - R.begin());
+  double t = (r - R[j - 1]) / (R[j] - R[j - 1]);
+  return V[j - 1] + t * (V[j] - V[j - 1]);
+}
+
+// Unit-variance Gaussian noise correlated over the beam.
+std::vector<double> correlated_noise(const Image& grid, const Eigen::Matrix2d& jac,
+                                     robustness::Generator& g) {
+  std::vector<double> w(grid.size());
+  for (double& v : w) v = g.normal();
+  if (!grid.beam) return w;
+  Beam k{grid.beam->bmaj_arcsec / std::numbers::sqrt2, grid.beam->bmin_arcsec / std::numbers::sqrt2,
+         grid.beam->bpa_deg};
+  std::vector<double> s = convolve_gaussian(w, grid.nx, grid.ny, pixel_covariance(k, jac));
+  double ss = 0.0;
+  for (double v : s) ss += v * v;
+  const double sd = std::sqrt(ss / static_cast<double>(s.size()));
+  if (sd > 0)
+    for (double& v : s) v /= sd;
+  return s;
+}
+
+split::SplitSummary split_truth(const Image& model, const MatchedInputs& in) {
+  split::SplitOptions so;
+  so.centre = in.centre;
+  so.tail_pa_deg = in.tail_pa_deg;
+  so.aperture = in.aperture;
+  return split::split_halves(model, so);
+}
+
+}  // namespace
+
+std::uint64_t mock_seed(std::uint64_t seed, int set, std::size_t k) {
+  return splitmix(splitmix(seed ^ 0x63616c6962ull) + static_cast<std::uint64_t>(set) * 0x100000001ull +
+                  static_cast<std::uint64_t>(k) * 2 + 1);
+}
+
+double RadialProfile::value(double r) const {
+  if (mean.empty() || r < 0) return 0.0;
+  if (r <= radius_arcsec.front()) return mean.front();
+  if (r >= radius_arcsec.back() + 0.5 * bin_arcsec) return 0.0;
+  if (r >= radius_arcsec.back()) return mean.back();
+  double f = (r - radius_arcsec.front()) / bin_arcsec;
+  std::size_t j = static_cast<std::size_t>(f);
+  double t = f - static_cast<double>(j);
+  return mean[j] + t * (mean[j + 1] - mean[j]);
+}
+
+RadialProfile gas_profile(const Image& intensity, WorldCoord centre, double pa_deg, double inc_deg,
+                          double bin_arcsec) {
+  if (!(bin_arcsec > 0)) throw InputError(intensity.path, "the profile bin width must be positive");
+  PixelOffsets off(intensity, centre);
+  const Angle pa = pa_deg * degrees, inc = inc_deg * degrees;
+  std::vector<double> sum, cnt;
+  for (int y = 0; y < intensity.ny; ++y)
+    for (int x = 0; x < intensity.nx; ++x) {
+      const double v = intensity.at(x, y);
+      if (!std::isfinite(v)) continue;
+      DiscPoint d = disc_coordinates(off.at(x, y), SkyOffset{0, 0}, pa, inc);
+      std::size_t b = static_cast<std::size_t>(d.radius_arcsec / bin_arcsec);
+      if (b >= sum.size()) sum.resize(b + 1, 0.0), cnt.resize(b + 1, 0.0);
+      sum[b] += v;
+      cnt[b] += 1.0;
+    }
+  RadialProfile p;
+  p.bin_arcsec = bin_arcsec;
+  for (std::size_t b = 0; b < sum.size(); ++b) {
+    p.radius_arcsec.push_back((static_cast<double>(b) + 0.5) * bin_arcsec);
+    p.mean.push_back(cnt[b] > 0 ? sum[b] / cnt[b] : std::nan(""));
+  }
+  // Fill empty bins from the nearest filled neighbour inside.
+  for (std::size_t b = 0; b < p.mean.size(); ++b)
+    if (!std::isfinite(p.mean[b])) p.mean[b] = b > 0 ? p.mean[b - 1] : 0.0;
+  // Trim the outer bins that average to nothing above zero.
+  while (!p.mean.empty() && p.mean.back() <= 0) p.mean.pop_back(), p.radius_arcsec.pop_back();
+  return p;
+}
+
+Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile, double e) {
+  const Image& real = *in.intensity;
+  Image m = real.like(0.0);
+  m.path = "mock of " + (real.path.empty() ? in.galaxy : real.path);
+  PixelOffsets off(real, in.centre);
+  const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
+  const double phi_lead = (in.tail_pa_deg + 180.0) * kDeg;
+  for (int y = 0; y < real.ny; ++y)
+    for (int x = 0; x < real.nx; ++x) {
+      if (!std::isfinite(real.at(x, y))) {
+        m.at(x, y) = std::nan("");
+        continue;
+      }
+      SkyOffset o = off.at(x, y);
+      DiscPoint d = disc_coordinates(o, SkyOffset{0, 0}, pa, inc);
+      const double phi = std::atan2(o.east, o.north);
+      m.at(x, y) = profile.value(d.radius_arcsec) * (1.0 + e * std::cos(phi - phi_lead));
+    }
+  return m;
+}
+
+CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& opt) {
+  const auto t0 = std::chrono::steady_clock::now();
+  const std::string who = in.galaxy;
+  if (!in.intensity) throw InputError(who, "calibration needs the intensity map");
+  const Image& real = *in.intensity;
+  if (!real.beam) throw InputError(real.path.empty() ? who : real.path, "calibration needs the beam (BMAJ/BMIN)");
+  if (!in.intensity_error && !(in.rms > 0))
+    throw InputError(who, "calibration needs the map noise (an error map or an rms)");
+  if (in.ring_radius_arcsec.empty() || in.ring_radius_arcsec.size() != in.ring_vrot_kms.size())
+    throw InputError(who, "calibration needs the rotation curve (ring radii and velocities)");
+  if (opt.n_mocks == 0) throw InputError(who, "the number of mocks must be positive");
+  if (in.intensity_error && (in.intensity_error->nx != real.nx || in.intensity_error->ny != real.ny))
+    throw InputError(in.intensity_error->path, "is not on the grid of the intensity map");
+  const bool refit = opt.refit_centre && in.velocity != nullptr;
+
+  const RadialProfile profile =
+      gas_profile(real, in.centre, in.pa_deg, in.inc_deg, opt.profile_bin_beams * real.beam->fwhm_arcsec());
+  if (profile.mean.empty()) throw InputError(who, "the intensity map has no positive gas profile");
+
+  CalibrationSummary s;
+  s.galaxy = who;
+  s.n_mocks = opt.n_mocks;
+  s.seed = opt.seed;
+  s.target_asymmetry = in.measured_asymmetry;
+
+  // Tune e so that the noise-free mock has the measured A (secant steps;
+  // A(e) is close to linear, A ~ (2/pi) e for a pure cos term on a half).
+  const Image sym_model = mock_intensity_model(in, profile, 0.0);
+  const double a_sym = split_truth(sym_model, in).asymmetry;
+  double e0 = 0.0, f0 = a_sym - in.measured_asymmetry;
+  double e1 = std::clamp(0.5 * std::numbers::pi * in.measured_asymmetry, -0.99, 0.99);
+  double f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - in.measured_asymmetry;
+  for (int it = 0; it < opt.secant_steps && std::abs(f1) > 1e-9 && f1 != f0; ++it) {
+    double e2 = std::clamp(e1 - f1 * (e1 - e0) / (f1 - f0), -0.999, 0.999);
+    e0 = e1, f0 = f1, e1 = e2;
+    f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - in.measured_asymmetry;
+  }
+  s.lopsided_amplitude = e1;
+  const Image lop_model = mock_intensity_model(in, profile, e1);
+  s.achieved_asymmetry = split_truth(lop_model, in).asymmetry;
+  const double a_lop = s.achieved_asymmetry;
+
+  PixelOffsets off(real, in.centre);
+  const Eigen::Matrix2d jac = off.jacobian();
+  const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
+  // Velocity model (noise-free), on the velocity grid.
+  std::optional<Image> vel_model;
+  std::optional<PixelOffsets> voff;
+  if (refit) {
+    const Image& v = *in.velocity;
+    vel_model = v.like(0.0);
+    voff.emplace(v, in.centre);
+    for (int y = 0; y < v.ny; ++y)
+      for (int x = 0; x < v.nx; ++x) {
+        DiscPoint d = disc_coordinates(voff->at(x, y), SkyOffset{0, 0}, pa, inc);
+        vel_model->at(x, y) = in.vsys_kms + interp_vrot(in, d.radius_arcsec) * std::sin(inc.rad()) * d.cos_theta;
+      }
+  }
+
+  const std::size_t N = opt.n_mocks;
+  s.symmetric.assign(N, {});
+  s.lopsided.assign(N, {});
+  Progress progress("calibration mocks", 2 * N);
+  const long total = static_cast<long>(2 * N);
+
+#pragma omp parallel for schedule(dynamic, 1)
+  for (long task = 0; task < total; ++task) {
+    const int set = task < static_cast<long>(N) ? 0 : 1;
+    const std::size_t k = static_cast<std::size_t>(set == 0 ? task : task - static_cast<long>(N));
+    MockOutcome& out = set == 0 ? s.symmetric[k] : s.lopsided[k];
+    out.seed = mock_seed(opt.seed, set, k);
+    out.true_asymmetry = set == 0 ? a_sym : a_lop;
+    try {
+      robustness::Generator g(out.seed);
+      // Line map: model + beam-correlated noise.
+      Image map = set == 0 ? sym_model : lop_model;
+      std::vector<double> n = correlated_noise(real, jac, g);
+      for (std::size_t i = 0; i < map.size(); ++i) {
+        if (!std::isfinite(map.data[i])) continue;
+        const double sig = in.intensity_error ? in.intensity_error->data[i] : in.rms;
+        map.data[i] += (std::isfinite(sig) ? sig : 0.0) * n[i];
+      }
+      // The kinematic centre.
+      robustness::AnalysisOptions ao;
+      ao.galaxy = in.galaxy + " mock";
+      ao.adopted.name = "kinematic-rings";
+      ao.adopted.position = in.centre;
+      ao.adopted.covariance = in.centre_covariance;
+      const bool do_refit = refit && (opt.refit_every <= 1 || k % opt.refit_every == 0);
+      out.centre_refitted = do_refit;
+      out.centre_fit_ok = true;
+      if (do_refit) {
+        Image vel = *vel_model;
+        for (std::size_t i = 0; i < vel.size(); ++i) {
+          if (!std::isfinite(in.velocity->data[i])) {
+            vel.data[i] = std::nan("");
+            continue;
+          }
+          double sig = in.velocity_error ? in.velocity_error->data[i] : in.velocity_noise_kms;
+          if (!std::isfinite(sig)) sig = in.velocity_noise_kms;
+          vel.data[i] += sig * g.normal();
+        }
+        kinematics::KinematicOptions ko;
+        ko.method = kinematics::Method::rings;
+        ko.ring_by_ring = false;
+        ko.pa_guess_deg = in.pa_deg;
+        ko.inc_guess_deg = in.inc_deg;
+        ko.vsys_guess_kms = in.vsys_kms;
+        auto fit = kinematics::fit_kinematics(vel, in.velocity_error, ko);
+        if (fit.status == "ok" && fit.centre) {
+          ao.adopted.position = fit.centre->world;
+          ao.adopted.covariance = fit.centre->covariance;
+          const SkyOffset d = OffsetFrame(fit.centre->world).to_offset(in.centre);
+          Eigen::Vector2d dv(d.east, d.north);
+          const Eigen::Matrix2d& C = fit.centre->covariance;
+          out.centre_mahalanobis = C.determinant() > 0 ? std::sqrt(dv.dot(C.inverse() * dv)) : INFINITY;
+        } else {
+          out.centre_fit_ok = false;
+          ao.failures.push_back("the kinematic fit " + fit.status + " (" + fit.reason + ")");
+        }
+      }
+      // Photometric centres: truth + their real offsets, scattered by their own errors.
+      const OffsetFrame truth(in.centre);
+      for (const auto& p : in.photometric) {
+        Eigen::Matrix2d C = p.covariance;
+        Eigen::Vector2d z(g.normal(), g.normal());
+        Eigen::Vector2d dz = Eigen::Vector2d::Zero();
+        if (C.determinant() > 0) dz = Eigen::Matrix2d(C.llt().matrixL()) * z;
+        robustness::WorldCentre w;
+        w.name = p.name;
+        w.position = truth.to_world(SkyOffset{p.offset.east + dz(0), p.offset.north + dz(1)});
+        w.covariance = C;
+        w.weight = p.weight;
+        ao.estimates.push_back(w);
+      }
+      ao.tail_pa_deg = in.tail_pa_deg;
+      ao.tail_pa_err_deg = in.tail_pa_err_deg;
+      ao.aperture = in.aperture;
+      ao.rms = in.rms;
+      ao.error_map = in.intensity_error;
+      ao.seed = splitmix(out.seed ^ 0x626f6f74ull);
+      ao.n_draws = opt.n_draws;
+      ao.verdict = opt.verdict;
+      auto a = robustness::analyse(map, ao);
+      out.verdict = robustness::verdict_name(a.verdict.verdict);
+      out.measured_asymmetry = a.split.asymmetry;
+      out.lo68 = a.bootstrap.lo68, out.hi68 = a.bootstrap.hi68;
+      out.lo95 = a.bootstrap.lo95, out.hi95 = a.bootstrap.hi95;
+    } catch (const std::exception& ex) {
+      out.verdict = std::string("error: ") + ex.what();
+      out.measured_asymmetry = std::nan("");
+    }
+#pragma omp critical(calibration_progress)
+    progress.advance();
+  }
+  progress.finish();
+
+  // Summaries (serial, in mock order).
+  std::size_t fr = 0, rec = 0, c68 = 0, c95 = 0, nint = 0, cc = 0, ncc = 0;
+  double sb = 0, sbb = 0, ss = 0, sss = 0;
+  std::size_t nb = 0, ns = 0;
+  auto tally = [&](const MockOutcome& o) {
+    if (!std::isfinite(o.measured_asymmetry)) return;
+    ++nint;
+    if (o.lo68 <= o.true_asymmetry && o.true_asymmetry <= o.hi68) ++c68;
+    if (o.lo95 <= o.true_asymmetry && o.true_asymmetry <= o.hi95) ++c95;
+    if (o.centre_refitted) {
+      if (!o.centre_fit_ok) {
+        ++s.centre_fit_failures;
+      } else {
+        ++ncc;
+        if (o.centre_mahalanobis <= 2.0) ++cc;
+      }
+    }
+  };
+  for (const auto& o : s.symmetric) {
+    if (o.verdict == "robust" || o.verdict == "reversed") ++fr;
+    tally(o);
+    if (std::isfinite(o.measured_asymmetry)) {
+      double d = o.measured_asymmetry - o.true_asymmetry;
+      ss += d, sss += d * d, ++ns;
+    }
+  }
+  for (const auto& o : s.lopsided) {
+    if (o.verdict == "robust") ++rec;
+    tally(o);
+    if (std::isfinite(o.measured_asymmetry)) {
+      double d = o.measured_asymmetry - o.true_asymmetry;
+      sb += d, sbb += d * d, ++nb;
+    }
+  }
+  auto mean_err = [](double sum, double sum2, std::size_t n, double* m, double* e) {
+    if (n == 0) {
+      *m = *e = std::nan("");
+      return;
+    }
+    *m = sum / static_cast<double>(n);
+    const double var = n > 1 ? (sum2 - static_cast<double>(n) * *m * *m) / static_cast<double>(n - 1) : 0.0;
+    *e = std::sqrt(std::max(0.0, var) / static_cast<double>(n));
+  };
+  s.false_robust = make_rate(fr, N);
+  s.recovery = make_rate(rec, N);
+  mean_err(sb, sbb, nb, &s.bias, &s.bias_err);
+  mean_err(ss, sss, ns, &s.bias_symmetric, &s.bias_symmetric_err);
+  s.coverage68 = make_rate(c68, nint);
+  s.coverage95 = make_rate(c95, nint);
+  s.centre_coverage = make_rate(cc, ncc);
+  s.centre_coverage_expected = 1.0 - std::exp(-2.0);
+  char buf[256];
+  std::snprintf(buf, sizeof buf,
+                "a symmetric disc with these data is called robust or reversed in %.1f%% (+- %.1f%%) of %zu "
+                "matched mocks, and a disc with the measured A = %.3f is called robust in %.1f%%",
+                100.0 * s.false_robust.rate, 100.0 * s.false_robust.err, N, a_lop, 100.0 * s.recovery.rate);
+  s.statement = buf;
+  s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
+  return s;
+}
+
+namespace {
+json rate_json(const Rate& r) { return {{"k", r.k}, {"n", r.n}, {"rate", r.rate}, {"err", r.err}}; }
+json num(double v) { return std::isfinite(v) ? json(v) : json(nullptr); }
+}  // namespace
+
+json to_json(const CalibrationSummary& s, bool per_mock) {
+  json j = {{"n_mocks", s.n_mocks},
+            {"seed", s.seed},
+            {"lopsided_amplitude", num(s.lopsided_amplitude)},
+            {"target_asymmetry", num(s.target_asymmetry)},
+            {"achieved_asymmetry", num(s.achieved_asymmetry)},
+            {"false_robust", rate_json(s.false_robust)},
+            {"false_robust_rate", s.false_robust.rate},
+            {"recovery", rate_json(s.recovery)},
+            {"recovery_rate", s.recovery.rate},
+            {"asymmetry_bias", num(s.bias)},
+            {"asymmetry_bias_err", num(s.bias_err)},
+            {"asymmetry_bias_symmetric", num(s.bias_symmetric)},
+            {"asymmetry_bias_symmetric_err", num(s.bias_symmetric_err)},
+            {"coverage68", rate_json(s.coverage68)},
+            {"coverage95", rate_json(s.coverage95)},
+            {"centre_coverage_2sigma", rate_json(s.centre_coverage)},
+            {"centre_coverage_expected", s.centre_coverage_expected},
+            {"centre_fit_failures", s.centre_fit_failures},
+            {"statement", s.statement}};
+  if (per_mock) {
+    auto list = [](const std::vector<MockOutcome>& v) {
+      json a = json::array();
+      for (const auto& o : v)
+        a.push_back({{"seed", o.seed}, {"verdict", o.verdict}, {"true_asymmetry", num(o.true_asymmetry)},
+                     {"asymmetry", num(o.measured_asymmetry)}, {"ci68", {num(o.lo68), num(o.hi68)}},
+                     {"ci95", {num(o.lo95), num(o.hi95)}}, {"centre_refitted", o.centre_refitted},
+                     {"centre_fit_ok", o.centre_fit_ok}, {"centre_mahalanobis", num(o.centre_mahalanobis)}});
+      return a;
+    };
+    j["symmetric_mocks"] = list(s.symmetric);
+    j["lopsided_mocks"] = list(s.lopsided);
+  }
+  return j;
+}
+
+}  // namespace fulcrum::calibration
