@@ -261,7 +261,7 @@ std::string asymmetry_plane_figure(const AsymmetryPlaneFigure& f) {
 }
 
 std::string flip_angle_figure(const FlipAngleFigure& f) {
-  Svg svg(620, 410, f.galaxy + ": flip distance against split angle");
+  Svg svg(620, 420, f.galaxy + ": flip distance against split angle");
   Axes ax;
   ax.left = 72; ax.top = 40; ax.width = 500; ax.height = 300;
   double amin = f.angle_deg.empty() ? f.nominal_deg - 30 : *std::min_element(f.angle_deg.begin(), f.angle_deg.end());
@@ -312,7 +312,8 @@ std::string flip_angle_figure(const FlipAngleFigure& f) {
   svg.end_clip();
   ax.draw(svg, "split angle: tail PA (deg)", "flip distance (arcsec)",
           f.galaxy + ": how far the centre must move to reverse A");
-  double y = 370;
+  // Below the x-axis label (baseline near y = 372).
+  double y = 388;
   svg.text({72, y + 4}, "blue: flip distance; red dashed: distance of the farthest plausible centre;", 10.5, "start", 0,
            "#444444");
   svg.text({72, y + 18}, "grey dotted: beam FWHM; shaded: tail PA \u00b1 its error; dotted vertical: nominal tail PA",

@@ -5,6 +5,7 @@
 #include <charconv>
 #include <cmath>
 #include <cstdio>
+#include <cstring>
 #include <sstream>
 
 #include "fulcrum/core/error.hpp"
@@ -91,10 +92,13 @@ std::string yaml_quote(const std::string& s) {
   return out + "'";
 }
 
-std::string ecsv_string(const std::string& s) {
-  bool need = s.empty();
+// Double-quoted field with quotes doubled and newlines folded to spaces,
+// when `s` holds any of `specials` (or is empty and `quote_empty`); else as is.
+// ECSV's data lines and CSV (RFC 4180) share this rule.
+std::string quote_field(const std::string& s, const char* specials, bool quote_empty) {
+  bool need = quote_empty && s.empty();
   for (char ch : s)
-    if (ch == ' ' || ch == '"' || ch == '\t' || ch == '#' || ch == ',') need = true;
+    if (ch != '\0' && std::strchr(specials, ch) != nullptr) need = true;
   if (!need) return s;
   std::string out = "\"";
   for (char ch : s) {
@@ -105,19 +109,8 @@ std::string ecsv_string(const std::string& s) {
   return out + "\"";
 }
 
-std::string csv_string(const std::string& s) {
-  bool need = false;
-  for (char ch : s)
-    if (ch == ',' || ch == '"' || ch == '\n' || ch == '#') need = true;
-  if (!need) return s;
-  std::string out = "\"";
-  for (char ch : s) {
-    if (ch == '"') out += "\"\"";
-    else if (ch == '\n') out += ' ';
-    else out += ch;
-  }
-  return out + "\"";
-}
+std::string ecsv_string(const std::string& s) { return quote_field(s, " \"\t#,", true); }
+std::string csv_string(const std::string& s) { return quote_field(s, ",\"\n#", false); }
 
 std::string cell_exact(const Column& c, std::size_t row) {
   switch (c.values.index()) {
