@@ -289,6 +289,7 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
       ao.error_map = in.intensity_error;
       ao.seed = splitmix(out.seed ^ 0x626f6f74ull);
       ao.n_draws = opt.n_draws;
+      ao.bootstrap_estimates = opt.bootstrap_from_estimates;
       ao.verdict = opt.verdict;
       auto a = robustness::analyse(map, ao);
       out.verdict = robustness::verdict_name(a.verdict.verdict);

@@ -21,6 +21,7 @@ struct AnalyseArgs {
   std::uint64_t seed = 1;
   int draws = 20000;
   int calibrate = 0;
+  std::string bootstrap_centres = "adopted";
   bool no_figures = false;
   std::string out;
 };
@@ -66,6 +67,7 @@ void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
   o.figures = !a.no_figures;
   if (a.calibrate < 0) throw InputError("", "--calibrate must be 0 or more mocks");
   o.calibrate = a.calibrate;
+  o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a.bootstrap_centres);
   note("analysing " + in.name);
   auto r = pipeline::analyse_galaxy(in, o);
   pipeline::write_galaxy_outputs(r, a.out);
@@ -106,6 +108,9 @@ FULCRUM_SUBCOMMAND(analyse, 70, [](CLI::App& app) {
   cmd->add_option("--co-ratio-21", a->ratio21, "CO(2-1)/CO(1-0) ratio for 2-1 maps (default 0.65)");
   cmd->add_option("--redshift", a->redshift, "Redshift for the line luminosity (default: vsys/c)");
   cmd->add_option("--calibrate", a->calibrate, "Matched mocks per set for the calibration of the verdict (default 0: none)");
+  cmd->add_option("--bootstrap-centres", a->bootstrap_centres,
+                  "Where bootstrap centres come from: adopted (default; the adopted centre and its covariance) or "
+                  "all-estimates (also every other centre estimate)");
   cmd->add_flag("--no-figures", a->no_figures, "Skip the figures");
   cmd->add_option("--out", a->out, "Output folder")->required();
   cmd->callback([a, cmd] { run_analyse(*a, cmd); });

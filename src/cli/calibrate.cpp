@@ -77,6 +77,8 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
   co.n_draws = a.mock_draws;
   co.refit_centre = !a.no_refit;
   co.refit_every = a.refit_every;
+  co.bootstrap_from_estimates = report.contains("robustness") && report["robustness"].is_object() &&
+                                report["robustness"].value("centre_draws", "adopted") == "all-estimates";
   auto s = calibration::calibrate(mi, co);
   nlohmann::json j = calibration::to_json(s, a.per_mock);
   j["galaxy"] = s.galaxy;

@@ -14,6 +14,7 @@ struct RunArgs {
   std::vector<std::string> only;
   int threads = 0, draws = 0;
   std::uint64_t seed = 0;
+  std::string bootstrap_centres = "adopted";
   bool no_figures = false;
 };
 }  // namespace
@@ -29,6 +30,8 @@ FULCRUM_SUBCOMMAND(run, 80, [](CLI::App& app) {
   cmd->add_option("--threads", a->threads, "Galaxies analysed at once (default: all cores)");
   cmd->add_option("--draws", a->draws, "Bootstrap draws per galaxy (overrides the manifest)");
   cmd->add_option("--seed", a->seed, "Sample seed (overrides the manifest)");
+  cmd->add_option("--bootstrap-centres", a->bootstrap_centres,
+                  "Where bootstrap centres come from: adopted (default) or all-estimates");
   cmd->add_flag("--no-figures", a->no_figures, "Skip the figures");
   cmd->callback([a, cmd] {
     using namespace fulcrum;
@@ -46,6 +49,7 @@ FULCRUM_SUBCOMMAND(run, 80, [](CLI::App& app) {
       o.draws = a->draws;
     }
     if (cmd->count("--seed")) o.seed = a->seed;
+    o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a->bootstrap_centres);
     auto s = pipeline::run_sample(m, o);
     std::cout << pipeline::summary_text(s.reports) << "\nreport: " << s.html_path << "\n";
   });

@@ -48,35 +48,51 @@ std::vector<double> convolve_gaussian(const std::vector<double>& data, int nx, i
     }
   for (double& w : k) w /= ksum;
 
-  std::vector<double> out(data.size(), 0.0);
+  // Missing pixels as value 0 and weight 0: adding w * 0 leaves a sum as it
+  // was, so this equals skipping them. Each output pixel accumulates its taps
+  // in the fixed order (dy, dx ascending), but a whole row of output pixels
+  // is advanced tap by tap, which keeps the per-pixel sums bit for bit those
+  // of a pixel-by-pixel loop while letting the compiler vectorise along x.
+  const std::size_t n = data.size();
+  std::vector<double> v0(n), m0(n);
+  for (std::size_t i = 0; i < n; ++i) {
+    const bool ok = std::isfinite(data[i]);
+    v0[i] = ok ? data[i] : 0.0;
+    m0[i] = ok ? 1.0 : 0.0;
+  }
+  std::vector<double> out(n, 0.0);
 #pragma omp parallel for schedule(static)
   for (int y = 0; y < ny; ++y) {
+    std::vector<double> s(static_cast<std::size_t>(nx), 0.0), wsum(static_cast<std::size_t>(nx), 0.0);
+    for (int dy = -hy; dy <= hy; ++dy) {
+      const int yy = y - dy;
+      if (yy < 0 || yy >= ny) continue;
+      const double* krow = &k[static_cast<std::size_t>(kw) * (dy + hy)];
+      const double* vrow = &v0[static_cast<std::size_t>(nx) * yy];
+      const double* mrow = &m0[static_cast<std::size_t>(nx) * yy];
+      for (int dx = -hx; dx <= hx; ++dx) {
+        const double w = krow[dx + hx];
+        if (w == 0.0) continue;  // beyond the kernel's cut: adds nothing
+        // Output x reads input x - dx, which must lie on the grid.
+        const int xa = std::max(0, dx), xb = std::min(nx, nx + dx);
+        double* sp = s.data();
+        double* wp = wsum.data();
+        for (int x = xa; x < xb; ++x) {
+          sp[x] += w * vrow[x - dx];
+          wp[x] += w * mrow[x - dx];
+        }
+      }
+    }
     for (int x = 0; x < nx; ++x) {
       const std::size_t i = static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y;
       if (!std::isfinite(data[i]) && !opt.fill_missing) {
         out[i] = data[i];
         continue;
       }
-      double s = 0.0, wsum = 0.0;
-      for (int dy = -hy; dy <= hy; ++dy) {
-        const int yy = y - dy;
-        if (yy < 0 || yy >= ny) continue;
-        const double* krow = &k[static_cast<std::size_t>(kw) * (dy + hy)];
-        const double* drow = &data[static_cast<std::size_t>(nx) * yy];
-        for (int dx = -hx; dx <= hx; ++dx) {
-          const int xx = x - dx;
-          if (xx < 0 || xx >= nx) continue;
-          const double v = drow[xx];
-          if (!std::isfinite(v)) continue;
-          const double w = krow[dx + hx];
-          s += w * v;
-          wsum += w;
-        }
-      }
       if (opt.normalise_missing)
-        out[i] = wsum > 1e-12 ? s / wsum : std::numeric_limits<double>::quiet_NaN();
+        out[i] = wsum[x] > 1e-12 ? s[x] / wsum[x] : std::numeric_limits<double>::quiet_NaN();
       else
-        out[i] = s;
+        out[i] = s[x];
     }
   }
   return out;

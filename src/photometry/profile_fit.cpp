@@ -5,6 +5,7 @@
 #include <ceres/ceres.h>
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <memory>
 #include <numbers>
@@ -61,48 +62,152 @@ class SersicRenderer {
 
   // params: x0, y0, ln Ie, ln re, n, e1, e2. out: w*h values (no background).
   void render(const double* q, std::vector<double>& out) const {
-    const double cx = q[0], cy = q[1], ie = std::exp(q[2]), re = std::exp(q[3]);
-    const double n = q[4];
-    double e1 = q[5], e2 = q[6];
-    double eps = std::hypot(e1, e2);
-    if (eps > 0.95) {
-      e1 *= 0.95 / eps;
-      e2 *= 0.95 / eps;
-      eps = 0.95;
-    }
-    const double axq = (1.0 - eps) / (1.0 + eps);
-    const double theta = 0.5 * std::atan2(e2, e1);  // PA of the major axis (rad)
-    const double st = std::sin(theta), ct = std::cos(theta);
-    const double bn = sersic_bn(n);
-    const double inv_n = 1.0 / n;
-    // Sky offset of a pixel displacement, then major/minor coordinates:
-    // u = d . (sin t, cos t), v = d . (cos t, -sin t).
-    const double a_u = jac_(0, 0) * st + jac_(1, 0) * ct, b_u = jac_(0, 1) * st + jac_(1, 1) * ct;
-    const double a_v = jac_(0, 0) * ct - jac_(1, 0) * st, b_v = jac_(0, 1) * ct - jac_(1, 1) * st;
-    const double inv_re = 1.0 / re, inv_q = 1.0 / axq;
-    auto sersic = [&](double dx, double dy) {
-      const double u = a_u * dx + b_u * dy;
-      const double v = (a_v * dx + b_v * dy) * inv_q;
-      const double r = std::sqrt(u * u + v * v) * inv_re;
-      return std::exp(-bn * (std::pow(r, inv_n) - 1.0));
-    };
+    const Shape sh(q, jac_);
     raw_.assign(static_cast<std::size_t>(rw_ * rh_), 0.0);
     for (int y = 0; y < rh_; ++y)
       for (int x = 0; x < rw_; ++x) {
-        const double px = x - m_ + x0_ - cx, py = y - m_ + y0_ - cy;
+        const double px = x - m_ + x0_ - sh.cx, py = y - m_ + y0_ - sh.cy;
         const int ns = nsub_[x + rw_ * y];
         double acc = 0;
         if (ns == 1) {
-          acc = sersic(px, py);
+          acc = sh.value(px, py);
         } else {
           const double step = 1.0 / ns;
           for (int j = 0; j < ns; ++j)
             for (int i = 0; i < ns; ++i)
-              acc += sersic(px - 0.5 + (i + 0.5) * step, py - 0.5 + (j + 0.5) * step);
+              acc += sh.value(px - 0.5 + (i + 0.5) * step, py - 0.5 + (j + 0.5) * step);
           acc /= ns * ns;
         }
-        raw_[x + rw_ * y] = ie * acc;
+        raw_[x + rw_ * y] = sh.ie * acc;
       }
+    convolve(raw_, out);
+  }
+
+  // The model and its derivatives with respect to the 7 parameters, on the
+  // same sub-samples: d[j] holds w*h values of dm/dq_j (convolution is
+  // linear, so the derivative of the convolved model is the convolved
+  // derivative of the profile).
+  void render_with_derivatives(const double* q, std::vector<double>& out,
+                               std::array<std::vector<double>, 7>& d) const {
+    const Shape sh(q, jac_);
+    const std::size_t nr = static_cast<std::size_t>(rw_ * rh_);
+    raw_.assign(nr, 0.0);
+    for (auto& r : rawd_) r.assign(nr, 0.0);
+    double g[7];
+    for (int y = 0; y < rh_; ++y)
+      for (int x = 0; x < rw_; ++x) {
+        const double px = x - m_ + x0_ - sh.cx, py = y - m_ + y0_ - sh.cy;
+        const int ns = nsub_[x + rw_ * y];
+        double acc = 0, accd[7] = {0, 0, 0, 0, 0, 0, 0};
+        const double step = 1.0 / ns;
+        for (int j = 0; j < ns; ++j)
+          for (int i = 0; i < ns; ++i) {
+            const double sx = ns == 1 ? px : px - 0.5 + (i + 0.5) * step;
+            const double sy = ns == 1 ? py : py - 0.5 + (j + 0.5) * step;
+            acc += sh.value_and_gradient(sx, sy, g);
+            for (int k = 0; k < 7; ++k) accd[k] += g[k];
+          }
+        const double norm = sh.ie / (ns * ns);
+        const std::size_t at = static_cast<std::size_t>(x + rw_ * y);
+        raw_[at] = norm * acc;
+        for (int k = 0; k < 7; ++k) rawd_[k][at] = norm * accd[k];
+      }
+    convolve(raw_, out);
+    for (int k = 0; k < 7; ++k) convolve(rawd_[k], d[k]);
+  }
+
+ private:
+  // The profile's geometry for one parameter vector. value(px, py) is
+  // S / I_e at the pixel displacement (px, py) from the centre;
+  // value_and_gradient also gives the derivatives of S / I_e with respect to
+  // (x0, y0, ln I_e, ln r_e, n, e1, e2) -- the one for ln I_e is the value
+  // itself. With rho^2 = u^2 + (w / q)^2 (arcsec^2), r = rho / r_e,
+  // s = r^(1/n) and S = I_e exp(-b_n (s - 1)):
+  //   dS/d(rho^2) = -S b_n s / (2 n rho^2)
+  //   dS/d ln r_e = S b_n s / n
+  //   dS/dn       = S [ -b_n'(n) (s - 1) + b_n s ln(r) / n^2 ]
+  //   d(rho^2)/dx0 = -2 (u a_u + (w / q^2) a_v)   (likewise y0 with b_u, b_v)
+  //   d(rho^2)/dtheta = 2 u w (1 - 1/q^2),  d(rho^2)/dq = -2 w^2 / q^3
+  // (du/dtheta = w, dw/dtheta = -u), and through theta = atan2(e2, e1) / 2,
+  // q = (1 - eps) / (1 + eps), eps = |e| (1 - 1/q^2 = -4 eps / (1 - eps)^2,
+  // which cancels the 1/eps of dtheta/de at eps -> 0). b_n'(n) is the
+  // central difference of the exact b_n (step 1e-5 n; error ~1e-9).
+  struct Shape {
+    double cx, cy, ie, re, n, bn, dbn, inv_n, inv_re, inv_q, axq, eps, c2, s2, ratio;
+    double a_u, b_u, a_v, b_v;
+    bool clamped;
+    Shape(const double* q, const Eigen::Matrix2d& jac) {
+      cx = q[0];
+      cy = q[1];
+      ie = std::exp(q[2]);
+      re = std::exp(q[3]);
+      n = q[4];
+      const double e1 = q[5], e2 = q[6];
+      const double eps0 = std::hypot(e1, e2);
+      clamped = eps0 > 0.95;
+      eps = clamped ? 0.95 : eps0;
+      ratio = clamped ? 0.95 / eps0 : 1.0;  // eps / |e|
+      axq = (1.0 - eps) / (1.0 + eps);
+      const double theta = 0.5 * std::atan2(e2, e1);  // PA of the major axis (rad)
+      c2 = std::cos(2.0 * theta);
+      s2 = std::sin(2.0 * theta);
+      const double st = std::sin(theta), ct = std::cos(theta);
+      bn = sersic_bn(n);
+      const double h = 1e-5 * n;
+      dbn = (sersic_bn(n + h) - sersic_bn(n - h)) / (2.0 * h);
+      inv_n = 1.0 / n;
+      inv_re = 1.0 / re;
+      inv_q = 1.0 / axq;
+      // Sky offset of a pixel displacement, then major/minor coordinates:
+      // u = d . (sin t, cos t), w = d . (cos t, -sin t).
+      a_u = jac(0, 0) * st + jac(1, 0) * ct;
+      b_u = jac(0, 1) * st + jac(1, 1) * ct;
+      a_v = jac(0, 0) * ct - jac(1, 0) * st;
+      b_v = jac(0, 1) * ct - jac(1, 1) * st;
+    }
+    double value(double dx, double dy) const {
+      const double u = a_u * dx + b_u * dy;
+      const double v = (a_v * dx + b_v * dy) * inv_q;
+      const double r = std::sqrt(u * u + v * v) * inv_re;
+      return std::exp(-bn * (std::pow(r, inv_n) - 1.0));
+    }
+    double value_and_gradient(double dx, double dy, double g[7]) const {
+      const double u = a_u * dx + b_u * dy;
+      const double w = a_v * dx + b_v * dy;
+      const double v = w * inv_q;
+      const double rho2 = u * u + v * v;
+      const double r = std::sqrt(rho2) * inv_re;
+      const double sp = std::pow(r, inv_n);
+      const double val = std::exp(-bn * (sp - 1.0));
+      g[2] = val;
+      if (!(rho2 > 0.0)) {  // exactly at the centre: the profile's cusp
+        g[0] = g[1] = g[3] = g[5] = g[6] = 0.0;
+        g[4] = -val * dbn * (sp - 1.0);
+        return val;
+      }
+      const double k = -val * bn * sp * inv_n / (2.0 * rho2);  // dS/d(rho^2) / I_e
+      g[0] = k * -2.0 * (u * a_u + v * inv_q * a_v);
+      g[1] = k * -2.0 * (u * b_u + v * inv_q * b_v);
+      g[3] = val * bn * sp * inv_n;
+      g[4] = val * (-dbn * (sp - 1.0) + bn * sp * std::log(r) * inv_n * inv_n);
+      // Through theta: d(rho^2)/dtheta * dtheta/de, with the 1/eps cancelled.
+      const double om = 1.0 - eps;
+      const double t = 4.0 * u * w * ratio / (om * om);
+      double d1 = t * s2, d2 = -t * c2;
+      if (!clamped) {
+        // Through q: d(rho^2)/dq * dq/deps * deps/de = 4 v^2 / (q (1 + eps)^2) (cos 2t, sin 2t).
+        const double op = 1.0 + eps;
+        const double tq = 4.0 * v * v * inv_q / (op * op);
+        d1 += tq * c2;
+        d2 += tq * s2;
+      }
+      g[5] = k * d1;
+      g[6] = k * d2;
+      return val;
+    }
+  };
+
+  void convolve(const std::vector<double>& raw, std::vector<double>& out) const {
     out.assign(static_cast<std::size_t>(w_ * h_), 0.0);
     if (separable_) {
       // Along x on rows that cover the output plus the y margin, then along y.
@@ -110,7 +215,7 @@ class SersicRenderer {
       for (int y = 0; y < rh_; ++y)
         for (int x = 0; x < w_; ++x) {
           double acc = 0;
-          for (int k = -m_; k <= m_; ++k) acc += kx_[k + m_] * raw_[(x + m_ + k) + rw_ * y];
+          for (int k = -m_; k <= m_; ++k) acc += kx_[k + m_] * raw[(x + m_ + k) + rw_ * y];
           tmp_[x + w_ * y] = acc;
         }
       for (int y = 0; y < h_; ++y)
@@ -126,13 +231,12 @@ class SersicRenderer {
           double acc = 0;
           for (int dy = -m_; dy <= m_; ++dy)
             for (int dx = -m_; dx <= m_; ++dx)
-              acc += k2_[(dx + m_) + k * (dy + m_)] * raw_[(x + m_ - dx) + rw_ * (y + m_ - dy)];
+              acc += k2_[(dx + m_) + k * (dy + m_)] * raw[(x + m_ - dx) + rw_ * (y + m_ - dy)];
           out[x + w_ * y] = acc;
         }
     }
   }
 
- private:
   std::vector<double> kernel_1d(double sigma) const {
     std::vector<double> k(static_cast<std::size_t>(2 * m_ + 1));
     double sum = 0;
@@ -150,20 +254,51 @@ class SersicRenderer {
   std::vector<double> kx_, ky_, k2_;
   std::vector<int> nsub_;
   mutable std::vector<double> raw_, tmp_;
+  mutable std::array<std::vector<double>, 7> rawd_;
 };
 
-struct SersicResidual {
-  const SersicRenderer* renderer;
-  const std::vector<int>* index;   // box-local indices of fitted pixels
-  const std::vector<double>* value;
-  double inv_sigma;
-  bool operator()(const double* q, double* r) const {
+// Whitened residuals (m_i + B - d_i) / sigma over the fitted pixels, with
+// the analytic Jacobian of SersicRenderer::render_with_derivatives (and 1 /
+// sigma for the background B).
+class SersicCost : public ceres::CostFunction {
+ public:
+  SersicCost(const SersicRenderer* renderer, const std::vector<int>* index,
+             const std::vector<double>* value, double inv_sigma)
+      : renderer_(renderer), index_(index), value_(value), inv_sigma_(inv_sigma) {
+    set_num_residuals(static_cast<int>(index->size()));
+    mutable_parameter_block_sizes()->push_back(8);
+  }
+  bool Evaluate(double const* const* parameters, double* residuals, double** jacobians) const override {
+    const double* q = parameters[0];
     thread_local std::vector<double> model;
-    renderer->render(q, model);
-    for (std::size_t k = 0; k < index->size(); ++k)
-      r[k] = (model[(*index)[k]] + q[7] - (*value)[k]) * inv_sigma;
+    thread_local std::array<std::vector<double>, 7> deriv;
+    const bool want_jacobian = jacobians != nullptr && jacobians[0] != nullptr;
+    if (want_jacobian)
+      renderer_->render_with_derivatives(q, model, deriv);
+    else
+      renderer_->render(q, model);
+    const std::vector<int>& index = *index_;
+    for (std::size_t k = 0; k < index.size(); ++k) {
+      const double m = model[index[k]];
+      if (!std::isfinite(m)) return false;
+      residuals[k] = (m + q[7] - (*value_)[k]) * inv_sigma_;
+    }
+    if (want_jacobian) {
+      double* J = jacobians[0];  // row-major, residuals x 8
+      for (std::size_t k = 0; k < index.size(); ++k) {
+        double* row = J + 8 * k;
+        for (int j = 0; j < 7; ++j) row[j] = deriv[j][index[k]] * inv_sigma_;
+        row[7] = inv_sigma_;
+      }
+    }
     return true;
   }
+
+ private:
+  const SersicRenderer* renderer_;
+  const std::vector<int>* index_;
+  const std::vector<double>* value_;
+  double inv_sigma_;
 };
 
 }  // namespace
@@ -174,6 +309,15 @@ std::vector<double> render_sersic_model(const PreparedImage& p, const double par
   std::vector<double> out;
   rend.render(params, out);
   return out;
+}
+
+std::array<std::vector<double>, 7> render_sersic_derivatives(const PreparedImage& p, const double params[7],
+                                                             PixelCoord subsample_centre) {
+  SersicRenderer rend(p, 0, p.nx - 1, 0, p.ny - 1, subsample_centre);
+  std::vector<double> out;
+  std::array<std::vector<double>, 7> d;
+  rend.render_with_derivatives(params, out, d);
+  return d;
 }
 
 PixelEstimate fit_sersic_profile(const PreparedImage& p, const std::vector<double>& data,
@@ -231,11 +375,7 @@ PixelEstimate fit_sersic_profile(const PreparedImage& p, const std::vector<doubl
   double q[8] = {start.x,   start.y, std::log(std::max(ie0, 1e-30)), std::log(re0), n0,
                  eps0 * std::cos(2 * th0), eps0 * std::sin(2 * th0), 0.0};
 
-  ceres::NumericDiffOptions nd;
-  nd.relative_step_size = 1e-6;
-  auto* functor = new SersicResidual{&rend, &index, &value, 1.0 / noise_rms};
-  auto* cost = new ceres::NumericDiffCostFunction<SersicResidual, ceres::FORWARD, ceres::DYNAMIC, 8>(
-      functor, ceres::TAKE_OWNERSHIP, static_cast<int>(index.size()), nd);
+  auto* cost = new SersicCost(&rend, &index, &value, 1.0 / noise_rms);
   ceres::Problem problem;
   problem.AddResidualBlock(cost, nullptr, q);
   problem.SetParameterLowerBound(q, 0, bx0);

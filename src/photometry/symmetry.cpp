@@ -4,29 +4,108 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <limits>
+#include <vector>
 
 namespace fulcrum::photometry {
 
-double rotational_asymmetry(const PreparedImage& p, const std::vector<double>& data, PixelCoord c,
-                            PixelCoord ac, double r_arcsec) {
+namespace {
+
+// The usable pixels of the aperture about `ac`, in row order: fixed for one
+// search round, so A(c) is evaluated over the same set at every c.
+struct Aperture {
+  std::vector<int> x, y;
+  std::vector<long long> index;  // x + nx y
+  std::vector<double> f;
+  int xmin = 0, xmax = -1, ymin = 0, ymax = -1;
+};
+
+Aperture aperture_pixels(const PreparedImage& p, const std::vector<double>& data, PixelCoord ac,
+                         double r_arcsec) {
   const Eigen::Matrix2d ji = p.jacobian.inverse();
   const double ex = r_arcsec * ji.row(0).norm(), ey = r_arcsec * ji.row(1).norm();
   const int x0 = std::max(0, static_cast<int>(std::floor(ac.x - ex)));
   const int x1 = std::min(p.nx - 1, static_cast<int>(std::ceil(ac.x + ex)));
   const int y0 = std::max(0, static_cast<int>(std::floor(ac.y - ey)));
   const int y1 = std::min(p.ny - 1, static_cast<int>(std::ceil(ac.y + ey)));
-  double num = 0, den = 0;
+  Aperture a;
   for (int y = y0; y <= y1; ++y)
     for (int x = x0; x <= x1; ++x) {
       const double f = data[x + p.nx * y];
       if (!std::isfinite(f)) continue;
       if (p.to_sky(x - ac.x, y - ac.y).norm() > r_arcsec) continue;
-      const double g = bilinear(data, p.nx, p.ny, 2.0 * c.x - x, 2.0 * c.y - y);
+      a.x.push_back(x);
+      a.y.push_back(y);
+      a.index.push_back(x + static_cast<long long>(p.nx) * y);
+      a.f.push_back(f);
+      if (a.x.size() == 1) {
+        a.xmin = a.xmax = x;
+        a.ymin = a.ymax = y;
+      }
+      a.xmin = std::min(a.xmin, x);
+      a.xmax = std::max(a.xmax, x);
+      a.ymin = std::min(a.ymin, y);
+      a.ymax = std::max(a.ymax, y);
+    }
+  return a;
+}
+
+// A(c) over the aperture's pixels. The reflection of pixel (x, y) is
+// (2c_x - x, 2c_y - y) = (X - x + t_x, Y - y + t_y) with X = floor(2c_x),
+// t_x = 2c_x - X (and likewise for y): the bilinear weights t_x, t_y are the
+// same for every pixel, so they are computed once per c. Both forms give the
+// same floating-point numbers as bilinear() at the reflected point (2c_x - x
+// is exact for 0 <= 2c_x - x <= 2c_x), so the result is bit for bit the
+// plain per-pixel interpolation.
+double asymmetry_over(const Aperture& a, const std::vector<double>& data, int nx, int ny,
+                      PixelCoord c) {
+  if (!std::isfinite(c.x) || !std::isfinite(c.y)) return std::numeric_limits<double>::infinity();
+  const double fx = std::floor(2.0 * c.x), fy = std::floor(2.0 * c.y);
+  const double tx = 2.0 * c.x - fx, ty = 2.0 * c.y - fy;
+  const long long X = static_cast<long long>(fx), Y = static_cast<long long>(fy);
+  const bool on_node = tx == 0.0 && ty == 0.0;
+  double num = 0, den = 0;
+  const std::size_t n = a.f.size();
+  if (X - a.xmax >= 0 && X - a.xmin + 1 < nx && Y - a.ymax >= 0 && Y - a.ymin + 1 < ny) {
+    // Every reflection falls inside the grid: no tests per pixel but the
+    // finiteness of the interpolated value.
+    const long long base = X + static_cast<long long>(nx) * Y;
+    const double* dd = data.data();
+    for (std::size_t k = 0; k < n; ++k) {
+      const double* d = dd + (base - a.index[k]);
+      const double g =
+          (1 - ty) * ((1 - tx) * d[0] + tx * d[1]) + ty * ((1 - tx) * d[nx] + tx * d[nx + 1]);
       if (!std::isfinite(g)) continue;
+      const double f = a.f[k];
       num += std::abs(f - g);
       den += std::abs(f);
     }
+    return den > 0 ? num / den : std::numeric_limits<double>::infinity();
+  }
+  for (std::size_t k = 0; k < n; ++k) {
+    const long long x0 = X - a.x[k], y0 = Y - a.y[k];
+    double g;
+    if (x0 >= 0 && y0 >= 0 && x0 + 1 < nx && y0 + 1 < ny) {
+      const double* d = &data[static_cast<std::size_t>(x0 + nx * y0)];
+      g = (1 - ty) * ((1 - tx) * d[0] + tx * d[1]) + ty * ((1 - tx) * d[nx] + tx * d[nx + 1]);
+    } else if (on_node && x0 >= 0 && y0 >= 0 && x0 < nx && y0 < ny) {
+      g = data[static_cast<std::size_t>(x0 + nx * y0)];  // last row/column, exactly on a pixel
+    } else {
+      continue;
+    }
+    if (!std::isfinite(g)) continue;
+    const double f = a.f[k];
+    num += std::abs(f - g);
+    den += std::abs(f);
+  }
   return den > 0 ? num / den : std::numeric_limits<double>::infinity();
+}
+
+}  // namespace
+
+double rotational_asymmetry(const PreparedImage& p, const std::vector<double>& data, PixelCoord c,
+                            PixelCoord ac, double r_arcsec) {
+  return asymmetry_over(aperture_pixels(p, data, ac, r_arcsec), data, p.nx, p.ny, c);
 }
 
 namespace {
@@ -110,8 +189,8 @@ PixelEstimate estimate_symmetry_centre(const PreparedImage& p, const std::vector
   Minimum m;
   int evaluations = 0;
   for (int round = 0; round < 2; ++round) {
-    const PixelCoord ac = c;
-    auto f = [&](PixelCoord t) { return rotational_asymmetry(p, data, t, ac, r); };
+    const Aperture ap = aperture_pixels(p, data, c, r);
+    auto f = [&](PixelCoord t) { return asymmetry_over(ap, data, p.nx, p.ny, t); };
     m = nelder_mead(f, c, round == 0 ? 1.0 : 0.25, o.tolerance_pixels, o.max_evaluations);
     evaluations += m.evaluations;
     if (!std::isfinite(m.value))

@@ -105,6 +105,12 @@ Image load(const std::string& path) { return read_image(path); }
 
 std::string dump_json(const json& j) { return j.dump(2) + "\n"; }
 
+bool bootstrap_centres_from_estimates(const std::string& name) {
+  if (name == "adopted") return false;
+  if (name == "all-estimates") return true;
+  throw InputError("", "--bootstrap-centres must be adopted or all-estimates (got '" + name + "')");
+}
+
 std::string created_utc() {
   std::time_t t = std::time(nullptr);
   if (const char* e = std::getenv("SOURCE_DATE_EPOCH")) {
@@ -427,7 +433,7 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
       bo.n_draws = static_cast<std::size_t>(opt.draws);
       bo.seed = opt.seed;
       bo.centre_covariance = adopted->cov;
-      bo.use_estimates = true;
+      bo.use_estimates = opt.bootstrap_from_estimates;
       bo.estimates = estimates;
       bo.tail_pa_deg = *tail_pa;
       bo.tail_pa_err_deg = *tail_err;
@@ -456,6 +462,7 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
           {"asymmetry_ci95", json::array({num(boot.lo95), num(boot.hi95)})},
           {"asymmetry_median", num(boot.median)},
           {"noise_included", boot.noise_included},
+          {"centre_draws", opt.bootstrap_from_estimates ? "all-estimates" : "adopted"},
           {"flip_distance_arcsec", flipped ? num(flip.nominal.distance_arcsec) : json(nullptr)},
           {"flip_distance_beams", flipped ? num(flip.nominal_beams) : json(nullptr)},
           {"flip_direction_pa_deg", flipped ? num(flip.nominal.direction_pa_deg) : json(nullptr)},
@@ -597,6 +604,7 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
       calibration::CalibrationOptions co;
       co.n_mocks = static_cast<std::size_t>(opt.calibrate);
       co.seed = opt.seed;
+      co.bootstrap_from_estimates = opt.bootstrap_from_estimates;
       auto cs = calibration::calibrate(calibration::matched_inputs_from_report(rep, in, maps, in.name), co);
       rep["calibration"] = calibration::to_json(cs);
       if (!statement.empty() && statement.back() == '.') statement.pop_back();

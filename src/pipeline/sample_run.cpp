@@ -421,6 +421,7 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
     ao.draws = o.draws.value_or(manifest.draws);
     ao.calibrate = manifest.calibrate;
     ao.figures = o.figures;
+    ao.bootstrap_from_estimates = o.bootstrap_from_estimates;
     GalaxyResult res;
     try {
       res = analyse_galaxy(g, ao);

@@ -78,6 +78,7 @@ struct CalibrationOptions {
   std::size_t refit_every = 1;      // re-fit on mocks with index % refit_every == 0
   double profile_bin_beams = 0.5;   // annulus width for the gas profile
   int secant_steps = 6;
+  bool bootstrap_from_estimates = false;  // as the analysis being calibrated (robustness::AnalysisOptions)
   robustness::VerdictOptions verdict;
   bool progress = true;
 };

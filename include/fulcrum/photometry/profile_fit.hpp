@@ -22,8 +22,11 @@
 // margin so that every fitted pixel sees the whole kernel.
 //
 // Fit: residuals (m_i - d_i) / sigma over the usable pixels of the box,
-// Levenberg-Marquardt (Ceres) with forward-difference derivatives. The
-// parameter vector is (x0, y0, ln I_e, ln r_e[arcsec], n, e1, e2, B).
+// Levenberg-Marquardt (Ceres) with analytic derivatives: the derivatives of
+// the Sersic profile with respect to each parameter are averaged over the
+// same sub-samples and convolved with the same PSF as the model itself (the
+// formulas are beside the code; checked against central differences in the
+// tests). The parameter vector is (x0, y0, ln I_e, ln r_e[arcsec], n, e1, e2, B).
 //
 // Uncertainty: the covariance of the parameters at the minimum,
 // (J_r^T J_r)^-1 for the whitened residuals (ceres::Covariance, dense SVD),
@@ -34,6 +37,7 @@
 // C_sky = J C_pix J^T (arcsec^2, east-north).
 #pragma once
 
+#include <array>
 #include <optional>
 #include <vector>
 
@@ -61,5 +65,10 @@ PixelEstimate fit_sersic_profile(const PreparedImage& p, const std::vector<doubl
 // of `p` with the same scheme the fit uses (for tests and residual maps).
 std::vector<double> render_sersic_model(const PreparedImage& p, const double params[7],
                                         PixelCoord subsample_centre);
+
+// The analytic derivatives of that model image with respect to each of the
+// 7 parameters, as the fit uses them (for tests).
+std::array<std::vector<double>, 7> render_sersic_derivatives(const PreparedImage& p, const double params[7],
+                                                             PixelCoord subsample_centre);
 
 }  // namespace fulcrum::photometry

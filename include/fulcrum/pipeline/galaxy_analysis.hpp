@@ -38,7 +38,16 @@ struct AnalysisOptions {
   double error_ellipse_sigma = 2.0;   // figures draw centre errors at this many sigma
   int figure_grid = 160;              // resampled sky-map size (pixels per side, at most)
   int calibrate = 0;                  // matched mocks per set for calibration/ (0: none)
+  // Bootstrap centres drawn about the adopted centre only (default, DESIGN.md
+  // section 5; the other estimates are the plausible centres of the verdict),
+  // or, when true, from the mixture of the adopted centre and every
+  // successful estimate (wider, and its interval can exclude A at c0).
+  bool bootstrap_from_estimates = false;
 };
+
+// The value of --bootstrap-centres: "adopted" gives false, "all-estimates"
+// true; anything else is an InputError naming the option.
+bool bootstrap_centres_from_estimates(const std::string& name);
 
 struct FigureFile {
   std::string id;       // file stem under figures/, e.g. "intensity"

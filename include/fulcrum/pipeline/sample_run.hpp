@@ -40,6 +40,7 @@ struct RunOptions {
   bool overwrite = false;     // --force
   std::optional<int> draws;   // overrides the manifest
   std::optional<std::uint64_t> seed;
+  bool bootstrap_from_estimates = false;  // AnalysisOptions::bootstrap_from_estimates
 };
 
 struct RunSummary {

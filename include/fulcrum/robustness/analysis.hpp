@@ -43,7 +43,10 @@ struct AnalysisOptions {
   const Image* error_map = nullptr;
   std::uint64_t seed = 1;
   std::size_t n_draws = 10000;
-  bool bootstrap_estimates = true;         // draw centres from the estimates too
+  // Bootstrap centres: false (default, DESIGN.md section 5) draws them about
+  // the adopted centre with its covariance only; the estimates enter the
+  // verdict as plausible centres. true: a mixture over {adopted} U estimates.
+  bool bootstrap_estimates = false;
   bool run_scan = false;
   ScanOptions scan;                        // tail_pa/centre are filled in
   VerdictOptions verdict;
