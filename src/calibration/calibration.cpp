@@ -255,6 +255,9 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
         ko.pa_guess_deg = in.pa_deg;
         ko.inc_guess_deg = in.inc_deg;
         ko.vsys_guess_kms = in.vsys_kms;
+        // These mock velocity maps are the intrinsic (unsmeared) model plus
+        // noise, so there is no beam smearing to correct.
+        ko.correct_beam_smearing = false;
         auto fit = kinematics::fit_kinematics(vel, in.velocity_error, ko);
         if (fit.status == "ok" && fit.centre) {
           ao.adopted.position = fit.centre->world;

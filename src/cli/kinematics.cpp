@@ -2,14 +2,18 @@
 // (tilted-ring and harmonic fits; kinematics/kinematic_fit.hpp).
 //
 //   fulcrum kinematics --velocity VEL.fits [--velocity-error ERR.fits]
-//                      [--method rings|harmonic|both] [first-guess overrides]
-//                      --json OUT.json [--out DIR]
+//                      [--intensity MOM0.fits] [--method rings|harmonic|both]
+//                      [first-guess overrides] --json OUT.json [--out DIR]
 //
+// The beam-smearing correction (on when a beam is known; --no-smearing-
+// correction turns it off) is weighted by the --intensity map when given,
+// else uniformly over the velocity map's footprint.
 // OUT.json holds centre (ra_deg, dec_deg, x_pix, y_pix [FITS, 1-based],
 // cov_arcsec2 [(east, north) arcsec^2]), pa_deg, inc_deg, vsys_kms, rings,
 // method, status and, with `both`, harmonic_centre. With --out, DIR receives
-// the model and residual velocity maps (km/s, input WCS) and the per-ring
-// table as ECSV and CSV. When the data cannot constrain a centre the JSON is
+// the model and residual velocity maps (km/s, input WCS; with the
+// beam-smearing correction also the model as the beam sees it, and the
+// residual is observed minus that) and the per-ring table as ECSV and CSV. When the data cannot constrain a centre the JSON is
 // still written (status "refused" and the reason) and the command exits with
 // status 2 and a one-line message.
 #include <cmath>
@@ -31,7 +35,9 @@
 namespace {
 
 struct KinematicsArgs {
-  std::string velocity, velocity_error, method = "both", json, out;
+  std::string velocity, velocity_error, intensity, method = "both", json, out;
+  bool no_smearing_correction = false;
+  int smearing_refits = 4;
   std::optional<double> centre_ra, centre_dec, pa, inc, vsys, max_radius, ring_width;
   std::vector<std::string> fix;
   double ring_width_beams = 0.5;
@@ -98,6 +104,9 @@ void run(const KinematicsArgs& a) {
   opt.noise_correlation = a.noise_correlation;
   opt.min_pixels = a.min_pixels;
   opt.min_inc_deg = a.min_inc;
+  opt.correct_beam_smearing = !a.no_smearing_correction;
+  if (a.smearing_refits < 1) throw InputError("", "--smearing-refits must be at least 1");
+  opt.smearing_max_refits = a.smearing_refits;
 
   check_new(a.json);
   const Image vel = read_image(a.velocity);
@@ -108,21 +117,25 @@ void run(const KinematicsArgs& a) {
                                            std::to_string(err->ny) +
                                            " pixels but the velocity map is " +
                                            std::to_string(vel.nx) + "x" + std::to_string(vel.ny));
-  std::string model_path, resid_path, ecsv_path, csv_path;
+  std::optional<Image> inten;
+  if (!a.intensity.empty()) inten = read_image(a.intensity);
+  std::string model_path, resid_path, smeared_path, ecsv_path, csv_path;
   if (!a.out.empty()) {
     std::filesystem::create_directories(a.out);
     const std::filesystem::path d(a.out);
     model_path = (d / "kinematics_model.fits").string();
     resid_path = (d / "kinematics_residual.fits").string();
+    smeared_path = (d / "kinematics_model_smeared.fits").string();
     ecsv_path = (d / "kinematics_rings.ecsv").string();
     csv_path = (d / "kinematics_rings.csv").string();
-    for (const auto& p : {model_path, resid_path, ecsv_path, csv_path}) check_new(p);
+    for (const auto& p : {model_path, resid_path, smeared_path, ecsv_path, csv_path}) check_new(p);
   }
 
-  KinematicFit fit = fit_kinematics(vel, err ? &*err : nullptr, opt);
+  KinematicFit fit = fit_kinematics(vel, err ? &*err : nullptr, opt, inten ? &*inten : nullptr);
   nlohmann::json j = to_json(fit);
   j["software"] = software_info();
-  j["inputs"] = {{"velocity", a.velocity}, {"velocity_error", a.velocity_error}};
+  j["inputs"] = {{"velocity", a.velocity}, {"velocity_error", a.velocity_error},
+                 {"intensity", a.intensity}};
 
   if (!a.out.empty() && fit.status == "ok") {
     Image model = model_velocity_map(fit, vel);
@@ -135,10 +148,15 @@ void run(const KinematicsArgs& a) {
     write_image(model_path, model, cards);
     cards[0].value = "observed minus model velocity";
     write_image(resid_path, resid, cards);
+    if (fit.beam_smearing.applied) {
+      cards[0].value = "beam-smeared tilted-ring model velocity";
+      write_image(smeared_path, smeared_model_velocity_map(fit, model), cards);
+    }
     write_ring_table_ecsv(ecsv_path, fit);
     write_ring_table_csv(csv_path, fit);
     j["outputs"] = {{"model", model_path}, {"residual", resid_path}, {"rings_ecsv", ecsv_path},
                     {"rings_csv", csv_path}};
+    if (fit.beam_smearing.applied) j["outputs"]["model_smeared"] = smeared_path;
   }
   write_text_file(a.json, j.dump(2) + "\n");
 
@@ -161,6 +179,14 @@ void run(const KinematicsArgs& a) {
   } else if (fit.method == Method::both) {
     std::printf("harmonic centre: not found (%s)\n", fit.harmonic_status.c_str());
   }
+  const auto& bs = fit.beam_smearing;
+  if (bs.applied)
+    std::printf("  beam smearing corrected (%s): max |correction| %.2f km/s, %d refit%s, inclination "
+                "%.2f deg before\n",
+                bs.weighting.c_str(), bs.max_abs_correction_kms, bs.refits, bs.refits == 1 ? "" : "s",
+                bs.uncorrected.inc_deg);
+  else
+    std::printf("  beam smearing not corrected: %s\n", bs.reason.c_str());
   std::printf("  %d of %d pixels, %d rings, reduced chi2 %.3f, %s\n", fit.diagnostics.pixels_used,
               fit.diagnostics.pixels_input, fit.diagnostics.rings_used,
               fit.diagnostics.reduced_chi2, fit.diagnostics.converged ? "converged" : "not converged");
@@ -176,6 +202,13 @@ FULCRUM_SUBCOMMAND(kinematics, 50, [](CLI::App& app) {
       "and harmonic fits)");
   cmd->add_option("--velocity", a->velocity, "Velocity map (FITS, km/s or m/s)")->required();
   cmd->add_option("--velocity-error", a->velocity_error, "1-sigma velocity error map (FITS)");
+  cmd->add_option("--intensity", a->intensity,
+                  "Line-intensity (moment-0) map weighting the beam-smearing correction (FITS, any "
+                  "grid); default: uniform over the velocity footprint");
+  cmd->add_flag("--no-smearing-correction", a->no_smearing_correction,
+                "Fit the velocity map as it is, without the beam-smearing correction");
+  cmd->add_option("--smearing-refits", a->smearing_refits,
+                  "Most refits of the beam-smearing correction (4)");
   cmd->add_option("--method", a->method, "rings, harmonic or both (default both)");
   cmd->add_option("--json", a->json, "Write the result here (JSON)")->required();
   cmd->add_option("--out", a->out, "Folder for model/residual maps and the per-ring tables");

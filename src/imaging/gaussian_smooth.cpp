@@ -30,23 +30,33 @@ Eigen::Matrix2d pixel_covariance(const Beam& kernel, const Eigen::Matrix2d& jac)
   return Ji * sky_covariance(kernel) * Ji.transpose();
 }
 
+PixelKernel gaussian_kernel(const Eigen::Matrix2d& cov, double truncate_sigma) {
+  FULCRUM_CHECK(truncate_sigma > 0, "truncate_sigma > 0", truncate_sigma);
+  const Eigen::Matrix2d P = cov.inverse();
+  const double t = truncate_sigma;
+  PixelKernel k;
+  k.hx = std::max(1, static_cast<int>(std::ceil(t * std::sqrt(cov(0, 0)))));
+  k.hy = std::max(1, static_cast<int>(std::ceil(t * std::sqrt(cov(1, 1)))));
+  const int kw = 2 * k.hx + 1;
+  k.weight.assign(static_cast<std::size_t>(kw) * (2 * k.hy + 1), 0.0);
+  double ksum = 0.0;
+  for (int dy = -k.hy; dy <= k.hy; ++dy)
+    for (int dx = -k.hx; dx <= k.hx; ++dx) {
+      const double q = P(0, 0) * dx * dx + 2 * P(0, 1) * dx * dy + P(1, 1) * dy * dy;
+      const double w = q > 2.0 * t * t ? 0.0 : std::exp(-0.5 * q);
+      k.weight[static_cast<std::size_t>(dx + k.hx) + static_cast<std::size_t>(kw) * (dy + k.hy)] = w;
+      ksum += w;
+    }
+  for (double& w : k.weight) w /= ksum;
+  return k;
+}
+
 std::vector<double> convolve_gaussian(const std::vector<double>& data, int nx, int ny,
                                       const Eigen::Matrix2d& cov, const SmoothOptions& opt) {
   FULCRUM_CHECK(data.size() == static_cast<std::size_t>(nx) * ny, nx * ny, data.size());
-  const Eigen::Matrix2d P = cov.inverse();
-  const int hx = std::max(1, static_cast<int>(std::ceil(4.0 * std::sqrt(cov(0, 0)))));
-  const int hy = std::max(1, static_cast<int>(std::ceil(4.0 * std::sqrt(cov(1, 1)))));
-  const int kw = 2 * hx + 1;
-  std::vector<double> k(static_cast<std::size_t>(kw) * (2 * hy + 1));
-  double ksum = 0.0;
-  for (int dy = -hy; dy <= hy; ++dy)
-    for (int dx = -hx; dx <= hx; ++dx) {
-      const double q = P(0, 0) * dx * dx + 2 * P(0, 1) * dx * dy + P(1, 1) * dy * dy;
-      const double w = q > 32.0 ? 0.0 : std::exp(-0.5 * q);
-      k[static_cast<std::size_t>(dx + hx) + static_cast<std::size_t>(kw) * (dy + hy)] = w;
-      ksum += w;
-    }
-  for (double& w : k) w /= ksum;
+  const PixelKernel kernel = gaussian_kernel(cov, opt.truncate_sigma);
+  const int hx = kernel.hx, hy = kernel.hy, kw = 2 * hx + 1;
+  const std::vector<double>& k = kernel.weight;
 
   // Missing pixels as value 0 and weight 0: adding w * 0 leaves a sum as it
   // was, so this equals skipping them. Each output pixel accumulates its taps

@@ -184,7 +184,13 @@ GlobalFitSummary fit_global_rings(const VelocitySamples& s, const DiscGeometry& 
   p.vsys = start.vsys_kms;
   p.vrot.assign(N + 1, 0.0);
   p.vrad.assign(N + 1, 0.0);
-  guess_speeds(s, p, node_r);
+  if (static_cast<int>(opt.start_vrot.size()) == N) {
+    for (int k = 1; k <= N; ++k) p.vrot[k] = opt.start_vrot[k - 1];
+    if (static_cast<int>(opt.start_vrad.size()) == N)
+      for (int k = 1; k <= N; ++k) p.vrad[k] = opt.start_vrad[k - 1];
+  } else {
+    guess_speeds(s, p, node_r);
+  }
 
   const std::size_t n = s.size();
   std::vector<int> bracket(n, -1);
@@ -202,7 +208,7 @@ GlobalFitSummary fit_global_rings(const VelocitySamples& s, const DiscGeometry& 
   std::unique_ptr<ceres::Problem> problem;
 
   for (int pass = 0; pass < max_passes; ++pass) {
-    const bool hold_inc = opt.fix_inc || (pass == 0 && max_passes > 2);
+    const bool hold_inc = opt.fix_inc || (pass == 0 && max_passes > 2 && opt.hold_inc_first_pass);
     // (1) Selection, brackets, weights from the current geometry.
     if (opt.loss != RobustLoss::none && pass > 0) {
       std::vector<double> a;

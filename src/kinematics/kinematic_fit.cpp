@@ -99,9 +99,11 @@ std::string method_name(Method m) {
 }
 
 KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
-                            const KinematicOptions& options) {
+                            const KinematicOptions& options, const Image* intensity) {
   if (!velocity.wcs.valid())
     throw InputError(velocity.path, "the velocity map has no celestial WCS");
+  if (intensity && !intensity->wcs.valid())
+    throw InputError(intensity->path, "the intensity map has no celestial WCS");
   std::vector<std::string> notes;
   std::string why;
   velocity_unit_factor(velocity, &why);
@@ -134,8 +136,28 @@ KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
     reference = OffsetFrame(grid_centre).to_world(g0.centre);
   }
   const VelocitySamples s = samples_from_image(velocity, velocity_error, reference);
-  KinematicFit fit = fit_kinematics_samples(s, OffsetFrame(reference), velocity.wcs, options);
+  // The beam-smearing grid: the velocity map's beam, else the intensity map's.
+  std::optional<SmearingGrid> grid;
+  std::vector<std::string> smearing_notes;  // notes, not warnings
+  std::optional<Beam> beam = velocity.beam;
+  if (!beam && intensity && intensity->beam) {
+    beam = intensity->beam;
+    smearing_notes.push_back("the velocity map has no beam: the intensity map's beam is used "
+                             "for the beam-smearing correction");
+  }
+  if (options.correct_beam_smearing && beam && beam->bmaj_arcsec > 0 && beam->bmin_arcsec > 0 &&
+      s.size() > 0) {
+    grid = make_smearing_grid(velocity, s, reference, *beam, intensity);
+    if (!grid->note.empty()) smearing_notes.push_back(grid->note);
+  }
+  KinematicFit fit =
+      fit_kinematics_samples(s, OffsetFrame(reference), velocity.wcs, options, grid ? &*grid : nullptr);
+  if (options.correct_beam_smearing && !grid) {
+    fit.beam_smearing.reason = s.size() == 0 ? "no finite velocity pixels"
+                                             : "no beam known (neither map has BMAJ/BMIN)";
+  }
   fit.source = velocity.path;
+  fit.notes.insert(fit.notes.begin(), smearing_notes.begin(), smearing_notes.end());
   fit.notes.insert(fit.notes.begin(), notes.begin(), notes.end());
   // Unit conversions change every number: a warning, not a note.
   for (const auto& n : notes) warn(n);
@@ -143,9 +165,18 @@ KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
 }
 
 KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame& frame,
-                                    const CelestialWcs& wcs, const KinematicOptions& opt) {
+                                    const CelestialWcs& wcs, const KinematicOptions& opt,
+                                    const SmearingGrid* smearing) {
   KinematicFit fit;
   fit.method = opt.method;
+  BeamSmearingSummary& bs = fit.beam_smearing;
+  bs.requested = opt.correct_beam_smearing;
+  if (!opt.correct_beam_smearing) bs.reason = "turned off";
+  else if (!smearing) bs.reason = "no beam known";
+  if (smearing) {
+    bs.weighting = smearing->weighting;
+    bs.beam_fwhm_arcsec = smearing->beam.fwhm_arcsec();
+  }
   fit.frame = frame;
   fit.reference = frame.reference();
   auto& d = fit.diagnostics;
@@ -225,30 +256,36 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   go.loss_scale = opt.loss_scale;
   go.correlation_factor = d.correlation_factor;
   go.record_problem = opt.record_problem;
+  // Adopt a global fit: diagnostics, geometry and the node table.
+  auto adopt = [&](GlobalFitSummary gl_in) {
+    fit.global = std::move(gl_in);
+    const GlobalFitSummary& gl = fit.global;
+    d.pixels_used = gl.n_used;
+    d.parameters = gl.n_parameters;
+    d.chi2 = gl.chi2;
+    d.reduced_chi2 = gl.scaling.reduced_chi2;
+    d.residual_rms_kms = gl.residual_rms_kms;
+    d.converged = gl.converged;
+    d.termination = gl.message;
+    d.passes = gl.passes;
+    d.iterations = gl.iterations;
+    d.rings_used = 0;
+    for (const auto& n : gl.nodes) d.rings_used += n.n_pixels > 0 ? 1 : 0;
+    fit.pa_deg = gl.geometry.pa_deg;
+    fit.inc_deg = gl.geometry.inc_deg;
+    fit.vsys_kms = gl.geometry.vsys_kms;
+    fit.pa_err_deg = std::sqrt(gl.covariance(2, 2));
+    fit.inc_err_deg = std::sqrt(gl.covariance(3, 3));
+    fit.vsys_err_kms = std::sqrt(gl.covariance(4, 4));
+    fit.rings.clear();
+    for (const auto& n : gl.nodes) fit.rings.push_back(RingRow{n, std::nullopt, std::nullopt});
+  };
   DiscGeometry start{g.centre, g.pa_deg, g.inc_deg, g.vsys_kms};
-  fit.global = fit_global_rings(s, start, go);
+  adopt(fit_global_rings(s, start, go));
   const GlobalFitSummary& gl = fit.global;
-  d.pixels_used = gl.n_used;
-  d.parameters = gl.n_parameters;
-  d.chi2 = gl.chi2;
-  d.reduced_chi2 = gl.scaling.reduced_chi2;
-  d.residual_rms_kms = gl.residual_rms_kms;
-  d.converged = gl.converged;
-  d.termination = gl.message;
-  d.passes = gl.passes;
-  d.iterations = gl.iterations;
-  for (const auto& n : gl.nodes) d.rings_used += n.n_pixels > 0 ? 1 : 0;
-
-  fit.pa_deg = gl.geometry.pa_deg;
-  fit.inc_deg = gl.geometry.inc_deg;
-  fit.vsys_kms = gl.geometry.vsys_kms;
   // A negative rotation means the receding side is the other one.
   double mean_v = 0;
   for (const auto& n : gl.nodes) mean_v += n.vrot_kms * n.n_pixels;
-  fit.pa_err_deg = std::sqrt(gl.covariance(2, 2));
-  fit.inc_err_deg = std::sqrt(gl.covariance(3, 3));
-  fit.vsys_err_kms = std::sqrt(gl.covariance(4, 4));
-  for (const auto& n : gl.nodes) fit.rings.push_back(RingRow{n, std::nullopt, std::nullopt});
 
   if (d.pixels_used < opt.min_pixels ||
       d.pixels_used < opt.min_pixels_per_parameter * std::max(1, d.parameters)) {
@@ -285,6 +322,85 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
     return fit;
   }
 
+  // Beam-smearing correction (beam_smearing.hpp): refit to v_obs - Delta,
+  // Delta = what the beam does to the current model, until the geometry
+  // settles. The adopted covariance is Ceres' one of the last refit, scaled
+  // as every global fit is (covariance_scaling.hpp).
+  VelocitySamples corrected;
+  const VelocitySamples* fitted = &s;
+  bs.uncorrected = gl.geometry;
+  if (smearing && smearing->usable() && opt.correct_beam_smearing) {
+    // Each refit starts from the current geometry and node speeds. Without a
+    // robust loss it is a single pass: the pixel brackets come from the
+    // current geometry, and the refits themselves repeat until the geometry
+    // settles, as the passes of one fit would. A robust loss keeps its
+    // reweighting passes.
+    GlobalFitOptions ro = go;
+    ro.hold_inc_first_pass = false;
+    if (opt.loss == RobustLoss::none) ro.max_passes = 1;
+    corrected = s;
+    GlobalFitSummary current = gl;
+    std::vector<double> delta;
+    bool failed = false;
+    const int max_refits = std::max(1, opt.smearing_max_refits);
+    for (int it = 0; it < max_refits; ++it) {
+      delta = smearing_correction(*smearing, current);
+      for (std::size_t i = 0; i < s.size(); ++i) corrected.velocity[i] = s.velocity[i] - delta[i];
+      ro.start_vrot.clear();
+      ro.start_vrad.clear();
+      for (const auto& node : current.nodes) {
+        ro.start_vrot.push_back(node.vrot_kms);
+        ro.start_vrad.push_back(node.vrad_kms);
+      }
+      GlobalFitSummary next = fit_global_rings(corrected, current.geometry, ro);
+      ++bs.refits;
+      if (!next.converged || !next.covariance_ok) {
+        failed = true;
+        bs.reason = "the refit with the correction " +
+                    std::string(next.converged ? "has a singular covariance" : "did not converge") +
+                    " (" + next.message + "): the uncorrected fit is kept";
+        break;
+      }
+      // Largest move of a geometry parameter, in units of its 1-sigma error.
+      const double moved[5] = {next.geometry.centre.east - current.geometry.centre.east,
+                               next.geometry.centre.north - current.geometry.centre.north,
+                               angle_diff_deg(next.geometry.pa_deg, current.geometry.pa_deg),
+                               next.geometry.inc_deg - current.geometry.inc_deg,
+                               next.geometry.vsys_kms - current.geometry.vsys_kms};
+      double change = 0.0;
+      for (int q = 0; q < 5; ++q) {
+        const double sd = std::sqrt(next.covariance(q, q));
+        if (sd > 0 && std::isfinite(sd)) change = std::max(change, std::abs(moved[q]) / sd);
+      }
+      bs.last_change_sigma = change;
+      current = std::move(next);
+      if (change < opt.smearing_tolerance_sigma) {
+        bs.converged = true;
+        break;
+      }
+    }
+    if (!failed) {
+      adopt(std::move(current));
+      fitted = &corrected;
+      bs.applied = true;
+      double ss = 0.0;
+      for (double x : delta) {
+        bs.max_abs_correction_kms = std::max(bs.max_abs_correction_kms, std::abs(x));
+        ss += x * x;
+      }
+      bs.rms_correction_kms = delta.empty() ? 0.0 : std::sqrt(ss / static_cast<double>(delta.size()));
+      bs.x = s.x;
+      bs.y = s.y;
+      bs.correction = std::move(delta);
+      if (!bs.converged)
+        fit.notes.push_back("beam-smearing correction: the geometry still moved by " +
+                            fmt(bs.last_change_sigma, 2) + " sigma in the last of " +
+                            std::to_string(bs.refits) + " refits");
+    } else {
+      fit.notes.push_back("beam-smearing correction not applied: " + bs.reason);
+    }
+  }
+
   fit.ring_centre = make_centre(gl.geometry.centre, gl.centre_covariance(), frame, wcs);
 
   // Ring-by-ring.
@@ -295,7 +411,7 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
     ro.weight_power = opt.weight_power;
     ro.wedge_deg = opt.wedge_deg;
     ro.correlation_factor = d.correlation_factor;
-    auto rf = fit_rings_individually(s, gl, width, ro);
+    auto rf = fit_rings_individually(*fitted, gl, width, ro);
     for (std::size_t k = 0; k < rf.size() && k < fit.rings.size(); ++k) fit.rings[k].free = rf[k];
   }
 
@@ -427,6 +543,28 @@ nlohmann::json to_json(const KinematicFit& fit) {
                       {"ring_width_arcsec", d.ring_width_arcsec},
                       {"max_radius_arcsec", d.max_radius_arcsec},
                       {"error_map", d.has_error_map}};
+  {
+    const BeamSmearingSummary& b = fit.beam_smearing;
+    nlohmann::json jb = {{"requested", b.requested}, {"applied", b.applied}};
+    if (!b.applied) jb["reason"] = b.reason;
+    if (!b.weighting.empty()) jb["weighting"] = b.weighting;
+    if (b.beam_fwhm_arcsec > 0) jb["beam_fwhm_arcsec"] = b.beam_fwhm_arcsec;
+    if (b.refits > 0) {
+      jb["refits"] = b.refits;
+      jb["converged"] = b.converged;
+      jb["last_change_sigma"] = b.last_change_sigma;
+    }
+    if (b.applied) {
+      jb["max_abs_correction_kms"] = b.max_abs_correction_kms;
+      jb["rms_correction_kms"] = b.rms_correction_kms;
+      jb["uncorrected"] = {{"centre_east_arcsec", b.uncorrected.centre.east},
+                           {"centre_north_arcsec", b.uncorrected.centre.north},
+                           {"pa_deg", b.uncorrected.pa_deg},
+                           {"inc_deg", b.uncorrected.inc_deg},
+                           {"vsys_kms", b.uncorrected.vsys_kms}};
+    }
+    j["beam_smearing"] = jb;
+  }
   const WorldCoord gw = fit.frame.to_world(fit.guess.centre);
   j["first_guess"] = {{"ra_deg", gw.ra_deg},
                       {"dec_deg", gw.dec_deg},
@@ -464,14 +602,25 @@ Image model_velocity_map(const KinematicFit& fit, const Image& velocity) {
   return m;
 }
 
+Image smeared_model_velocity_map(const KinematicFit& fit, const Image& model) {
+  Image m = model;
+  const BeamSmearingSummary& b = fit.beam_smearing;
+  if (b.applied)
+    for (std::size_t i = 0; i < b.correction.size(); ++i)
+      if (m.contains(b.x[i], b.y[i])) m.at(b.x[i], b.y[i]) += b.correction[i];
+  return m;
+}
+
 Image residual_velocity_map(const KinematicFit& fit, const Image& velocity, const Image& model) {
   Image r = velocity.like(kNaN);
   r.unit = "km/s";
   std::string why;
   const double f = velocity_unit_factor(velocity, &why);
+  // Observed minus the model as the beam sees it (model + Delta where the
+  // beam-smearing correction was applied).
+  const Image seen = smeared_model_velocity_map(fit, model);
   for (std::size_t i = 0; i < velocity.size(); ++i)
-    r.data[i] = velocity.data[i] * f - model.data[i];  // NaN propagates
-  (void)fit;
+    r.data[i] = velocity.data[i] * f - seen.data[i];  // NaN propagates
   return r;
 }
 

@@ -208,7 +208,20 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
     try {
       kinematics::KinematicOptions ko;
       ko.method = kinematics::Method::both;
-      auto fit = kinematics::fit_kinematics(*velocity, velocity_error ? &*velocity_error : nullptr, ko);
+      // The intensity map weights the beam-smearing correction; when it cannot
+      // (nothing positive under the velocity footprint), the fit falls back to
+      // uniform weight over the footprint and says so.
+      kinematics::KinematicFit fit;
+      try {
+        fit = kinematics::fit_kinematics(*velocity, velocity_error ? &*velocity_error : nullptr, ko,
+                                         intensity ? &*intensity : nullptr);
+      } catch (const InputError& e) {
+        if (!intensity) throw;
+        fit = kinematics::fit_kinematics(*velocity, velocity_error ? &*velocity_error : nullptr, ko);
+        fit.notes.push_back(std::string("the intensity map could not weight the beam-smearing "
+                                        "correction (") + e.what() + "): uniform weight over the "
+                                        "velocity footprint used instead");
+      }
       json kj = kinematics::to_json(fit);
       rep["kinematics"] = kj;
       rep["kinematics"]["status"] = fit.status;

@@ -5,7 +5,10 @@
 //    30-75 deg, rotated and flipped WCS, beam-smoothed noise and holes: the
 //    centre within 0.15 beam FWHM of the truth and inside its own 3-sigma
 //    ellipse in >= 95% of draws; PA within 2 deg, inclination within 4 deg,
-//    vsys within 2 km/s (thresholds from the issue).
+//    vsys within 2 km/s (thresholds from the issue). The mocks are
+//    beam-smeared as moment-1 maps are, and the fit is given their intensity
+//    for its beam-smearing correction, as the pipeline gives it the moment-0
+//    map.
 // Mock fields come from the in-test generator (velocity_field_mock.hpp).
 #include <catch2/catch.hpp>
 
@@ -57,6 +60,9 @@ struct DrawResult {
   double centre_err_beams, mahalanobis2, pa_err, inc_err, vsys_err;
   bool ok;
   double harm_err_beams = -1, harm_mahalanobis2 = -1;
+  int smearing_refits = 0;
+  double max_correction_kms = 0;
+  int passes = 0;
 };
 
 DrawResult one_draw(unsigned seed, bool harmonic, bool smear = true) {
@@ -82,7 +88,9 @@ DrawResult one_draw(unsigned seed, bool harmonic, bool smear = true) {
   KinematicOptions opt;
   opt.method = harmonic ? Method::both : Method::rings;
   opt.ring_by_ring = false;
-  const auto fit = fit_kinematics(m.velocity, &m.velocity_error, opt);
+  opt.correct_beam_smearing = smear;  // nothing to correct in an unsmeared mock
+  // The intensity the mock was smeared with, through the pipeline's API.
+  const auto fit = fit_kinematics(m.velocity, &m.velocity_error, opt, &m.intensity);
   DrawResult d{};
   d.ok = fit.status == "ok";
   if (!d.ok) {
@@ -97,6 +105,9 @@ DrawResult one_draw(unsigned seed, bool harmonic, bool smear = true) {
     m2 = dv.dot(c.covariance.inverse() * dv);
   };
   score(*fit.centre, d.centre_err_beams, d.mahalanobis2);
+  d.smearing_refits = fit.beam_smearing.applied ? fit.beam_smearing.refits : -1;
+  d.max_correction_kms = fit.beam_smearing.max_abs_correction_kms;
+  d.passes = fit.diagnostics.passes;
   if (harmonic && fit.harmonic_centre) score(*fit.harmonic_centre, d.harm_err_beams, d.harm_mahalanobis2);
   d.pa_err = std::abs(angle_diff_deg(fit.pa_deg, s.pa_deg));
   d.inc_err = std::abs(fit.inc_deg - s.inc_deg);
@@ -113,6 +124,8 @@ TEST_CASE("injection-recovery: 200 noisy mock discs", "[kinematics][statistical]
   int ok = 0, within_dist = 0, within_ellipse = 0, pa_ok = 0, inc_ok = 0, vsys_ok = 0;
   int h_ok = 0, h_dist = 0, h_ell = 0;
   double worst_pa = 0, worst_inc = 0, worst_vsys = 0, worst_c = 0, sum_m2 = 0;
+  int corrected = 0, refits = 0, passes = 0;
+  double max_delta = 0;
   for (int i = 0; i < kDraws; ++i) {
     const DrawResult d = one_draw(1000 + i, true);
     if (!d.ok) continue;
@@ -127,6 +140,12 @@ TEST_CASE("injection-recovery: 200 noisy mock discs", "[kinematics][statistical]
     worst_vsys = std::max(worst_vsys, d.vsys_err);
     worst_c = std::max(worst_c, d.centre_err_beams);
     sum_m2 += d.mahalanobis2;
+    if (d.smearing_refits > 0) {
+      ++corrected;
+      refits += d.smearing_refits;
+      passes += d.passes;
+      max_delta = std::max(max_delta, d.max_correction_kms);
+    }
     if (d.harm_err_beams >= 0) {
       ++h_ok;
       h_dist += d.harm_err_beams <= kMaxCentreBeams ? 1 : 0;
@@ -143,15 +162,20 @@ TEST_CASE("injection-recovery: 200 noisy mock discs", "[kinematics][statistical]
                 100.0 * within_ellipse / kDraws, sum_m2 / std::max(ok, 1), worst_c, pa_ok, inc_ok,
                 vsys_ok, worst_pa, worst_inc, worst_vsys, h_ok, h_dist, h_ell);
   WARN(buf);
+  WARN("beam-smearing correction applied in " << corrected << " fits, mean "
+       << double(refits) / std::max(corrected, 1) << " refits, mean "
+       << double(passes) / std::max(corrected, 1) << " passes in the last refit, largest |Delta| "
+       << max_delta << " km/s");
   CHECK(ok == kDraws);
+  CHECK(corrected == ok);  // a beam is known and the intensity is given
   CHECK(within_dist >= kMinFraction * kDraws);
   CHECK(within_ellipse >= kMinFraction * kDraws);
   CHECK(pa_ok >= kMinFraction * kDraws);
-  // KNOWN SHORTFALL: beam smearing biases the inclination low by 2-5 deg at
-  // inclinations above ~60 deg (the model is not beam-smeared); 189/200
-  // (94.5%) are within 4 deg at the last run. Recorded without failing the
-  // suite; the unsmeared test below shows the fit itself meets the limit.
-  CHECK_NOFAIL(inc_ok >= kMinFraction * kDraws);
+  // The fit corrects for beam smearing (kinematics/beam_smearing.hpp) with
+  // the mock's own intensity; without the correction the inclination is
+  // biased low by 2-5 deg above ~60 deg (189/200 within 4 deg at the last
+  // uncorrected run).
+  CHECK(inc_ok >= kMinFraction * kDraws);
   CHECK(vsys_ok >= kMinFraction * kDraws);
 }
 

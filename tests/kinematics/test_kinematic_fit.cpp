@@ -20,6 +20,7 @@ TEST_CASE("noise-free, unsmeared field: exact recovery", "[kinematics]") {
   spec.rotation_deg = 33;
   auto m = test::make_velocity_mock(spec);
   KinematicOptions opt;
+  opt.correct_beam_smearing = false;  // the mock is not smeared
   auto fit = fit_kinematics(m.velocity, nullptr, opt);
   INFO(to_json(fit).dump(1));
   REQUIRE(fit.status == "ok");

@@ -7,7 +7,8 @@
 // PA `rotation_deg` on the sky, optionally flipped. The disc (true centre
 // offset from the grid centre by `centre_offset` arcsec east/north) has a
 // Gaussian-beam-smeared velocity field (intensity-weighted with an
-// exponential disc, so the smearing is that of a moment-1 map), plus noise
+// exponential disc, so the smearing is that of a moment-1 map; the disc is
+// returned as the intensity map), plus noise
 // that is white before the beam and rescaled to `noise_kms` rms per pixel
 // (so it is correlated like a real map's), blanked beyond `disc_radius` and
 // in random circular holes covering about `hole_fraction` of the disc.
@@ -54,6 +55,10 @@ struct VelocityMockSpec {
 struct VelocityMock {
   Image velocity;
   Image velocity_error;
+  // The line intensity the velocity field was smeared with (the exponential
+  // disc, unmasked, arbitrary units), on the same grid: what a moment-0 map
+  // gives the fit (fit_kinematics' `intensity`).
+  Image intensity;
   WorldCoord true_centre;
 };
 
@@ -153,6 +158,9 @@ inline VelocityMock make_velocity_mock(const VelocityMockSpec& s) {
         if ((off.at(x, y) - c).norm() < r) keep = false;
       if (!keep) v.data[i] = nan;
     }
+  m.intensity = v.like(0.0);
+  m.intensity.unit = "Jy/beam.km/s";
+  m.intensity.data = flux;
   m.velocity_error = v.like(1.0);
   for (std::size_t i = 0; i < v.size(); ++i) {
     if (s.noise_kms > 0) m.velocity_error.data[i] = noise_at(s, radius[i]);

@@ -4,7 +4,10 @@
 // and turned into a pixel-space covariance through the grid's Jacobian J =
 // d(east, north)/d(x, y): C_pix = J^-1 C_sky J^-T. This way a rotated or
 // flipped grid is smoothed correctly. The kernel is sampled at pixel centres,
-// truncated at 4 sigma along its major axis and normalised to unit sum.
+// truncated to the box of +-`truncate_sigma` (4 by default) standard
+// deviations along each pixel axis and, within it, to the ellipse
+// q = d^T C^-1 d <= 2 truncate_sigma^2 (which only trims the box corners),
+// and normalised to unit sum.
 //
 // NaN pixels are treated as missing: with `normalise_missing` the result is
 // the normalised convolution (sum of w*f over valid / sum of w over valid);
@@ -13,6 +16,7 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <vector>
 
 #include "fulcrum/io/beam.hpp"
 #include "fulcrum/io/image.hpp"
@@ -22,7 +26,21 @@ namespace fulcrum {
 struct SmoothOptions {
   bool normalise_missing = true;
   bool fill_missing = false;
+  double truncate_sigma = 4.0;  // kernel radius in units of its sigma
 };
+
+// A Gaussian sampled at integer pixel lags (dx, dy) in [-hx, hx] x [-hy, hy]
+// (dx fastest), zero beyond the truncation (see above), unit sum.
+struct PixelKernel {
+  int hx = 0, hy = 0;
+  std::vector<double> weight;
+  double at(int dx, int dy) const {
+    return weight[static_cast<std::size_t>(dx + hx) + static_cast<std::size_t>(2 * hx + 1) * (dy + hy)];
+  }
+};
+
+// The kernel of a Gaussian with pixel covariance `cov` (pixel^2).
+PixelKernel gaussian_kernel(const Eigen::Matrix2d& cov, double truncate_sigma = 4.0);
 
 // Pixel-space covariance (pixel^2) of a Gaussian with sky FWHMs `kernel` on a
 // grid with Jacobian `jac` (arcsec/pixel).

@@ -15,7 +15,7 @@
 // fixed problem. Passes repeat until the pixel set and brackets stop
 // changing and the geometry moves by less than the tolerances. The first pass
 // holds the inclination at its first guess (the least constrained parameter),
-// later ones free it.
+// later ones free it (GlobalFitOptions::hold_inc_first_pass).
 //
 // Units: arcsec, degrees (radians inside Ceres), km/s. Centre offsets are
 // (east, north) arcsec from the samples' reference.
@@ -54,6 +54,14 @@ struct GlobalFitOptions {
   double correlation_factor = 1.0;  // eta of covariance_scaling.hpp
   double min_inc_deg = 5.0, max_inc_deg = 85.0;
   int max_passes = 6;
+  // Hold the inclination at its start value in the first pass (when there
+  // are more than two passes); a refit that starts from a converged geometry
+  // (the beam-smearing correction) turns this off.
+  bool hold_inc_first_pass = true;
+  // Start values of the node speeds vrot_1..N (and vrad_1..N) in km/s, used
+  // when they have one value per node; otherwise the speeds are first
+  // guessed from the data (medians near each node).
+  std::vector<double> start_vrot, start_vrad;
   int max_iterations = 100;         // per pass
   double function_tolerance = 1e-20;  // effectively: stop on the parameter tolerance
   double parameter_tolerance = 1e-14;

@@ -2,14 +2,18 @@
 // point behind `fulcrum kinematics` and the whole-galaxy pipeline.
 //
 //   KinematicOptions opt;                  // defaults: both methods
-//   KinematicFit fit = fit_kinematics(velocity, &velocity_error, opt);
+//   KinematicFit fit = fit_kinematics(velocity, &velocity_error, opt, &intensity);
 //   if (fit.status == "ok") use(fit.centre.world, fit.centre.covariance);
 //   nlohmann::json j = to_json(fit);
 //
 // Steps: samples on the sky (velocity_samples.hpp), first guesses
 // (first_guess.hpp, overridable), the global tilted-ring fit (global_fit.hpp,
-// the dynamical centre), the ring-by-ring fit (ring_fit.hpp), the harmonic
-// centre (harmonic_centre.hpp). Rings are `ring_width_beams` beam FWHM wide
+// the dynamical centre), the beam-smearing correction of the global fit
+// (beam_smearing.hpp: refits to the velocities minus what the beam does to
+// the fitted model, on by default when the map has a beam; the line-intensity
+// map weights the smearing when given), the ring-by-ring fit (ring_fit.hpp,
+// on the corrected velocities), the harmonic centre (harmonic_centre.hpp, on
+// the observed velocities with the corrected PA and inclination). Rings are `ring_width_beams` beam FWHM wide
 // (half a beam by default).
 //
 // fit_kinematics throws InputError only for unusable input (grids that do not
@@ -32,6 +36,7 @@
 #include <vector>
 
 #include "fulcrum/io/image.hpp"
+#include "fulcrum/kinematics/beam_smearing.hpp"
 #include "fulcrum/kinematics/first_guess.hpp"
 #include "fulcrum/kinematics/global_fit.hpp"
 #include "fulcrum/kinematics/harmonic_centre.hpp"
@@ -71,7 +76,34 @@ struct KinematicOptions {
   double min_inc_deg = 15.0;                // more face-on: refused
   double min_rotation_snr = 5.0;            // peak vrot sin i over its error
   double harmonic_min_radius_beams = 1.0;
+  // Beam-smearing correction (beam_smearing.hpp, docs/kinematics.md §2a):
+  // applied when this is set and a beam is known (the velocity map's, else
+  // the intensity map's). The global fit is repeated on the corrected
+  // velocities until no geometry parameter (centre, PA, inclination, vsys)
+  // moves by more than `smearing_tolerance_sigma` of its 1-sigma error, at
+  // most `smearing_max_refits` times.
+  bool correct_beam_smearing = true;
+  int smearing_max_refits = 4;
+  double smearing_tolerance_sigma = 0.1;
   bool record_problem = false;              // keep the global problem (tests)
+};
+
+// What the beam-smearing correction did.
+struct BeamSmearingSummary {
+  bool requested = false;
+  bool applied = false;             // the adopted fit is the corrected one
+  std::string reason;               // why it was not applied (empty when applied)
+  std::string weighting;            // what weighted the smearing (intensity map or footprint)
+  double beam_fwhm_arcsec = 0.0;
+  int refits = 0;
+  bool converged = false;           // the geometry settled within the tolerance
+  double last_change_sigma = 0.0;   // largest geometry move of the last refit, in sigma
+  double max_abs_correction_kms = 0.0;  // max |Delta| over the samples
+  double rms_correction_kms = 0.0;
+  DiscGeometry uncorrected;         // the geometry fitted without the correction
+  // Delta (km/s) at each velocity-map pixel it was applied to (0-based x, y).
+  std::vector<int> x, y;
+  std::vector<double> correction;
 };
 
 struct CentreEstimate {
@@ -125,26 +157,38 @@ struct KinematicFit {
   std::vector<RingRow> rings;
   KinematicDiagnostics diagnostics;
   std::vector<std::string> notes;   // e.g. unit conversion
-  GlobalFitSummary global;          // the full global-fit summary
+  GlobalFitSummary global;          // the full global-fit summary (the adopted fit)
+  BeamSmearingSummary beam_smearing;
 };
 
+// `intensity` (optional, may be null) is the line-intensity (moment-0) map
+// that weights the beam-smearing correction, on any celestial grid; without
+// it the smearing is weighted uniformly over the velocity map's footprint.
 KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
-                            const KinematicOptions& options);
+                            const KinematicOptions& options, const Image* intensity = nullptr);
 
 // The same on prepared samples (tests); `wcs` turns offsets into pixels and
-// may be invalid (pixels then NaN).
+// may be invalid (pixels then NaN). `smearing` (may be null: no correction)
+// is the grid of beam_smearing.hpp built for these samples.
 KinematicFit fit_kinematics_samples(const VelocitySamples& samples, const OffsetFrame& frame,
-                                    const CelestialWcs& wcs, const KinematicOptions& options);
+                                    const CelestialWcs& wcs, const KinematicOptions& options,
+                                    const SmearingGrid* smearing = nullptr);
 
 // The JSON block described in docs/kinematics.md (centre with ra_deg,
 // dec_deg, x_pix, y_pix, cov_arcsec2; pa_deg, inc_deg, vsys_kms, rings,
-// method, status, reason, harmonic_centre, diagnostics).
+// method, status, reason, harmonic_centre, diagnostics, beam_smearing).
 nlohmann::json to_json(const KinematicFit& fit);
 
-// Model and residual (observed - model) velocity maps on the input grid, in
-// km/s; NaN where the model is undefined (beyond the outer ring) or, for the
-// residual, where the data are missing.
+// Model and residual velocity maps on the input grid, in km/s. The model is
+// the intrinsic (unsmeared) tilted-ring field, NaN beyond the outer ring. The
+// residual is observed minus the model as the beam sees it: minus model +
+// Delta where the beam-smearing correction was applied, minus the model
+// elsewhere; NaN where the data are missing.
 Image model_velocity_map(const KinematicFit& fit, const Image& velocity);
+// The model as the beam sees it: model + Delta at the pixels the beam-smearing
+// correction was applied to, the model itself elsewhere (and everywhere when
+// the correction was not applied).
+Image smeared_model_velocity_map(const KinematicFit& fit, const Image& model);
 Image residual_velocity_map(const KinematicFit& fit, const Image& velocity, const Image& model);
 
 }  // namespace fulcrum::kinematics
