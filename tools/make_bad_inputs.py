@@ -274,6 +274,14 @@ def make_bad_inputs(d):
     manifest("manifest_tail_pa_out_of_range.toml", {"tail": "720.0"})
     manifest("manifest_no_name.toml", {"name": ""})
     manifest("manifest_no_galaxies.toml")
+    # A galaxy given as a line cube: the run makes its maps (issue 7).
+    cube_galaxy = '[[galaxy]]\nname = "Mock-C"\ncube = "{cube}"\ntail_pa_deg = 300.0\n{extra}\n'
+    with open(p("manifest_cube_and_velocity.toml"), "w") as f:
+        f.write(head + cube_galaxy.format(cube="cube_all_blank.fits", extra='velocity = "good_vel.fits"'))
+    with open(p("manifest_cube_all_blank.toml"), "w") as f:
+        f.write(head + cube_galaxy.format(cube="cube_all_blank.fits", extra=""))
+    with open(p("manifest_cube_is_a_map.toml"), "w") as f:
+        f.write(head + cube_galaxy.format(cube="good_mom0.fits", extra=""))
     with open(p("manifest_syntax_error.toml"), "w") as f:
         f.write(head + '[[galaxy]\nname = "Mock-A"\n')
     write_bytes(p("manifest_empty.toml"), b"")

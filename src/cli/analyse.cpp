@@ -1,6 +1,8 @@
 // `fulcrum analyse`: the whole chain for one galaxy into one output folder
-// (report.json, figures/*.svg, report.html). The library does the work
-// (pipeline/galaxy_analysis.hpp); this file only reads options.
+// (report.json, figures/*.svg, report.html; with --cube also the moment maps
+// made from the cube, moments/). The library does the work
+// (pipeline/galaxy_analysis.hpp, pipeline/cube_maps.hpp); this file only
+// reads options (the galaxy's inputs: galaxy_args.hpp).
 #include <cmath>
 #include <filesystem>
 #include <iostream>
@@ -8,15 +10,17 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
 #include "fulcrum/pipeline/sample_run.hpp"
+#include "galaxy_args.hpp"
 #include "subcommand.hpp"
 
 namespace {
 
 struct AnalyseArgs {
-  fulcrum::pipeline::GalaxyInput in;
-  double rms = 0, psf = 0, tail_pa = 0, distance = 0, alpha_co = 0, ratio21 = 0, redshift = -1;
+  fulcrum::cli::GalaxyArgs galaxy;
+  double distance = 0, alpha_co = 0, ratio21 = 0, redshift = -1;
   std::string co_line;
   std::uint64_t seed = 1;
   int draws = 20000;
@@ -29,20 +33,8 @@ struct AnalyseArgs {
 void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
   using namespace fulcrum;
   set_quiet(cli::global_flags().quiet);
-  auto& in = a.in;
-  if (in.name.empty()) in.name = std::filesystem::path(in.intensity).parent_path().filename().string();
-  if (in.name.empty() || in.name == "." || in.name == "..") in.name = "galaxy";
-  if (cmd->count("--rms")) {
-    if (!(a.rms > 0)) throw InputError("", "--rms must be positive");
-    in.rms = a.rms;
-  }
-  if (cmd->count("--psf-fwhm")) in.psf_fwhm_arcsec = a.psf;
-  if (cmd->count("--tail-pa")) {
-    if (!std::isfinite(a.tail_pa))
-      throw InputError("", "--tail-pa must be a finite angle in degrees (got " + std::to_string(a.tail_pa) + ")");
-    in.tail_pa_deg = a.tail_pa;
-  }
-  if (!in.tail_pa_deg && in.tail_image.empty()) throw InputError("", "give --tail-pa DEG or --tail-image IMG.fits");
+  a.galaxy.finish(cmd, true);
+  auto& in = a.galaxy.in;
   if (cmd->count("--distance-mpc")) {
     if (!(a.distance > 0)) throw InputError("", "--distance-mpc must be positive");
     in.distance_mpc = a.distance;
@@ -55,17 +47,22 @@ void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
   if (cmd->count("--co-ratio-21")) in.molecular.co_ratio_21 = a.ratio21;
   if (cmd->count("--redshift")) in.molecular.redshift = a.redshift;
   if (a.draws < 100) throw InputError("", "--draws must be at least 100");
+  if (a.calibrate < 0) throw InputError("", "--calibrate must be 0 or more mocks");
   namespace fs = std::filesystem;
   if (fs::exists(fs::path(a.out) / "report.json") && !cli::global_flags().force)
     throw InputError(a.out, "already holds a report.json (use --force to overwrite)");
   if (fs::exists(a.out) && !fs::is_directory(a.out))
     throw InputError(a.out, "exists and is not a folder: choose another output folder");
 
+  if (!in.cube.empty()) {
+    note("making the moment maps of " + in.cube);
+    in = pipeline::make_maps_from_cube(in, a.out);
+  }
+
   pipeline::AnalysisOptions o;
   o.seed = a.seed;
   o.draws = a.draws;
   o.figures = !a.no_figures;
-  if (a.calibrate < 0) throw InputError("", "--calibrate must be 0 or more mocks");
   o.calibrate = a.calibrate;
   o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a.bootstrap_centres);
   note("analysing " + in.name);
@@ -86,21 +83,8 @@ FULCRUM_SUBCOMMAND(analyse, 70, [](CLI::App& app) {
       "analyse",
       "One galaxy, the whole chain: kinematic and photometric centres, halves at every centre, flip distance, "
       "bootstrap, verdict and figures into one folder");
-  cmd->add_option("--velocity", a->in.velocity, "Velocity field (FITS, km/s or m/s)")->required()->check(CLI::ExistingFile);
-  cmd->add_option("--velocity-error", a->in.velocity_error, "Velocity error map (FITS)")->check(CLI::ExistingFile);
-  cmd->add_option("--intensity", a->in.intensity, "Integrated line intensity map (FITS)")->required()->check(CLI::ExistingFile);
-  auto* err = cmd->add_option("--intensity-error", a->in.intensity_error, "Per-pixel error of the intensity map (FITS)")
-                  ->check(CLI::ExistingFile);
-  cmd->add_option("--rms", a->rms, "One rms for every intensity pixel (map units), instead of an error map")->excludes(err);
-  cmd->add_option("--optical", a->in.optical, "Optical image for the photometric centres (FITS)")->check(CLI::ExistingFile);
-  cmd->add_option("--optical-mask", a->in.optical_mask, "Mask of the optical image (non-zero: masked)")->check(CLI::ExistingFile);
-  cmd->add_option("--psf-fwhm", a->psf, "Optical PSF FWHM in arcsec (default: from the image header)");
-  auto* tp = cmd->add_option("--tail-pa", a->tail_pa, "Direction of the gas tail from the centre, deg north through east");
-  cmd->add_option("--tail-pa-err", a->in.tail_pa_err_deg, "Error of the tail direction, deg (default 10)");
-  cmd->add_option("--tail-image", a->in.tail_image, "Image of the tail to measure its direction from")
-      ->check(CLI::ExistingFile)->excludes(tp);
+  a->galaxy.add(cmd);
   cmd->add_option("--distance-mpc", a->distance, "Distance in Mpc (offsets in kpc, molecular-gas masses)");
-  cmd->add_option("--name", a->in.name, "Galaxy name for the report (default: the intensity map's folder)");
   cmd->add_option("--seed", a->seed, "Seed of the random generator (default 1)");
   cmd->add_option("--draws", a->draws, "Bootstrap draws (default 20000)");
   cmd->add_option("--co-line", a->co_line, "CO line of the map, 1-0 or 2-1: adds molecular-gas masses of the halves");

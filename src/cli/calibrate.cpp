@@ -1,7 +1,9 @@
 // `fulcrum calibrate`: matched-mock calibration of one galaxy's verdict. Takes
 // the inputs of `analyse` (and runs that analysis first), or a finished
-// analyse folder (--from DIR, its report.json) plus the maps; writes
-// OUT/calibration.json. The library does the work (calibration/).
+// analyse folder (--from DIR, its report.json) plus the maps (or the cube:
+// --cube makes them into OUT/moments/); writes OUT/calibration.json. The
+// library does the work (calibration/); the galaxy's inputs are read as for
+// analyse (galaxy_args.hpp).
 #include <filesystem>
 #include <fstream>
 #include <iostream>
@@ -12,14 +14,15 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "galaxy_args.hpp"
 #include "subcommand.hpp"
 
 namespace {
 
 struct CalibrateArgs {
-  fulcrum::pipeline::GalaxyInput in;
-  double rms = 0, tail_pa = 0;
+  fulcrum::cli::GalaxyArgs galaxy;
   std::uint64_t seed = 1;
   int draws = 20000;
   std::size_t mocks = 100, mock_draws = 2000, refit_every = 1;
@@ -31,19 +34,18 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
   using namespace fulcrum;
   namespace fs = std::filesystem;
   set_quiet(cli::global_flags().quiet);
-  auto& in = a.in;
-  if (in.name.empty()) in.name = fs::path(in.intensity).parent_path().filename().string();
-  if (in.name.empty() || in.name == "." || in.name == "..") in.name = "galaxy";
-  if (cmd->count("--rms")) {
-    if (!(a.rms > 0)) throw InputError("", "--rms must be positive");
-    in.rms = a.rms;
-  }
-  if (cmd->count("--tail-pa")) in.tail_pa_deg = a.tail_pa;
+  a.galaxy.finish(cmd, a.from.empty());
+  auto& in = a.galaxy.in;
   if (a.mocks < 1) throw InputError("", "--mocks must be at least 1");
   if (a.mock_draws < 100) throw InputError("", "--mock-draws must be at least 100");
   const fs::path out_file = fs::path(a.out) / "calibration.json";
   if (fs::exists(out_file) && !cli::global_flags().force)
     throw InputError(a.out, "already holds a calibration.json (use --force to overwrite)");
+
+  if (!in.cube.empty()) {
+    note("making the moment maps of " + in.cube);
+    in = pipeline::make_maps_from_cube(in, a.out);
+  }
 
   nlohmann::json report;
   std::string where;
@@ -57,7 +59,6 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
       throw InputError(where, std::string("is not JSON: ") + e.what());
     }
   } else {
-    if (!in.tail_pa_deg && in.tail_image.empty()) throw InputError("", "give --tail-pa DEG or --tail-image IMG.fits");
     pipeline::AnalysisOptions o;
     o.seed = a.seed;
     o.draws = a.draws;
@@ -103,19 +104,7 @@ FULCRUM_SUBCOMMAND(calibrate, 75, [](CLI::App& app) {
       "calibrate",
       "Matched-mock calibration: how often the analysis calls a symmetric disc with this galaxy's beam, noise, "
       "masking and centre errors robust, and how well it recovers the measured asymmetry");
-  cmd->add_option("--velocity", a->in.velocity, "Velocity field (FITS, km/s or m/s)")->required()->check(CLI::ExistingFile);
-  cmd->add_option("--velocity-error", a->in.velocity_error, "Velocity error map (FITS)")->check(CLI::ExistingFile);
-  cmd->add_option("--intensity", a->in.intensity, "Integrated line intensity map (FITS)")->required()->check(CLI::ExistingFile);
-  auto* err = cmd->add_option("--intensity-error", a->in.intensity_error, "Per-pixel error of the intensity map (FITS)")
-                  ->check(CLI::ExistingFile);
-  cmd->add_option("--rms", a->rms, "One rms for every intensity pixel (map units), instead of an error map")->excludes(err);
-  cmd->add_option("--optical", a->in.optical, "Optical image for the photometric centres (FITS)")->check(CLI::ExistingFile);
-  cmd->add_option("--optical-mask", a->in.optical_mask, "Mask of the optical image (non-zero: masked)")->check(CLI::ExistingFile);
-  auto* tp = cmd->add_option("--tail-pa", a->tail_pa, "Direction of the gas tail from the centre, deg north through east");
-  cmd->add_option("--tail-pa-err", a->in.tail_pa_err_deg, "Error of the tail direction, deg (default 10)");
-  cmd->add_option("--tail-image", a->in.tail_image, "Image of the tail to measure its direction from")
-      ->check(CLI::ExistingFile)->excludes(tp);
-  cmd->add_option("--name", a->in.name, "Galaxy name (default: the intensity map's folder)");
+  a->galaxy.add(cmd);
   cmd->add_option("--seed", a->seed, "Galaxy seed (default: the analysis seed, 1)");
   cmd->add_option("--draws", a->draws, "Bootstrap draws of the real analysis (default 20000)");
   cmd->add_option("--from", a->from, "A finished analyse output folder: use its report.json instead of re-running")

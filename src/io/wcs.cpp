@@ -16,6 +16,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/io/header_card.hpp"
 
 namespace fulcrum {
 
@@ -230,39 +231,21 @@ CelestialWcs CelestialWcs::from_header(const std::string& header_cards, const st
   return out;
 }
 
-namespace {
-std::string card(const std::string& key, const std::string& value, bool quote) {
-  char buf[81];
-  if (quote)
-    std::snprintf(buf, sizeof buf, "%-8.8s= '%s'", key.c_str(), value.c_str());
-  else
-    std::snprintf(buf, sizeof buf, "%-8.8s= %20s", key.c_str(), value.c_str());
-  std::string s(buf);
-  s.resize(80, ' ');
-  return s;
-}
-std::string num(double v) {
-  char buf[32];
-  std::snprintf(buf, sizeof buf, "%.17G", v);
-  return buf;
-}
-}  // namespace
-
 CelestialWcs CelestialWcs::from_cd(const std::string& projection, PixelCoord crpix0,
                                    WorldCoord crval, const double cd[2][2]) {
   std::string h;
-  h += card("NAXIS", "2", false);
-  h += card("CTYPE1", "RA---" + projection, true);
-  h += card("CTYPE2", "DEC--" + projection, true);
-  h += card("CRPIX1", num(crpix0.x + 1.0), false);
-  h += card("CRPIX2", num(crpix0.y + 1.0), false);
-  h += card("CRVAL1", num(crval.ra_deg), false);
-  h += card("CRVAL2", num(crval.dec_deg), false);
-  h += card("CD1_1", num(cd[0][0]), false);
-  h += card("CD1_2", num(cd[0][1]), false);
-  h += card("CD2_1", num(cd[1][0]), false);
-  h += card("CD2_2", num(cd[1][1]), false);
-  h += card("RADESYS", "ICRS", true);
+  h += header_card("NAXIS", "2", false);
+  h += header_card("CTYPE1", "RA---" + projection, true);
+  h += header_card("CTYPE2", "DEC--" + projection, true);
+  h += header_card("CRPIX1", header_number(crpix0.x + 1.0), false);
+  h += header_card("CRPIX2", header_number(crpix0.y + 1.0), false);
+  h += header_card("CRVAL1", header_number(crval.ra_deg), false);
+  h += header_card("CRVAL2", header_number(crval.dec_deg), false);
+  h += header_card("CD1_1", header_number(cd[0][0]), false);
+  h += header_card("CD1_2", header_number(cd[0][1]), false);
+  h += header_card("CD2_1", header_number(cd[1][0]), false);
+  h += header_card("CD2_2", header_number(cd[1][1]), false);
+  h += header_card("RADESYS", "ICRS", true);
   return from_header(h, "built-in WCS");
 }
 
@@ -273,7 +256,7 @@ WorldCoord CelestialWcs::pixel_to_world(PixelCoord p) const {
   int stat = 0;
   int status = wcsp2s(wcs_.get(), 1, 2, pix, img, &phi, &theta, world, &stat);
   if (status != 0)
-    throw InputError(source_, "pixel (" + num(p.x + 1) + ", " + num(p.y + 1) +
+    throw InputError(source_, "pixel (" + header_number(p.x + 1) + ", " + header_number(p.y + 1) +
                                   ") has no sky position: " + wcs_message(wcs_.get(), status));
   return {world[wcs_->lng], world[wcs_->lat]};
 }
@@ -308,7 +291,7 @@ PixelCoord CelestialWcs::world_to_pixel(WorldCoord w) const {
   int stat = 0;
   int status = wcss2p(wcs_.get(), 1, 2, world, &phi, &theta, img, pix, &stat);
   if (status != 0)
-    throw InputError(source_, "sky position (" + num(w.ra_deg) + ", " + num(w.dec_deg) +
+    throw InputError(source_, "sky position (" + header_number(w.ra_deg) + ", " + header_number(w.dec_deg) +
                                   ") deg is not on the map's projection: " +
                                   wcs_message(wcs_.get(), status));
   return {pix[0] - 1.0, pix[1] - 1.0};

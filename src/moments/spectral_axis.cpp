@@ -16,6 +16,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/io/header_card.hpp"
 
 namespace fulcrum {
 
@@ -46,23 +47,6 @@ bool needs_rest_frequency(const std::string& type4) {
   // Axes that are not velocities need a rest frequency (or wavelength) to
   // become one.
   return type4 == "FREQ" || type4 == "ENER" || type4 == "WAVN" || type4 == "WAVE" || type4 == "AWAV";
-}
-
-std::string card(const std::string& key, const std::string& value, bool quote) {
-  char buf[96];
-  if (quote)
-    std::snprintf(buf, sizeof buf, "%-8.8s= '%-8s'", key.c_str(), value.c_str());
-  else
-    std::snprintf(buf, sizeof buf, "%-8.8s= %20s", key.c_str(), value.c_str());
-  std::string s(buf);
-  s.resize(80, ' ');
-  return s;
-}
-
-std::string num(double v) {
-  char b[40];
-  std::snprintf(b, sizeof b, "%.15E", v);
-  return b;
 }
 
 }  // namespace
@@ -187,8 +171,8 @@ std::string spectral_cards_as_axis3(const std::string& header, int n) {
   auto get = [&](const std::string& k) { return header_value(header, k); };
   std::string out;
   auto ctype = get("CTYPE" + s);
-  if (ctype) out += card("CTYPE3", *ctype, true);
-  if (auto u = get("CUNIT" + s)) out += card("CUNIT3", *u, true);
+  if (ctype) out += header_card("CTYPE3", *ctype, true);
+  if (auto u = get("CUNIT" + s)) out += header_card("CUNIT3", *u, true);
   double crpix = 1.0, crval = 0.0, cdelt = 1.0;
   if (auto v = get("CRPIX" + s)) crpix = std::atof(v->c_str());
   if (auto v = get("CRVAL" + s)) crval = std::atof(v->c_str());
@@ -199,15 +183,15 @@ std::string spectral_cards_as_axis3(const std::string& header, int n) {
     if (auto p = get("PC" + s + "_" + s)) cdelt *= std::atof(p->c_str());
     else if (auto p2 = get("PC00" + s + "00" + s)) cdelt *= std::atof(p2->c_str());
   }
-  out += card("CRPIX3", num(crpix), false);
-  out += card("CRVAL3", num(crval), false);
-  out += card("CDELT3", num(cdelt), false);
+  out += header_card("CRPIX3", header_number(crpix), false);
+  out += header_card("CRVAL3", header_number(crval), false);
+  out += header_card("CDELT3", header_number(cdelt), false);
   for (const char* k : {"RESTFRQ", "RESTFREQ", "RESTWAV"})
-    if (auto v = get(k)) out += card(k, *v, false);
+    if (auto v = get(k)) out += header_card(k, *v, false);
   for (const char* k : {"SPECSYS", "SSYSOBS", "SSYSSRC"})
-    if (auto v = get(k)) out += card(k, *v, true);
+    if (auto v = get(k)) out += header_card(k, *v, true);
   for (const char* k : {"VELREF", "VELOSYS", "ZSOURCE"})
-    if (auto v = get(k)) out += card(k, *v, false);
+    if (auto v = get(k)) out += header_card(k, *v, false);
   return out;
 }
 

@@ -145,6 +145,13 @@ json input_provenance(const GalaxyInput& in) {
   add("optical", in.optical);
   add("optical_mask", in.optical_mask);
   add("tail_image", in.tail_image);
+  add("cube", in.cube);
+  if (!in.cube.empty()) {
+    // The four maps above were made from it (pipeline/cube_maps.hpp).
+    j["cube"]["moment_settings"] = to_json(in.moments);
+    if (!in.intensity.empty())
+      j["cube"]["moments_summary"] = (fs::path(in.intensity).parent_path() / "moments.json").string();
+  }
   return j;
 }
 

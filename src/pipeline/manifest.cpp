@@ -1,9 +1,11 @@
 // TOML sample manifests (toml++), with line-numbered errors.
 #include "fulcrum/pipeline/manifest.hpp"
 
+#include <algorithm>
 #include <filesystem>
 #include <cmath>
 #include <fstream>
+#include <map>
 #include <set>
 #include <sstream>
 
@@ -85,24 +87,59 @@ bool read_molecular(const Ctx& c, const std::string& key, const toml::node& n, M
   return true;
 }
 
+// A galaxy's `moments` table: the settings of moments/moment_settings.hpp by name.
+void read_moment_settings(const Ctx& c, const toml::node& n, MomentSettings& s) {
+  const auto* t = n.as_table();
+  if (!t) fail(c, line_of(n), "'moments' must be a table, e.g. moments = { mask = \"moment-masking\" }");
+  auto settings = moment_settings(s);
+  std::set<std::string> names;
+  for (const auto& m : settings) names.insert(m.name);
+  for (const auto& [k, node] : *t) {
+    const std::string key(k.str());
+    const int line = line_of(node);
+    const MomentSetting* m = nullptr;
+    for (const auto& x : settings)
+      if (x.name == key) m = &x;
+    if (!m) fail(c, line, "unknown key '" + key + "' in 'moments' (known keys: " + known_list(names) + ")");
+    if (auto* p = std::get_if<std::string*>(&m->target)) {
+      **p = m->is_path ? resolve(c, get_string(c, node, key)) : get_string(c, node, key);
+    } else if (auto* d = std::get_if<double*>(&m->target)) {
+      **d = get_number(c, node, key);
+    } else if (auto* i = std::get_if<int*>(&m->target)) {
+      const auto v = get_integer(c, node, key);
+      if (v < -1000000 || v > 1000000) fail(c, line, "'" + key + "' is out of range");
+      **i = static_cast<int>(v);
+    } else if (auto* b = std::get_if<bool*>(&m->target)) {
+      if (!node.is_boolean()) fail(c, line, "'" + key + "' must be true or false");
+      **b = *node.value<bool>();
+    }
+  }
+  const std::string problem = moment_settings_problem(s, [](const std::string& k) { return "'" + k + "'"; });
+  if (!problem.empty()) fail(c, line_of(n), "moments: " + problem);
+}
+
 GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasInput& defaults,
                         int table_line) {
   static const std::set<std::string> keys = [] {
     std::set<std::string> k = {"name", "velocity", "velocity_error", "intensity", "intensity_error", "rms",
                                "optical", "optical_mask", "psf_fwhm_arcsec", "tail_pa_deg",
-                               "tail_pa_err_deg", "tail_image", "distance_mpc", "seed"};
+                               "tail_pa_err_deg", "tail_image", "distance_mpc", "seed", "cube", "moments"};
     k.insert(kMolecularKeys.begin(), kMolecularKeys.end());
     return k;
   }();
   GalaxyInput g;
   g.molecular = defaults;
   g.manifest_line = table_line;
+  std::map<std::string, int> key_line;
   for (const auto& [k, node] : t) {
     std::string key(k.str());
     int line = line_of(node);
     if (!keys.count(key))
       fail(c, line, "unknown key '" + key + "' in [[galaxy]] (known keys: " + known_list(keys) + ")");
+    key_line[key] = line;
     if (key == "name") g.name = get_string(c, node, key);
+    else if (key == "cube") g.cube = resolve(c, get_string(c, node, key));
+    else if (key == "moments") read_moment_settings(c, node, g.moments);
     else if (key == "velocity") g.velocity = resolve(c, get_string(c, node, key));
     else if (key == "velocity_error") g.velocity_error = resolve(c, get_string(c, node, key));
     else if (key == "intensity") g.intensity = resolve(c, get_string(c, node, key));
@@ -141,8 +178,23 @@ GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasIn
     if (ch == '/' || ch == '\\' || static_cast<unsigned char>(ch) < 32)
       fail(c, table_line, "galaxy name '" + g.name + "' must not contain '/', '\\' or control characters");
   if (g.name == "." || g.name == "..") fail(c, table_line, "galaxy name '" + g.name + "' is not allowed");
-  if (g.velocity.empty()) fail(c, table_line, "galaxy '" + g.name + "' has no 'velocity' file");
-  if (g.intensity.empty()) fail(c, table_line, "galaxy '" + g.name + "' has no 'intensity' file");
+  if (!g.cube.empty()) {
+    // The cube makes the maps and their errors: one or the other. Name the
+    // line of whichever key comes second.
+    for (const char* k : {"velocity", "velocity_error", "intensity", "intensity_error", "rms"})
+      if (key_line.count(k))
+        fail(c, std::max(key_line[k], key_line["cube"]),
+             "galaxy '" + g.name + "' gives both 'cube' (line " + std::to_string(key_line["cube"]) + ") and '" + k +
+                 "' (line " + std::to_string(key_line[k]) +
+                 "): the cube makes the velocity and intensity maps and their error maps; give one or the other");
+  } else {
+    if (key_line.count("moments"))
+      fail(c, key_line["moments"], "galaxy '" + g.name + "' gives 'moments' settings but no 'cube'");
+    if (g.velocity.empty())
+      fail(c, table_line, "galaxy '" + g.name + "' has no 'velocity' file (or 'cube' to make the maps from)");
+    if (g.intensity.empty())
+      fail(c, table_line, "galaxy '" + g.name + "' has no 'intensity' file (or 'cube' to make the maps from)");
+  }
   if (!g.intensity_error.empty() && g.rms)
     fail(c, table_line, "galaxy '" + g.name + "' gives both 'intensity_error' and 'rms': choose one");
   if (g.tail_pa_deg && !g.tail_image.empty())

@@ -16,6 +16,7 @@
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/report/html_report.hpp"
 #include "fulcrum/report/sample_statistics.hpp"
 #include "fulcrum/report/svg.hpp"
@@ -423,12 +424,23 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
     ao.figures = o.figures;
     ao.bootstrap_from_estimates = o.bootstrap_from_estimates;
     GalaxyResult res;
+    std::string failed;
     try {
-      res = analyse_galaxy(g, ao);
+      // A galaxy given as a cube: its maps are made into its folder first.
+      GalaxyInput maps;
+      try {
+        maps = make_maps_from_cube(g, (out / g.name).string());
+      } catch (const InputError& e) {
+        failed = std::string("the moment maps could not be made from the cube: ") + e.what();
+      }
+      if (failed.empty()) res = analyse_galaxy(maps, ao);
     } catch (const std::exception& e) {
+      failed = std::string("the analysis stopped: ") + e.what();
+    }
+    if (!failed.empty()) {
       // One failing galaxy must not stop the others.
       res.name = g.name;
-      res.report = minimal_failure_report(g, std::string("the analysis stopped: ") + e.what(), ao);
+      res.report = minimal_failure_report(g, failed, ao);
     }
     res.report["sample"] = {{"name", manifest.name}, {"manifest", manifest.path}, {"index", index[g.name]},
                             {"seed", o.seed.value_or(manifest.seed)}};

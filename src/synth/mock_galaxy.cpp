@@ -44,6 +44,7 @@
 #include <Eigen/Eigenvalues>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/io/header_card.hpp"
 #include "fulcrum/imaging/gaussian_smooth.hpp"
 #include "fulcrum/sky/angle.hpp"
 #include "fulcrum/sky/ellipse.hpp"
@@ -189,25 +190,6 @@ Image make_image(int nx, int ny, const CelestialWcs& wcs, std::vector<double> da
   im.beam = beam;
   im.unit = unit;
   return im;
-}
-
-std::string card(const std::string& key, const std::string& value, bool quote,
-                 const std::string& comment = "") {
-  char buf[96];
-  if (quote)
-    std::snprintf(buf, sizeof buf, "%-8.8s= '%-8s'", key.c_str(), value.c_str());
-  else
-    std::snprintf(buf, sizeof buf, "%-8.8s= %20s", key.c_str(), value.c_str());
-  std::string s(buf);
-  if (!comment.empty()) s += " / " + comment;
-  s.resize(80, ' ');
-  return s;
-}
-
-std::string num17(double v) {
-  char b[40];
-  std::snprintf(b, sizeof b, "%.15E", v);
-  return b;
 }
 
 // The intrinsic line model evaluated at a sky offset p (arcsec from the
@@ -723,20 +705,20 @@ MockProducts make_mock(const MockGalaxy& g) {
     const double v0 = vchan[0], step = vchan.size() > 1 ? vchan[1] - vchan[0] : dv;
     if (c.spectral_type == "FREQ") {
       // Radio convention: nu = nu0 (1 - v/c), linear in v.
-      cards += card("CTYPE3", "FREQ", true);
-      cards += card("CUNIT3", "Hz", true);
-      cards += card("CRPIX3", num17(1.0), false);
-      cards += card("CRVAL3", num17(c.rest_frequency_hz * (1.0 - v0 / kLightKms)), false);
-      cards += card("CDELT3", num17(-c.rest_frequency_hz * step / kLightKms), false);
+      cards += header_card("CTYPE3", "FREQ", true);
+      cards += header_card("CUNIT3", "Hz", true);
+      cards += header_card("CRPIX3", header_number(1.0), false);
+      cards += header_card("CRVAL3", header_number(c.rest_frequency_hz * (1.0 - v0 / kLightKms)), false);
+      cards += header_card("CDELT3", header_number(-c.rest_frequency_hz * step / kLightKms), false);
     } else {
-      cards += card("CTYPE3", c.spectral_type, true);
-      cards += card("CUNIT3", "m/s", true);
-      cards += card("CRPIX3", num17(1.0), false);
-      cards += card("CRVAL3", num17(v0 * 1000.0), false);
-      cards += card("CDELT3", num17(step * 1000.0), false);
+      cards += header_card("CTYPE3", c.spectral_type, true);
+      cards += header_card("CUNIT3", "m/s", true);
+      cards += header_card("CRPIX3", header_number(1.0), false);
+      cards += header_card("CRVAL3", header_number(v0 * 1000.0), false);
+      cards += header_card("CDELT3", header_number(step * 1000.0), false);
     }
-    cards += card("RESTFRQ", num17(c.rest_frequency_hz), false, "rest frequency, Hz");
-    cards += card("SPECSYS", "BARYCENT", true);
+    cards += header_card("RESTFRQ", header_number(c.rest_frequency_hz), false, "rest frequency, Hz");
+    cards += header_card("SPECSYS", "BARYCENT", true);
     // The in-memory cube carries the header a file would: celestial cards
     // (without WCSAXES = 2) and the spectral axis.
     std::string celestial = map_wcs.header_cards();

@@ -11,47 +11,32 @@
 
 #include "../support/test_support.hpp"
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/io/header_card.hpp"
 #include "fulcrum/moments/spectral_axis.hpp"
 
 using namespace fulcrum;
 
 namespace {
 
-std::string card(const std::string& key, const std::string& value, bool quote) {
-  char buf[96];
-  if (quote)
-    std::snprintf(buf, sizeof buf, "%-8.8s= '%-8s'", key.c_str(), value.c_str());
-  else
-    std::snprintf(buf, sizeof buf, "%-8.8s= %20s", key.c_str(), value.c_str());
-  std::string s(buf);
-  s.resize(80, ' ');
-  return s;
-}
-std::string num(double v) {
-  char b[40];
-  std::snprintf(b, sizeof b, "%.17G", v);
-  return b;
-}
-
 // A 3-axis header: a small SIN celestial grid and the given spectral axis.
 std::string header(const std::string& ctype3, double crval3, double cdelt3, double crpix3,
                    const std::string& cunit3, const std::string& rest_key, double rest) {
   std::string h;
-  h += card("NAXIS", "3", false);
-  h += card("CTYPE1", "RA---SIN", true);
-  h += card("CTYPE2", "DEC--SIN", true);
-  h += card("CRPIX1", "5", false);
-  h += card("CRPIX2", "5", false);
-  h += card("CRVAL1", "150.0", false);
-  h += card("CRVAL2", "-30.0", false);
-  h += card("CDELT1", num(-1.0 / 3600), false);
-  h += card("CDELT2", num(1.0 / 3600), false);
-  if (!ctype3.empty()) h += card("CTYPE3", ctype3, true);
-  h += card("CRVAL3", num(crval3), false);
-  h += card("CDELT3", num(cdelt3), false);
-  h += card("CRPIX3", num(crpix3), false);
-  if (!cunit3.empty()) h += card("CUNIT3", cunit3, true);
-  if (!rest_key.empty()) h += card(rest_key, num(rest), false);
+  h += header_card("NAXIS", "3", false);
+  h += header_card("CTYPE1", "RA---SIN", true);
+  h += header_card("CTYPE2", "DEC--SIN", true);
+  h += header_card("CRPIX1", "5", false);
+  h += header_card("CRPIX2", "5", false);
+  h += header_card("CRVAL1", "150.0", false);
+  h += header_card("CRVAL2", "-30.0", false);
+  h += header_card("CDELT1", header_number(-1.0 / 3600), false);
+  h += header_card("CDELT2", header_number(1.0 / 3600), false);
+  if (!ctype3.empty()) h += header_card("CTYPE3", ctype3, true);
+  h += header_card("CRVAL3", header_number(crval3), false);
+  h += header_card("CDELT3", header_number(cdelt3), false);
+  h += header_card("CRPIX3", header_number(crpix3), false);
+  if (!cunit3.empty()) h += header_card("CUNIT3", cunit3, true);
+  if (!rest_key.empty()) h += header_card(rest_key, header_number(rest), false);
   return h;
 }
 

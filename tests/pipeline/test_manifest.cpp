@@ -1,5 +1,5 @@
 // Sample manifests: paths relative to the manifest folder, errors that name
-// the line, duplicate names, shards and --only.
+// the line, duplicate names, shards and --only, a galaxy given as a cube.
 #include <catch2/catch.hpp>
 
 #include <set>
@@ -76,8 +76,8 @@ TEST_CASE("manifest errors name the file and the line", "[pipeline]") {
   std::string text = kGood;
   CHECK(error_of(text + "colour = \"red\"\n") ==
         "/data/run/sample.toml: line 25: unknown key 'colour' in [[galaxy]] (known keys: alpha_co, co_line, "
-        "co_ratio_21, distance_mpc, intensity, intensity_error, name, optical, optical_mask, psf_fwhm_arcsec, "
-        "redshift, rms, seed, tail_image, tail_pa_deg, tail_pa_err_deg, velocity, velocity_error)");
+        "co_ratio_21, cube, distance_mpc, intensity, intensity_error, moments, name, optical, optical_mask, "
+        "psf_fwhm_arcsec, redshift, rms, seed, tail_image, tail_pa_deg, tail_pa_err_deg, velocity, velocity_error)");
   std::string wrong = text;
   wrong.replace(wrong.find("distance_mpc = 95.0"), 19, "distance_mpc = \"95\"");
   CHECK(error_of(wrong) == "/data/run/sample.toml: line 15: 'distance_mpc' must be a number");
@@ -120,4 +120,52 @@ TEST_CASE("shards partition the sample and --only selects by name", "[pipeline]"
   CHECK_THROWS_AS(select_galaxies(m, only), InputError);
   for (const char* bad : {"0/3", "4/3", "1/0", "a/b", "1-3", "1/3x", ""})
     CHECK_THROWS_AS(parse_shard(bad), InputError);
+}
+
+TEST_CASE("a galaxy given as a cube, with its moment-map settings", "[pipeline][cube]") {
+  const std::string head = "[sample]\nname = \"x\"\n\n[[galaxy]]\nname = \"c\"\n";
+  auto m = parse_manifest(head + "cube = \"c/cube.fits\"\ntail_pa_deg = 300\n"
+                                 "[galaxy.moments]\nmoment_mask_threshold = 4\n"
+                                 "grow_pixels = 3\nnoise_per_pixel = true\nmask_cube = \"c/mask.fits\"\n"
+                                 "mask = \"external\"\n",
+                          "/data/run/sample.toml");
+  REQUIRE(m.galaxies.size() == 1);
+  const auto& g = m.galaxies[0];
+  CHECK(g.cube == "/data/run/c/cube.fits");
+  CHECK(g.velocity.empty());
+  CHECK(g.intensity.empty());
+  CHECK(g.moments.mask == "external");
+  CHECK(g.moments.mask_cube == "/data/run/c/mask.fits");  // resolved like every path
+  CHECK(g.moments.options.dame_threshold_sigma == 4.0);
+  CHECK(g.moments.options.grow_pixels == 3);
+  CHECK(g.moments.options.noise.per_pixel);
+  // An inline table works too; defaults stay where nothing is given.
+  auto m2 = parse_manifest(head + "cube = \"c/cube.fits\"\ntail_pa_deg = 300\nmoments = { threshold = 5.5 }\n",
+                           "/data/run/sample.toml");
+  CHECK(m2.galaxies[0].moments.options.threshold_sigma == 5.5);
+  CHECK(m2.galaxies[0].moments.mask == "smooth-and-mask");
+}
+
+TEST_CASE("cube and maps together, and bad moment settings, are errors naming the line", "[pipeline][cube]") {
+  const std::string head = "[sample]\nname = \"x\"\n\n[[galaxy]]\nname = \"c\"\ntail_pa_deg = 300\n";
+  // Lines: 1 [sample], 2 name, 3 blank, 4 [[galaxy]], 5 name, 6 tail_pa_deg, 7 ...
+  CHECK(error_of(head + "cube = \"c.fits\"\nvelocity = \"v.fits\"\n") ==
+        "/data/run/sample.toml: line 8: galaxy 'c' gives both 'cube' (line 7) and 'velocity' (line 8): the cube makes "
+        "the velocity and intensity maps and their error maps; give one or the other");
+  CHECK(error_of(head + "intensity = \"m.fits\"\ncube = \"c.fits\"\n")
+            .find("line 8: galaxy 'c' gives both 'cube' (line 8) and 'intensity' (line 7)") != std::string::npos);
+  CHECK(error_of(head + "cube = \"c.fits\"\nrms = 0.1\n").find("line 8:") != std::string::npos);
+  CHECK(error_of(head + "velocity = \"v\"\nintensity = \"m\"\nmoments = { threshold = 3 }\n") ==
+        "/data/run/sample.toml: line 9: galaxy 'c' gives 'moments' settings but no 'cube'");
+  CHECK(error_of(head + "cube = \"c.fits\"\nmoments = { treshold = 3 }\n")
+            .find("line 8: unknown key 'treshold' in 'moments' (known keys: clip, convention, grow_channels") !=
+        std::string::npos);
+  CHECK(error_of(head + "cube = \"c.fits\"\n[galaxy.moments]\nthreshold = \"high\"\n") ==
+        "/data/run/sample.toml: line 9: 'threshold' must be a number");
+  CHECK(error_of(head + "cube = \"c.fits\"\n[galaxy.moments]\nsmooth_channels = 4\n") ==
+        "/data/run/sample.toml: line 8: moments: 'smooth_channels' must be an odd number of channels >= 1");
+  CHECK(error_of(head + "cube = \"c.fits\"\nmoments = { mask = \"external\" }\n") ==
+        "/data/run/sample.toml: line 8: moments: 'mask' external needs 'mask_cube'");
+  CHECK(error_of(head + "cube = \"c.fits\"\nmoments = \"dame\"\n").find("line 8: 'moments' must be a table") !=
+        std::string::npos);
 }

@@ -11,6 +11,10 @@
 //   velocity = "g1/vel.fits"
 //   intensity = "g1/mom0.fits"
 //   intensity_error = "g1/mom0_err.fits"   # or rms = 0.01
+//   # or, instead of the maps and their errors, a line cube whose moment maps the
+//   # run makes (pipeline/cube_maps.hpp), with optional settings:
+//   # cube = "g1/cube.fits"
+//   # moments = { mask = "moment-masking", moment_mask_threshold = 4.0 }
 //   optical = "g1/opt.fits"                # optional
 //   tail_pa_deg = 300.0                    # or tail_image = "g1/tail.fits"
 //   tail_pa_err_deg = 10.0
@@ -22,13 +26,18 @@
 // Optional keys of a galaxy: velocity_error, optical_mask, psf_fwhm_arcsec,
 // seed (overrides the derived per-galaxy seed), co_line ("1-0" or "2-1"),
 // alpha_co (Msun / (K km/s pc^2)), co_ratio_21, redshift; the molecular-gas
-// keys may also sit in [sample] as defaults for every galaxy.
+// keys may also sit in [sample] as defaults for every galaxy. `cube` excludes
+// velocity, velocity_error, intensity, intensity_error and rms (an error
+// naming the line of the second key); `moments` (a table whose keys are the
+// names of moments/moment_settings.hpp) needs `cube`.
 #pragma once
 
 #include <cstdint>
 #include <optional>
 #include <string>
 #include <vector>
+
+#include "fulcrum/moments/moment_settings.hpp"
 
 namespace fulcrum::pipeline {
 
@@ -44,6 +53,8 @@ struct MolecularGasInput {
 // them (resolved against the manifest folder for a sample).
 struct GalaxyInput {
   std::string name;
+  std::string cube;             // optional: make the four maps below from this line cube
+  MomentSettings moments;       // how (with `cube`)
   std::string velocity;
   std::string velocity_error;   // optional
   std::string intensity;
