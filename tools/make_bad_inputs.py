@@ -141,6 +141,10 @@ def make_bad_inputs(d):
                 + data32)
     write_bytes(p("bitpix_12.fits"), raw_fits(good_cards(bitpix="12") + [card("END", "")],
                                               np.zeros(NX * NY * 2, np.uint8).tobytes()))
+    # Text after a value without the '/' of a comment, on a DSS plate keyword
+    # (wcslib's wcspih crashed on this before fulcrum refused it; fuzzing find).
+    junk = good_cards() + [("CNPIX2  = %20s" % "2.5").ljust(79) + "x", card("END", "")]
+    write_bytes(p("value_trailing_text.fits"), raw_fits(junk, data32))
     nobitpix = [c for c in good_cards() if not c.startswith("BITPIX")] + [card("END", "")]
     write_bytes(p("bitpix_missing.fits"), raw_fits(nobitpix, data32))
     write(p("naxis_1.fits"), np.arange(NX, dtype=float), fits.Header(), "Jy/beam.km/s", beam=False)

@@ -7,6 +7,8 @@
 #
 # Idempotent: packages already installed are skipped, and the build is
 # incremental. Set FULCRUM_BUILD_DIR to build elsewhere (default: build/).
+# FULCRUM_SANITIZE_TESTS=1 makes `test` also build and run the whole suite
+# under AddressSanitizer + UndefinedBehaviorSanitizer (build-asan/; slow).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
@@ -52,7 +54,12 @@ case "$action" in
   test)
     install_missing "${build_packages[@]}" "${test_packages[@]}"
     build
-    ctest --test-dir "$build_dir" --output-on-failure -j"$(nproc)" --timeout 900 ;;
+    ctest --test-dir "$build_dir" --output-on-failure -j"$(nproc)" --timeout 900
+    # The ASan + UBSan suite is opt-in: on 2 cores it does not fit beside the
+    # Release build and tests in CI's 20 minutes (docs/reliability.md).
+    if [ "${FULCRUM_SANITIZE_TESTS:-0}" = 1 ]; then
+      bash tools/run_sanitized_tests.sh
+    fi ;;
   *)
     echo "usage: tools/setup.sh [build|demo|test]" >&2
     exit 2 ;;

@@ -64,6 +64,15 @@ bool is_celestial_ctype(const std::string& c) {
   return false;
 }
 
+// A keyword card with a value: "= " in columns 9-10, and not COMMENT,
+// HISTORY or a blank keyword, whose columns 9-80 are free text (FITS 4.0,
+// section 4.4.2.4).
+bool has_value_indicator(std::string_view card) {
+  if (card.substr(8, 2) != "= ") return false;
+  const std::string_view key = card.substr(0, 8);
+  return key != "COMMENT " && key != "HISTORY " && key != "        ";
+}
+
 // Every quoted value must end inside its card (FITS standard 4.0, section
 // 4.2.1). wcslib's header lexer overruns a buffer on an unterminated string
 // (found by tests/fuzz/fuzz_fits_image.cpp; fortify abort in wcspih), so such
@@ -71,7 +80,7 @@ bool is_celestial_ctype(const std::string& c) {
 void check_string_values(const std::string& header, const std::string& source) {
   for (std::size_t pos = 0; pos + 80 <= header.size(); pos += 80) {
     const std::string_view card(header.data() + pos, 80);
-    if (card.substr(8, 2) != "= ") continue;
+    if (!has_value_indicator(card)) continue;
     std::size_t i = 10;
     while (i < 80 && card[i] == ' ') ++i;
     if (i >= 80 || card[i] != '\'') continue;
@@ -87,6 +96,41 @@ void check_string_values(const std::string& header, const std::string& source) {
       while (!key.empty() && key.back() == ' ') key.pop_back();
       throw InputError(source, "header card " + std::to_string(pos / 80 + 1) + " (" + key +
                                    "): string value without a closing quote");
+    }
+  }
+}
+
+// After a value only spaces or a comment introduced by '/' may follow (FITS
+// standard 4.0, section 4.1.2.3). wcslib's DSS keyword translation in wcspih
+// dereferences a null pointer on such a card (e.g. "CNPIX2 = 2.5   x"; found
+// by tests/fuzz/fuzz_fits_image.cpp), so these headers are refused with the
+// card named instead. String values are checked by check_string_values.
+void check_value_endings(const std::string& header, const std::string& source) {
+  for (std::size_t pos = 0; pos + 80 <= header.size(); pos += 80) {
+    const std::string_view card(header.data() + pos, 80);
+    if (!has_value_indicator(card)) continue;
+    std::size_t i = 10;
+    while (i < 80 && card[i] == ' ') ++i;
+    if (i >= 80 || card[i] == '/') continue;
+    if (card[i] == '\'') {
+      for (++i; i < 80; ++i) {
+        if (card[i] != '\'') continue;
+        if (i + 1 < 80 && card[i + 1] == '\'') { ++i; continue; }
+        ++i;
+        break;
+      }
+    } else if (card[i] == '(') {
+      while (i < 80 && card[i] != ')') ++i;  // complex value "(re, im)"
+      if (i < 80) ++i;
+    } else {
+      while (i < 80 && card[i] != ' ' && card[i] != '/') ++i;
+    }
+    while (i < 80 && card[i] == ' ') ++i;
+    if (i < 80 && card[i] != '/') {
+      std::string key(card.substr(0, 8));
+      while (!key.empty() && key.back() == ' ') key.pop_back();
+      throw InputError(source, "header card " + std::to_string(pos / 80 + 1) + " (" + key +
+                                   "): text after the value that is not a '/' comment");
     }
   }
 }
@@ -149,6 +193,7 @@ CelestialWcs CelestialWcs::from_header(const std::string& header_cards, const st
     if (static_cast<unsigned char>(ch) < 0x20 || static_cast<unsigned char>(ch) > 0x7E)
       throw InputError(source, "the header holds bytes that are not printable ASCII");
   check_string_values(header_cards, source);
+  check_value_endings(header_cards, source);
   std::vector<char> buf(header_cards.begin(), header_cards.end());
   buf.push_back('\0');
   int nreject = 0, nwcs = 0;

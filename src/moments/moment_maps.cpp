@@ -92,6 +92,7 @@ struct NoiseModel {
   std::vector<double> chan;   // per channel
   std::vector<double> pixel;  // per pixel (empty unless per-pixel)
   std::size_t plane = 0;
+  std::size_t at_bound = 0;   // estimates whose clipping stopped at max_iterations
   double at(std::size_t p, int z) const { return pixel.empty() ? chan[static_cast<std::size_t>(z)] : pixel[p]; }
 };
 
@@ -103,14 +104,18 @@ NoiseModel measure_noise(const std::vector<double>& data, int nx, int ny, int nz
   for (int z = 0; z < nz; ++z) {
     buf.assign(data.begin() + static_cast<std::ptrdiff_t>(nm.plane * z),
                data.begin() + static_cast<std::ptrdiff_t>(nm.plane * (z + 1)));
-    nm.chan[z] = robust_sigma(buf, opt);
+    bool hit = false;
+    nm.chan[z] = robust_sigma(buf, opt, &hit);
+    nm.at_bound += hit;
   }
   if (opt.per_pixel) {
     nm.pixel.resize(nm.plane);
     for (std::size_t p = 0; p < nm.plane; ++p) {
       buf.resize(nz);
       for (int z = 0; z < nz; ++z) buf[z] = data[p + nm.plane * z];
-      nm.pixel[p] = robust_sigma(buf, opt);
+      bool hit = false;
+      nm.pixel[p] = robust_sigma(buf, opt, &hit);
+      nm.at_bound += hit;
     }
   }
   return nm;
@@ -136,12 +141,14 @@ MaskMethod parse_mask_method(const std::string& s) {
   throw InputError("", "unknown mask method '" + s + "' (use smooth-and-mask, moment-masking, external or none)");
 }
 
-double robust_sigma(std::vector<double> v, const NoiseOptions& opt) {
+double robust_sigma(std::vector<double> v, const NoiseOptions& opt, bool* hit_bound) {
+  if (hit_bound) *hit_bound = false;
   v.erase(std::remove_if(v.begin(), v.end(), [](double x) { return !std::isfinite(x); }), v.end());
   if (v.size() < 3) return NAN;
   double sigma = NAN;
   std::vector<double> dev;
-  for (int it = 0; it < std::max(1, opt.max_iterations); ++it) {
+  const int passes = std::max(1, opt.max_iterations);
+  for (int it = 0; it < passes; ++it) {
     std::vector<double> w = v;
     const double med = median_of(w);
     dev.resize(v.size());
@@ -153,6 +160,8 @@ double robust_sigma(std::vector<double> v, const NoiseOptions& opt) {
       if (std::abs(x - med) <= opt.clip_sigma * s) kept.push_back(x);
     sigma = s;
     if (kept.size() == v.size() || kept.size() < 3 || s == 0.0) break;
+    // The last pass still dropped values: the bound, not convergence, stopped it.
+    if (it == passes - 1 && hit_bound) *hit_bound = true;
     v.swap(kept);
   }
   return sigma;
@@ -304,7 +313,9 @@ MomentProducts make_moment_maps(const Cube& cube, const MomentOptions& opt) {
         if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
       }
       if (buf.size() >= kMinFreeVoxels && opt.mask != MaskMethod::None) {
-        const double s = robust_sigma(buf, opt.noise);
+        bool hit = false;
+        const double s = robust_sigma(buf, opt.noise, &hit);
+        noise.at_bound += hit;
         if (std::isfinite(s) && s > 0.0) noise.chan[z] = s;
       }
     }
@@ -316,7 +327,9 @@ MomentProducts make_moment_maps(const Cube& cube, const MomentOptions& opt) {
           if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
         }
         if (buf.size() >= 8) {
-          const double s = robust_sigma(buf, opt.noise);
+          bool hit = false;
+          const double s = robust_sigma(buf, opt.noise, &hit);
+          noise.at_bound += hit;
           if (std::isfinite(s) && s > 0.0) noise.pixel[p] = s;
         }
       }
@@ -434,6 +447,8 @@ MomentProducts make_moment_maps(const Cube& cube, const MomentOptions& opt) {
     if (std::isfinite(s)) finite.push_back(s);
   j["noise"] = {{"method", "1.4826 x median absolute deviation, iterated with clipping"},
                 {"clip_sigma", opt.noise.clip_sigma},
+                {"max_iterations", opt.noise.max_iterations},
+                {"estimates_stopped_at_iteration_bound", noise.at_bound},
                 {"per_pixel", opt.noise.per_pixel},
                 {"unit", cube.unit},
                 {"channel_rms", rms_json},

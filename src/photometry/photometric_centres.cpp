@@ -213,6 +213,7 @@ nlohmann::json to_json(const PhotometrySummary& s) {
                      {"rms", s.background.rms},
                      {"pixels_used", s.background.n_used},
                      {"iterations", s.background.iterations},
+                     {"converged", s.background.converged},
                      {"method", "iterative 3-sigma clipping about the median"}};
   j["masking"] = {{"user_masked_pixels", s.user_masked_pixels},
                   {"auto_masked_pixels", s.auto_masked_pixels},

@@ -402,6 +402,11 @@ PixelEstimate fit_sersic_profile(const PreparedImage& p, const std::vector<doubl
   ceres::Solve(so, &problem, &sum);
   if (!sum.IsSolutionUsable() || !std::isfinite(sum.final_cost))
     return PixelEstimate::failure("the profile fit failed: " + sum.message);
+  // Ceres stops at max_num_iterations with NO_CONVERGENCE and a usable but
+  // unconverged solution: say so rather than report it as a centre.
+  if (sum.termination_type == ceres::NO_CONVERGENCE)
+    return PixelEstimate::failure("the profile fit did not converge in " +
+                                  std::to_string(o.max_iterations) + " iterations");
   const double edge_tol = 1e-3;
   if (q[0] - bx0 < edge_tol || bx1 - q[0] < edge_tol || q[1] - by0 < edge_tol ||
       by1 - q[1] < edge_tol)

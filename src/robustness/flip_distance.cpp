@@ -37,6 +37,9 @@ std::optional<double> nearest_zero(const ProjectionEngine& e, double s0) {
   const int sg = sign_of(a0);
   if (sg == 0) return s0;
   const double h = 0.25 * e.shape().w1;
+  // The march below takes (hi - lo) / h steps: bounded only for a positive,
+  // finite step (a degenerate pixel shape would otherwise loop forever).
+  if (!(h > 0.0) || !std::isfinite(h)) return std::nullopt;
   // Search where A can change; a windowed engine is searched inside its window only.
   const double lo = std::max(e.s_min() - h, e.window_lo()), hi = std::min(e.s_max() + h, e.window_hi());
   double prev_p = s0, prev_m = s0;

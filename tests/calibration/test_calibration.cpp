@@ -204,3 +204,25 @@ TEST_CASE("calibration: same seed gives the same numbers, any thread count; cent
   CHECK(a.centre_coverage.n + a.centre_fit_failures == 24);
   CHECK(a.centre_coverage.n >= 20);
 }
+
+TEST_CASE("calibration says so when the amplitude tuning cannot reach the measured A",
+          "[calibration][bounds]") {
+  // A = 0.95 is out of reach: the lopsided term e cos(theta) is clamped to
+  // |e| < 1, which gives at most A ~ 2/pi for a pure cos term on a half.
+  const auto g = small_galaxy(0.0, 23);
+  const auto p = synth::make_mock(g);
+  auto in = inputs_for(g, p, p.intensity, 0.95);
+  calibration::CalibrationOptions co;
+  co.n_mocks = 2;
+  co.seed = 3;
+  co.n_draws = 100;
+  co.refit_centre = false;
+  co.progress = false;
+  const auto s = calibration::calibrate(in, co);
+  INFO(s.statement);
+  CHECK_FALSE(s.tuning_converged);
+  CHECK(s.tuning_steps <= co.secant_steps);
+  CHECK(s.achieved_asymmetry < 0.9);
+  CHECK(s.statement.find("warning: the lopsided mocks reach A =") != std::string::npos);
+  CHECK(calibration::to_json(s, false)["tuning_converged"] == false);
+}

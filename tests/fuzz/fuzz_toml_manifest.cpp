@@ -1,17 +1,28 @@
-// libFuzzer target: the TOML reading path used by manifests and mock files.
+// libFuzzer target: the sample manifest reader (pipeline/manifest).
 //
-// Until the sample-manifest parser exists this fuzzes the generic toml++
-// path every fulcrum TOML reader goes through: parse from memory (errors are
-// toml::parse_error, which readers turn into InputError naming the line),
-// then walk every node and read it back as the types a reader asks for
-// (strings, integers, floats, booleans, arrays of tables), and print the
-// document again. Anything other than a parse error is a finding.
+// Feeds arbitrary bytes to parse_manifest, the function `fulcrum run` and
+// `fulcrum merge` call on a manifest's text: toml++ parsing, then fulcrum's
+// own checks (known keys, types, ranges, required keys, duplicate galaxy
+// names, path resolution against the manifest folder). Every failure must be
+// an InputError naming the manifest; anything else (a crash, a sanitizer
+// report, toml::parse_error or another exception escaping) is a finding. A
+// manifest that parses is then used as the runner uses it: every galaxy's
+// seed is derived and the shard selection is taken.
+//
+// The generic toml++ walk stays as a second step on the same bytes, because
+// the mock-galaxy reader (synth/) reads TOML through the same library:
+// every node is read back as the types a reader asks for and the document
+// is printed again.
 #include <cstddef>
 #include <cstdint>
 #include <sstream>
+#include <string>
 #include <string_view>
 
 #include <toml++/toml.h>
+
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/pipeline/manifest.hpp"
 
 namespace {
 void walk(const toml::node& n, int depth) {
@@ -37,13 +48,28 @@ void walk(const toml::node& n, int depth) {
 }  // namespace
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
-  std::string_view text(reinterpret_cast<const char*>(data), size);
+  std::string text(reinterpret_cast<const char*>(data), size);
+
+  // 1. The real manifest reader.
   try {
-    toml::table doc = toml::parse(text, std::string_view("fuzz.toml"));
+    auto m = fulcrum::pipeline::parse_manifest(text, "fuzz/sample.toml");
+    std::uint64_t mix = 0;
+    for (const auto& g : m.galaxies) mix ^= fulcrum::pipeline::galaxy_seed(m.seed, g);
+    (void)mix;
+    fulcrum::pipeline::Selection all;
+    (void)fulcrum::pipeline::select_galaxies(m, all);
+    fulcrum::pipeline::Selection half;
+    half.shard_index = 2;
+    half.shard_count = 2;
+    (void)fulcrum::pipeline::select_galaxies(m, half);
+  } catch (const fulcrum::InputError&) {
+    // The expected outcome for a bad manifest.
+  }
+
+  // 2. The generic toml++ path (mock-galaxy files).
+  try {
+    toml::table doc = toml::parse(std::string_view(text), std::string_view("fuzz.toml"));
     walk(doc, 0);
-    if (auto* galaxies = doc["galaxy"].as_array())
-      for (auto&& g : *galaxies)
-        if (auto* t = g.as_table()) (void)(*t)["name"].value_or(std::string{});
     std::ostringstream os;
     os << doc;
   } catch (const toml::parse_error&) {

@@ -70,6 +70,10 @@ struct MatchedInputs {
   std::vector<PhotometricOffset> photometric;
 };
 
+// How close the noise-free lopsided mock's A must come to the measured A for
+// the amplitude tuning to count as converged (absolute, in A units).
+inline constexpr double kTuningTolerance = 1e-3;
+
 struct CalibrationOptions {
   std::size_t n_mocks = 100;        // per set (symmetric and lopsided)
   std::uint64_t seed = 1;           // the galaxy seed
@@ -106,6 +110,8 @@ struct CalibrationSummary {
   std::uint64_t seed = 0;
   double lopsided_amplitude = 0.0;  // e giving the measured A
   double target_asymmetry = 0.0, achieved_asymmetry = 0.0;
+  int tuning_steps = 0;             // secant steps taken (at most secant_steps)
+  bool tuning_converged = true;     // |achieved - target| <= kTuningTolerance
   Rate false_robust;                // symmetric mocks called robust or reversed
   Rate recovery;                    // lopsided mocks called robust
   double bias = 0.0, bias_err = 0.0;          // lopsided set: mean(measured - true)

@@ -104,8 +104,10 @@ struct MomentProducts {
 };
 
 // Robust Gaussian sigma of the finite values (1.4826 MAD with iterative
-// clipping, see above); NaN when fewer than 3 finite values.
-double robust_sigma(std::vector<double> values, const NoiseOptions& options);
+// clipping, see above); NaN when fewer than 3 finite values. `hit_bound`
+// (optional) is set when the clipping was still dropping values after
+// options.max_iterations passes (the sigma of the last pass is returned).
+double robust_sigma(std::vector<double> values, const NoiseOptions& options, bool* hit_bound = nullptr);
 
 MomentProducts make_moment_maps(const Cube& cube, const MomentOptions& options);
 
