@@ -28,7 +28,7 @@ struct CompensatedSum {
 }  // namespace
 
 ProjectionEngine::ProjectionEngine(const PixelSet& px, Angle tail_pa, const EngineOptions& opt)
-    : tail_pa_(tail_pa), n_(leading_normal(tail_pa)), shape_(px.jacobian, n_), px_(&px) {
+    : px_(&px), tail_pa_(tail_pa), n_(leading_normal(tail_pa)), shape_(px.jacobian, n_) {
   const std::size_t n = px.size();
   FULCRUM_CHECK(px.east.size() == n && px.north.size() == n, n, px.east.size());
   const bool var = opt.with_variance && px.variance.size() == n && n > 0;

@@ -9,8 +9,11 @@
 // with b_n exact from P(2n, b_n) = 1/2 (sersic_profile.hpp). The shape is
 // parameterised by the ellipticity vector
 //   e1 = eps cos 2theta,  e2 = eps sin 2theta,  eps = (1 - q) / (1 + q),
-// which is smooth through q = 1 (where theta is undefined), so the
-// covariance of the centre stays well defined for round galaxies.
+// which is defined through q = 1 (where theta is not), so the covariance of
+// the centre stays well defined for round galaxies. With r_e along the major
+// axis the model is continuous but not smooth in (e1, e2) at eps = 0 (to
+// first order the quadratic form is I (1 + 2|e|) - 2 [e1 e2; e2 -e1]); the
+// kink is in the shape only and leaves the centre derivatives intact.
 //
 // Rendering: S is averaged over sub-pixels (9x9 within 2 pixels of the
 // starting centre, 5x5 within 4, 3x3 within 8, the pixel centre beyond; the
