@@ -19,14 +19,10 @@ namespace fs = std::filesystem;
 using fulcrum::test::run_shell;
 using nlohmann::json;
 
+using fulcrum::test::slurp;
+
 namespace {
 
-std::string slurp(const fs::path& p) {
-  std::ifstream in(p, std::ios::binary);
-  std::stringstream ss;
-  ss << in.rdbuf();
-  return ss.str();
-}
 
 fulcrum::test::CommandResult fulcrum_run(const std::string& args) {
   return run_shell(std::string("SOURCE_DATE_EPOCH=1700000000 OMP_NUM_THREADS=2 ") + FULCRUM_BINARY + " --quiet " +

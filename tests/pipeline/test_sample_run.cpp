@@ -18,14 +18,10 @@
 using namespace fulcrum;
 namespace fs = std::filesystem;
 
+using fulcrum::test::slurp;
+
 namespace {
 
-std::string slurp(const fs::path& p) {
-  std::ifstream in(p, std::ios::binary);
-  std::stringstream ss;
-  ss << in.rdbuf();
-  return ss.str();
-}
 
 // A sample of four tiny discs plus one galaxy whose velocity file is not FITS.
 std::string make_sample(const fs::path& dir) {

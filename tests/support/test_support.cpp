@@ -10,15 +10,6 @@
 
 namespace fulcrum::test {
 
-namespace {
-std::string slurp(const std::filesystem::path& p) {
-  std::ifstream in(p);
-  std::stringstream ss;
-  ss << in.rdbuf();
-  return ss.str();
-}
-}  // namespace
-
 std::filesystem::path temp_dir(const std::string& tag) {
   static std::atomic<int> counter{0};
   auto base = std::filesystem::temp_directory_path() /
@@ -53,5 +44,12 @@ CommandResult run_python(const std::string& script, const std::string& args) {
 }
 
 std::string source_dir() { return FULCRUM_SOURCE_DIR; }
+
+std::string slurp(const std::filesystem::path& p) {
+  std::ifstream in(p, std::ios::binary);
+  std::stringstream ss;
+  ss << in.rdbuf();
+  return ss.str();
+}
 
 }  // namespace fulcrum::test

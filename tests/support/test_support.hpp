@@ -27,4 +27,7 @@ CommandResult run_shell(const std::string& command);
 
 std::string source_dir();
 
+// The whole content of a file as bytes (empty when it cannot be read).
+std::string slurp(const std::filesystem::path& p);
+
 }  // namespace fulcrum::test

@@ -28,6 +28,8 @@
 using namespace fulcrum;
 using namespace fulcrum::synth;
 
+using fulcrum::test::slurp;
+
 namespace {
 
 // Tolerances, each with its source.
@@ -55,12 +57,6 @@ double map_flux(const Image& im) {
   return s * off.pixel_area_arcsec2() / im.beam->solid_angle_arcsec2();
 }
 
-std::string slurp(const std::filesystem::path& p) {
-  std::ifstream in(p, std::ios::binary);
-  std::stringstream ss;
-  ss << in.rdbuf();
-  return ss.str();
-}
 
 }  // namespace
 
