@@ -2,7 +2,8 @@
 #include "fulcrum/photometry/bootstrap.hpp"
 
 #include <cmath>
-#include <random>
+
+#include "fulcrum/robustness/random.hpp"
 
 namespace fulcrum::photometry {
 
@@ -33,11 +34,13 @@ BootstrapSummary bootstrap_centre(const PreparedImage& p, const Estimator& estim
   std::vector<PixelEstimate> results(static_cast<std::size_t>(o.draws));
 #pragma omp parallel for schedule(dynamic)
   for (int k = 0; k < o.draws; ++k) {
-    std::mt19937_64 rng(mix_seed(o.seed, tag, static_cast<std::uint64_t>(k)));
-    std::normal_distribution<double> noise(0.0, noise_rms);
+    // The project's own normal deviates (Box-Muller on mt19937_64), not
+    // std::normal_distribution, whose algorithm differs between standard
+    // libraries: the same seed gives the same centres everywhere.
+    robustness::Generator rng(mix_seed(o.seed, tag, static_cast<std::uint64_t>(k)));
     std::vector<double> d = p.data;
     for (double& v : d)
-      if (std::isfinite(v)) v += noise(rng);
+      if (std::isfinite(v)) v += noise_rms * rng.normal();
     results[static_cast<std::size_t>(k)] = estimator(d);
   }
   double mx = 0, my = 0;
