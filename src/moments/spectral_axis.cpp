@@ -80,9 +80,14 @@ SpectralAxis spectral_axis_from_header(const std::string& header, int spectral_a
       w = &arr.all[i];
       break;
     }
-  wcserr_enable(1);
+  // wcsfix loses its fixes' informational messages (e.g. datfix's) without
+  // freeing them when error reporting is on (LeakSanitizer finding): fix with
+  // reporting off, then turn it on for the messages of the steps below.
+  wcserr_enable(0);
   int stat[NWCSFIX];
   wcsfix(1, nullptr, w, stat);  // includes spcfix (AIPS VELO/FELO types) and unitfix
+  wcserr_clear(&w->err);
+  wcserr_enable(1);
   if (options.rest_frequency_hz) {
     if (!(*options.rest_frequency_hz > 0.0))
       throw InputError(source, "the rest frequency must be > 0 Hz");
