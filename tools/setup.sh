@@ -38,9 +38,11 @@ install_missing() {
   fi
 }
 
+# build [TARGET]: configure and build everything, or only TARGET (the demo
+# needs only the `fulcrum` executable, not the test suite).
 build() {
   cmake -S . -B "$build_dir" -DCMAKE_BUILD_TYPE=Release >/dev/null
-  cmake --build "$build_dir" -j"$(nproc)"
+  cmake --build "$build_dir" -j"$(nproc)" ${1:+--target "$1"}
 }
 
 case "$action" in
@@ -49,7 +51,7 @@ case "$action" in
     build ;;
   demo)
     install_missing "${build_packages[@]}"
-    build
+    build fulcrum
     "$build_dir/fulcrum" demo ${FULCRUM_DEMO_ARGS:-} ;;
   test)
     install_missing "${build_packages[@]}" "${test_packages[@]}"
