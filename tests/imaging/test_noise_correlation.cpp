@@ -32,10 +32,15 @@ TEST_CASE("noise correlation: eta from the beam", "[imaging][noise]") {
   CHECK(correlated_pixel_factor(Beam{0.01, 0.01, 0.0}, pix) == 1.0);  // narrower than a pixel
   const NoiseCorrelation c = noise_correlation_of_beam(beam);
   CHECK(c.at(0, 0) == 1.0);
-  // Along the major axis (PA 30) at one beam FWHM the beam autocorrelation is
-  // exp(-ln2 / 1) ... = 2^(-1/2): exact for sigma_corr = sqrt2 sigma_b.
+  // Along the major axis (PA 30), half a FWHM out the beam is 1/2 and its
+  // autocorrelation (sigma sqrt2 x larger) 2^(-1/2); one FWHM out the beam is
+  // 2^-4 and the autocorrelation 2^-2. Exact.
   const double pa = 30.0 * std::numbers::pi / 180.0;
-  CHECK(c.at(2.0 * std::sin(pa), 2.0 * std::cos(pa)) == Approx(std::pow(2.0, -0.5)).epsilon(1e-12));
+  CHECK(c.at(1.0 * std::sin(pa), 1.0 * std::cos(pa)) == Approx(std::pow(2.0, -0.5)).epsilon(1e-12));
+  CHECK(c.at(2.0 * std::sin(pa), 2.0 * std::cos(pa)) == Approx(0.25).epsilon(1e-12));
+  // Along the minor axis (PA 120), half the minor FWHM out: 2^(-1/2).
+  const double pm = 120.0 * std::numbers::pi / 180.0;
+  CHECK(c.at(0.8 * std::sin(pm), 0.8 * std::cos(pm)) == Approx(std::pow(2.0, -0.5)).epsilon(1e-12));
   CHECK(parse_noise_model("interferometric") == NoiseModel::interferometric);
   CHECK_THROWS_AS(parse_noise_model("white"), InputError);
 }
