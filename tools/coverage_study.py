@@ -67,7 +67,7 @@ def run(cmd, log):
 
 def kinematics_result(k, truth):
     """Mahalanobis^2 of the true centre and the PA/inclination pulls."""
-    out = {"status": k.get("status")}
+    out = {"status": k.get("status"), "reason": k.get("reason")}
     if k.get("status") != "ok":
         return out
     c = k["centre"]
@@ -76,6 +76,8 @@ def kinematics_result(k, truth):
     d = np.array([de, dn])
     out["m2"] = float(d @ np.linalg.solve(cov, d))
     out["offset_arcsec"] = float(math.hypot(de, dn))
+    out["truth_minus_fit_arcsec"] = [de, dn]
+    out["cov_arcsec2"] = cov.tolist()
     out["pa_pull"] = angle_diff(k["pa_deg"], truth["pa_deg"]) / k["pa_err_deg"]
     out["inc_pull"] = (k["inc_deg"] - truth["inc_deg"]) / k["inc_err_deg"]
     out["reduced_chi2"] = k["diagnostics"].get("reduced_chi2")
@@ -101,12 +103,32 @@ def analyse_result(rep, truth):
     return out
 
 
+def drop_islands(d, min_pixels):
+    """Blank, in the velocity and intensity maps (and their error maps),
+    8-connected groups of fewer than `min_pixels` finite velocity pixels: the
+    isolated noise peaks above the clip outside the disc."""
+    from astropy.io import fits
+    from scipy import ndimage
+    vel = fits.getdata(os.path.join(d, "velocity.fits"))
+    lab, n = ndimage.label(np.isfinite(vel), structure=np.ones((3, 3)))
+    sizes = ndimage.sum(np.isfinite(vel), lab, index=np.arange(1, n + 1))
+    small = np.isin(lab, 1 + np.nonzero(sizes < min_pixels)[0])
+    for name in ("velocity", "velocity_error", "intensity"):
+        path = os.path.join(d, f"{name}.fits")
+        with fits.open(path) as h:
+            data, hdr = h[0].data.copy(), h[0].header.copy()
+        data[small] = np.nan
+        fits.PrimaryHDU(data=data, header=hdr).writeto(path, overwrite=True)
+
+
 def one_realisation(args):
     """Generate, fit and analyse one realisation; returns a result dict."""
-    preset, seed, fulcrum, kin_only, draws, keep = args
+    preset, seed, fulcrum, kin_only, draws, keep, islands = args
     d = tempfile.mkdtemp(prefix=f"cov_{preset}_{seed}_")
     try:
         truth = mockgen.generate(preset, seed, d)
+        if islands > 0:
+            drop_islands(d, islands)
         log = os.path.join(d, "log.txt")
         res = {"preset": preset, "seed": seed, "A_expected": truth["A_expected"]}
         kj = os.path.join(d, "kin.json")
@@ -197,6 +219,8 @@ def main(argv):
     ap.add_argument("--draws", type=int, default=2000, help="bootstrap draws of fulcrum analyse")
     ap.add_argument("--kinematics-only", action="store_true")
     ap.add_argument("--keep", action="store_true", help="keep the temporary folders")
+    ap.add_argument("--drop-islands", type=int, default=0, metavar="PIX",
+                    help="blank groups of fewer than PIX connected velocity pixels before fitting (0: off)")
     ap.add_argument("--json", help="write the per-run results and the summary here")
     a = ap.parse_args(argv)
     if not os.access(a.fulcrum, os.X_OK):
@@ -207,7 +231,7 @@ def main(argv):
         if p not in mockgen.PRESETS:
             print(f"coverage_study.py: --presets: unknown preset '{p}'", file=sys.stderr)
             return 2
-    tasks = [(p, a.first_seed + i, os.path.abspath(a.fulcrum), a.kinematics_only, a.draws, a.keep)
+    tasks = [(p, a.first_seed + i, os.path.abspath(a.fulcrum), a.kinematics_only, a.draws, a.keep, a.drop_islands)
              for p in presets for i in range(a.n)]
     with cf.ProcessPoolExecutor(max_workers=max(1, a.jobs)) as ex:
         results = list(ex.map(one_realisation, tasks))
