@@ -4,6 +4,8 @@
 
 #include <algorithm>
 
+#include "fulcrum/imaging/noise_correlation.hpp"
+
 namespace fulcrum::kinematics {
 
 double pixels_per_beam(const std::optional<Beam>& beam, double pixel_area_arcsec2) {
@@ -15,10 +17,9 @@ double pixels_per_beam(const std::optional<Beam>& beam, double pixel_area_arcsec
 double correlation_factor(const std::optional<Beam>& beam, double pixel_area_arcsec2,
                           double option_value) {
   if (option_value > 0) return option_value;
-  if (!beam || beam->bmaj_arcsec <= 0 || beam->bmin_arcsec <= 0) return 1.0;
-  // Integral of the autocorrelation of a unit-peak Gaussian beam, normalised
-  // to 1 at zero lag, is 2 * Omega_beam.
-  return std::max(1.0, 2.0 * pixels_per_beam(beam, pixel_area_arcsec2));
+  // The one noise model (imaging/noise_correlation.hpp): noise white before
+  // the beam, eta = 2 * pixels per beam.
+  return correlated_pixel_factor(beam, pixel_area_arcsec2, NoiseModel::smoothed);
 }
 
 }  // namespace fulcrum::kinematics

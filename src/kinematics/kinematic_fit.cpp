@@ -74,6 +74,35 @@ nlohmann::json centre_json(const CentreEstimate& c) {
   return j;
 }
 
+// Replace the tilted-ring centre's covariance and the PA, inclination and
+// vsys errors by the residual-based ones plus the method spread
+// (centre_error_terms.hpp, docs/uncertainties.md).
+void apply_centre_error_terms(KinematicFit& fit, const VelocitySamples& fitted, const GlobalFitOptions& go) {
+  GeometryCovarianceOptions co;
+  co.weight_power = go.weight_power;
+  co.fix_centre = go.fix_centre;
+  co.fix_pa = go.fix_pa;
+  co.fix_inc = go.fix_inc;
+  co.fix_vsys = go.fix_vsys;
+  co.radial = go.fit_radial;
+  std::optional<MethodCentre> harmonic;
+  if (fit.harmonic_centre)
+    harmonic = MethodCentre{"harmonic", fit.harmonic_centre->offset, fit.harmonic_centre->covariance, 0.0};
+  std::vector<RingFit> rings;
+  for (const auto& r : fit.rings)
+    if (r.free) rings.push_back(*r.free);
+  fit.centre_errors = centre_error_terms(fitted, fit.global, co, harmonic, rings);
+  const CentreErrorTerms& t = fit.centre_errors;
+  if (!t.applied) {
+    fit.notes.push_back("centre errors: " + t.reason);
+    return;
+  }
+  if (fit.ring_centre) fit.ring_centre->covariance = t.total;
+  if (!go.fix_pa) fit.pa_err_deg = std::sqrt(t.geometry(2, 2));
+  if (!go.fix_inc) fit.inc_err_deg = std::sqrt(t.geometry(3, 3));
+  if (!go.fix_vsys) fit.vsys_err_kms = std::sqrt(t.geometry(4, 4));
+}
+
 void refuse(KinematicFit& fit, const std::string& why) {
   fit.status = "refused";
   fit.reason = "cannot constrain a centre: " + why;
@@ -436,6 +465,8 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
     fit.harmonic_status = "not run";
   }
 
+  if (opt.residual_covariance) apply_centre_error_terms(fit, *fitted, go);
+
   if (opt.method == Method::harmonic) {
     if (!fit.harmonic_centre) {
       refuse(fit, "the harmonic centre failed: " + fit.harmonic_status);
@@ -471,6 +502,7 @@ nlohmann::json to_json(const KinematicFit& fit) {
     j["harmonic_status"] = fit.harmonic_status;
   }
   if (fit.method == Method::harmonic && fit.ring_centre) j["ring_centre"] = centre_json(*fit.ring_centre);
+  if (ok && fit.ring_centre) j["centre_error_terms"] = to_json(fit.centre_errors);
   nlohmann::json rings = nlohmann::json::array();
   for (const auto& r : fit.rings) {
     nlohmann::json jr;

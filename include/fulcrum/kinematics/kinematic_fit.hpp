@@ -37,6 +37,7 @@
 
 #include "fulcrum/io/image.hpp"
 #include "fulcrum/kinematics/beam_smearing.hpp"
+#include "fulcrum/kinematics/centre_error_terms.hpp"
 #include "fulcrum/kinematics/first_guess.hpp"
 #include "fulcrum/kinematics/global_fit.hpp"
 #include "fulcrum/kinematics/harmonic_centre.hpp"
@@ -70,6 +71,11 @@ struct KinematicOptions {
   bool ring_free_vsys = false;              // ring-by-ring: fit vsys per ring
   bool ring_by_ring = true;                 // run the ring-by-ring fit
   double noise_correlation = 0.0;           // eta; 0: 2 x pixels per beam
+  // The adopted centre, PA, inclination and vsys errors from the residuals
+  // (sandwich with the measured residual correlation) plus the spread
+  // between centre methods (centre_error_terms.hpp); off: the formal
+  // covariance scaled by reduced chi^2 and eta.
+  bool residual_covariance = true;
   // Refusal thresholds.
   int min_pixels = 60;
   double min_pixels_per_parameter = 5.0;
@@ -159,6 +165,7 @@ struct KinematicFit {
   std::vector<std::string> notes;   // e.g. unit conversion
   GlobalFitSummary global;          // the full global-fit summary (the adopted fit)
   BeamSmearingSummary beam_smearing;
+  CentreErrorTerms centre_errors;   // the adopted centre's error budget
 };
 
 // `intensity` (optional, may be null) is the line-intensity (moment-0) map

@@ -1,0 +1,241 @@
+// Sandwich covariance of the global tilted-ring geometry from the residuals
+// (centre_covariance.hpp; derivation in docs/uncertainties.md §3).
+#include "fulcrum/kinematics/centre_covariance.hpp"
+
+#include <Eigen/Dense>
+#include <algorithm>
+#include <array>
+#include <cmath>
+#include <numbers>
+
+#include "fulcrum/kinematics/tilted_ring_model.hpp"
+
+namespace fulcrum::kinematics {
+
+namespace {
+
+constexpr double kRad = std::numbers::pi / 180.0;
+
+// The model velocity for a geometry and node table (as global_model_velocity).
+double model_at(const DiscGeometry& g, const std::vector<RingNode>& nodes, double e, double n) {
+  double X, Y;
+  const double pa = g.pa_deg * kRad, inc = g.inc_deg * kRad;
+  disc_plane(e, n, g.centre.east, g.centre.north, std::cos(pa), std::sin(pa), std::cos(inc), &X, &Y);
+  const double R = std::hypot(X, Y);
+  return tilted_ring_velocity(X, Y, R, std::sin(inc), g.vsys_kms, rotation_at(nodes, R, false),
+                              rotation_at(nodes, R, true));
+}
+
+// One sample's Jacobian row: 5 geometry derivatives (ce, cn, pa, inc, vsys
+// per arcsec, deg, km/s) and up to two node speeds (vrot, and vrad).
+struct Row {
+  std::array<double, 5> geom{};
+  int node[2] = {-1, -1};          // index into nodes
+  double dvrot[2] = {0, 0}, dvrad[2] = {0, 0};
+};
+
+Row jacobian_row(const DiscGeometry& g, const std::vector<RingNode>& nodes, double e, double n) {
+  Row r;
+  const double h[5] = {1e-3, 1e-3, 1e-3, 1e-3, 1e-3};  // arcsec, arcsec, deg, deg, km/s
+  for (int q = 0; q < 5; ++q) {
+    DiscGeometry a = g, b = g;
+    double* pa[5] = {&a.centre.east, &a.centre.north, &a.pa_deg, &a.inc_deg, &a.vsys_kms};
+    double* pb[5] = {&b.centre.east, &b.centre.north, &b.pa_deg, &b.inc_deg, &b.vsys_kms};
+    *pa[q] += h[q];
+    *pb[q] -= h[q];
+    r.geom[q] = (model_at(a, nodes, e, n) - model_at(b, nodes, e, n)) / (2 * h[q]);
+  }
+  double X, Y;
+  const double pa = g.pa_deg * kRad, inc = g.inc_deg * kRad;
+  disc_plane(e, n, g.centre.east, g.centre.north, std::cos(pa), std::sin(pa), std::cos(inc), &X, &Y);
+  const double R = std::hypot(X, Y);
+  if (R < 1e-12 || nodes.empty()) return r;
+  // Linear interpolation weights of the node speeds at R (node 0 at R = 0 is
+  // fixed at zero; beyond the outer node its value holds).
+  double wts[2] = {0, 0};
+  if (R >= nodes.back().radius_arcsec) {
+    r.node[0] = static_cast<int>(nodes.size()) - 1;
+    wts[0] = 1.0;
+  } else {
+    std::size_t k = 0;
+    while (k < nodes.size() && R >= nodes[k].radius_arcsec) ++k;
+    const double r0 = k > 0 ? nodes[k - 1].radius_arcsec : 0.0;
+    const double f = (R - r0) / (nodes[k].radius_arcsec - r0);
+    r.node[0] = static_cast<int>(k);
+    wts[0] = f;
+    if (k > 0) { r.node[1] = static_cast<int>(k) - 1; wts[1] = 1.0 - f; }
+  }
+  for (int m = 0; m < 2; ++m) {
+    r.dvrot[m] = std::sin(inc) * X / R * wts[m];
+    r.dvrad[m] = std::sin(inc) * Y / R * wts[m];
+  }
+  return r;
+}
+
+}  // namespace
+
+Eigen::Matrix2d positive_part(const Eigen::Matrix2d& m) {
+  Eigen::SelfAdjointEigenSolver<Eigen::Matrix2d> es(0.5 * (m + m.transpose()));
+  const Eigen::Vector2d ev = es.eigenvalues().cwiseMax(0.0);
+  return es.eigenvectors() * ev.asDiagonal() * es.eigenvectors().transpose();
+}
+
+Eigen::Matrix2d GeometryCovariance::centre_misfit() const {
+  return positive_part(total.topLeftCorner<2, 2>() - statistical.topLeftCorner<2, 2>());
+}
+
+Matrix5d correlated_outer_sum(const SampleGrid& g, const std::vector<Eigen::Matrix<double, 5, 1>>& u,
+                              const NoiseCorrelation& corr, double reach_sigma) {
+  Matrix5d out = Matrix5d::Zero();
+  // Diagonal (zero lag).
+  for (int i : g.index)
+    if (i >= 0) out += u[i] * u[i].transpose();
+  if (!g.jacobian_ok) return out;
+  const double step = std::sqrt(std::abs(g.jacobian.determinant()));
+  const double reach = reach_sigma * corr.sigma_major_arcsec;
+  const int L = static_cast<int>(std::ceil(reach / step));
+  const double cut = std::exp(-0.5 * reach_sigma * reach_sigma);
+  Matrix5d half = Matrix5d::Zero();
+  for (int dy = 0; dy <= L; ++dy)
+    for (int dx = -L; dx <= L; ++dx) {
+      if (dy == 0 && dx <= 0) continue;  // each unordered pair once
+      const Eigen::Vector2d d = g.lag(dx, dy);
+      const double rho = corr.at(d(0), d(1));
+      if (rho < cut) continue;
+      Matrix5d acc = Matrix5d::Zero();
+      for (int y = g.y0; y < g.y0 + g.ny; ++y)
+        for (int x = g.x0; x < g.x0 + g.nx; ++x) {
+          const int i = g.at(x, y);
+          if (i < 0) continue;
+          const int j = g.at(x + dx, y + dy);
+          if (j >= 0) acc.noalias() += u[i] * u[j].transpose();
+        }
+      half += rho * acc;
+    }
+  return out + half + half.transpose();
+}
+
+GeometryCovariance geometry_covariance(const VelocitySamples& s, const GlobalFitSummary& fit,
+                                       const GeometryCovarianceOptions& opt) {
+  GeometryCovariance out;
+  const std::size_t n = s.size();
+  if (fit.used.size() != n || fit.nodes.empty()) {
+    out.reason = "the fit has no used pixels";
+    return out;
+  }
+  const bool radial = opt.radial;
+  const int nn = static_cast<int>(fit.nodes.size());
+  // Free columns: geometry first, then node speeds with pixels.
+  const bool fixed[5] = {opt.fix_centre, opt.fix_centre, opt.fix_pa, opt.fix_inc, opt.fix_vsys};
+  std::vector<int> gcol(5, -1), ncol(nn, -1), rcol(nn, -1);
+  int p = 0;
+  for (int q = 0; q < 5; ++q)
+    if (!fixed[q]) gcol[q] = p++;
+  const int ngeom = p;
+  for (int k = 0; k < nn; ++k)
+    if (fit.nodes[k].n_pixels > 0) ncol[k] = p++;
+  if (radial)
+    for (int k = 0; k < nn; ++k)
+      if (fit.nodes[k].n_pixels > 0) rcol[k] = p++;
+  // Rows, weights, the normal matrix A and the normalised residuals.
+  std::vector<Row> rows(n);
+  std::vector<double> w(n, 0.0), z(n, 0.0);
+  Eigen::MatrixXd A = Eigen::MatrixXd::Zero(p, p);
+  const DiscGeometry& g = fit.geometry;
+  const double pa = g.pa_deg * kRad, inc = g.inc_deg * kRad;
+  double zz = 0.0;
+  int used = 0;
+  for (std::size_t i = 0; i < n; ++i) {
+    if (!fit.used[i]) continue;
+    double X, Y;
+    disc_plane(s.east[i], s.north[i], g.centre.east, g.centre.north, std::cos(pa), std::sin(pa),
+               std::cos(inc), &X, &Y);
+    const double R = std::hypot(X, Y);
+    const double cos_t = R > 0 ? X / R : 0.0;
+    w[i] = std::pow(std::abs(cos_t), opt.weight_power) / (s.sigma[i] * s.sigma[i]);
+    rows[i] = jacobian_row(g, fit.nodes, s.east[i], s.north[i]);
+    z[i] = (s.velocity[i] - model_at(g, fit.nodes, s.east[i], s.north[i])) / s.sigma[i];
+    zz += z[i] * z[i];
+    ++used;
+    // Sparse row -> (column, value) pairs.
+    std::array<std::pair<int, double>, 9> nz;
+    int m = 0;
+    for (int q = 0; q < 5; ++q)
+      if (gcol[q] >= 0) nz[m++] = {gcol[q], rows[i].geom[q]};
+    for (int t = 0; t < 2; ++t) {
+      const int k = rows[i].node[t];
+      if (k < 0) continue;
+      if (ncol[k] >= 0) nz[m++] = {ncol[k], rows[i].dvrot[t]};
+      if (radial && rcol[k] >= 0) nz[m++] = {rcol[k], rows[i].dvrad[t]};
+    }
+    for (int a = 0; a < m; ++a)
+      for (int b = 0; b < m; ++b) A(nz[a].first, nz[b].first) += w[i] * nz[a].second * nz[b].second;
+  }
+  out.n_used = used;
+  out.n_parameters = p;
+  if (used <= p) {
+    out.reason = "fewer used pixels than parameters";
+    return out;
+  }
+  Eigen::LDLT<Eigen::MatrixXd> ldlt(A);
+  if (ldlt.info() != Eigen::Success || !(ldlt.vectorD().minCoeff() > 0)) {
+    out.reason = "the normal matrix is singular";
+    return out;
+  }
+  const Eigen::MatrixXd Ainv = ldlt.solve(Eigen::MatrixXd::Identity(p, p));
+  for (int a = 0; a < 5; ++a)
+    for (int b = 0; b < 5; ++b)
+      out.formal(a, b) = (gcol[a] >= 0 && gcol[b] >= 0) ? Ainv(gcol[a], gcol[b]) : 0.0;
+  // u_i = w_i J_i A^-1[:, geometry], then v_i = sigma_i u_i.
+  const Eigen::MatrixXd G = Ainv.leftCols(ngeom);
+  std::vector<Eigen::Matrix<double, 5, 1>> v(n, Eigen::Matrix<double, 5, 1>::Zero());
+  for (std::size_t i = 0; i < n; ++i) {
+    if (!fit.used[i]) continue;
+    Eigen::RowVectorXd jg = Eigen::RowVectorXd::Zero(ngeom);
+    for (int q = 0; q < 5; ++q)
+      if (gcol[q] >= 0) jg += rows[i].geom[q] * G.row(gcol[q]);
+    for (int t = 0; t < 2; ++t) {
+      const int k = rows[i].node[t];
+      if (k < 0) continue;
+      if (ncol[k] >= 0) jg += rows[i].dvrot[t] * G.row(ncol[k]);
+      if (radial && rcol[k] >= 0) jg += rows[i].dvrad[t] * G.row(rcol[k]);
+    }
+    for (int q = 0; q < 5; ++q)
+      if (gcol[q] >= 0) v[i](q) = w[i] * s.sigma[i] * jg(gcol[q]);
+  }
+  // Residual correlation, then the residual scale. With noise correlated
+  // over eta pixels each fitted parameter absorbs about eta pixels' worth of
+  // residual variance (E sum r^2 ~ sigma^2 (N - p eta) for parameters whose
+  // influence is smooth on the beam scale), so the variance is estimated
+  // with N - p eta degrees of freedom (at least N / 4).
+  const SampleGrid grid = make_sample_grid(s, fit.used);
+  const Beam beam = s.beam.value_or(Beam{});
+  out.model_correlation_scale = std::sqrt(2.0);  // noise white before the beam
+  out.correlation = measure_residual_correlation(grid, z, fit.used, beam, opt.correlation);
+  const double area = std::abs(grid.jacobian.determinant());
+  const double eta = s.beam && grid.jacobian_ok ? out.correlation.correlation.correlated_pixels(area) : 1.0;
+  out.effective_dof = std::max(0.25 * used, used - p * eta);
+  out.residual_scale2_measured = zz / out.effective_dof;
+  out.residual_scale2 = s.has_errors ? std::max(1.0, out.residual_scale2_measured) : out.residual_scale2_measured;
+  if (!s.beam || !out.correlation.measured) {
+    // No beam or no measurement: independent pixels, or the beam model.
+    const NoiseCorrelation c = s.beam ? noise_correlation_of_beam(*s.beam) : NoiseCorrelation{};
+    const Matrix5d sum = correlated_outer_sum(grid, v, c, opt.reach_sigma);
+    out.statistical = (s.has_errors ? 1.0 : out.residual_scale2) * sum;
+    out.total = out.residual_scale2 * sum;
+  } else {
+    const double s_stat = std::min(out.correlation.scale, out.model_correlation_scale);
+    const Matrix5d sum_stat =
+        correlated_outer_sum(grid, v, scaled_beam_correlation(beam, s_stat), opt.reach_sigma);
+    const Matrix5d sum_all = out.correlation.scale == s_stat
+                                 ? sum_stat
+                                 : correlated_outer_sum(grid, v, out.correlation.correlation, opt.reach_sigma);
+    out.statistical = (s.has_errors ? 1.0 : out.residual_scale2) * sum_stat;
+    out.total = out.residual_scale2 * sum_all;
+  }
+  out.ok = out.total.allFinite() && out.total(0, 0) > 0 && out.total(1, 1) > 0;
+  if (!out.ok) out.reason = "the sandwich covariance is not finite and positive";
+  return out;
+}
+
+}  // namespace fulcrum::kinematics
