@@ -17,6 +17,7 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/moments/moment_settings.hpp"
 #include "fulcrum/pipeline/manifest.hpp"
+#include "kinematic_args.hpp"
 #include "subcommand.hpp"
 
 namespace fulcrum::cli {
@@ -72,6 +73,7 @@ struct GalaxyArgs {
         ->check(CLI::ExistingFile)->excludes(tp);
     cmd->add_option("--name", in.name, "Galaxy name for the report (default: the folder of the cube or intensity map)");
     moment_options = add_moment_options(cmd, in.moments, "Moment maps (with --cube; see `fulcrum moments`)");
+    add_kinematic_options(cmd, in.kinematic, "Kinematic fit (see `fulcrum kinematics`)");
   }
 
   // Check the options given and complete `in`. `need_tail`: a tail direction
@@ -110,6 +112,8 @@ struct GalaxyArgs {
       if (auto problem = moment_settings_problem(in.moments, option_name); !problem.empty())
         throw InputError("", problem);
     }
+    if (auto problem = kinematics::kinematic_settings_problem(in.kinematic, option_name); !problem.empty())
+      throw InputError("", problem);
   }
 };
 

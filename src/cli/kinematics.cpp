@@ -30,16 +30,16 @@
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/kinematics/kinematic_fit.hpp"
 #include "fulcrum/kinematics/ring_table.hpp"
+#include "kinematic_args.hpp"
 #include "subcommand.hpp"
 
 namespace {
 
 struct KinematicsArgs {
   std::string velocity, velocity_error, intensity, method = "both", json, out;
-  bool no_smearing_correction = false;
+  fulcrum::kinematics::KinematicSettings settings;  // guesses, priors, holds, radius, switches
   int smearing_refits = 4;
-  std::optional<double> centre_ra, centre_dec, pa, inc, vsys, max_radius, ring_width;
-  std::vector<std::string> fix;
+  std::optional<double> ring_width;
   double ring_width_beams = 0.5;
   double weight_power = 1.0;
   double wedge = 15.0;
@@ -47,7 +47,6 @@ struct KinematicsArgs {
   std::string loss = "none";
   double loss_scale = 2.0;
   bool ring_vsys = false;
-  double noise_correlation = 0.0;
   int min_pixels = 60;
   double min_inc = 15.0;
 };
@@ -62,32 +61,11 @@ void run(const KinematicsArgs& a) {
   using namespace fulcrum::kinematics;
   kinematics::KinematicOptions opt;
   opt.method = parse_method(a.method);
-  if (a.centre_ra.has_value() != a.centre_dec.has_value())
-    throw InputError("", "--centre-ra and --centre-dec must be given together");
-  if (a.centre_ra) {
-    if (*a.centre_dec < -90 || *a.centre_dec > 90)
-      throw InputError("", "--centre-dec must lie in [-90, 90] deg");
-    opt.centre_guess = WorldCoord{*a.centre_ra, *a.centre_dec};
-  }
-  opt.pa_guess_deg = a.pa;
-  if (a.inc && (*a.inc < 0 || *a.inc > 90)) throw InputError("", "--inc must lie in [0, 90] deg");
-  opt.inc_guess_deg = a.inc;
-  opt.vsys_guess_kms = a.vsys;
-  if (a.max_radius && !(*a.max_radius > 0)) throw InputError("", "--max-radius must be positive");
-  opt.max_radius_arcsec = a.max_radius;
+  apply_kinematic_settings(a.settings, opt, [](const std::string& n) { return fulcrum::option_name(n); });
   if (a.ring_width && !(*a.ring_width > 0)) throw InputError("", "--ring-width must be positive");
   opt.ring_width_arcsec = a.ring_width;
   if (!(a.ring_width_beams > 0)) throw InputError("", "--ring-width-beams must be positive");
   opt.ring_width_beams = a.ring_width_beams;
-  for (const auto& f : a.fix) {
-    if (f == "centre") opt.fix_centre = true;
-    else if (f == "pa") opt.fix_pa = true;
-    else if (f == "inc") opt.fix_inc = true;
-    else if (f == "vsys") opt.fix_vsys = true;
-    else throw InputError("", "--fix takes centre, pa, inc or vsys (got '" + f + "')");
-  }
-  if (opt.fix_centre && !opt.centre_guess)
-    throw InputError("", "--fix centre needs --centre-ra and --centre-dec");
   if (a.weight_power < 0) throw InputError("", "--weight-power must be >= 0");
   opt.weight_power = a.weight_power;
   if (a.wedge < 0 || a.wedge >= 90) throw InputError("", "--wedge must lie in [0, 90) deg");
@@ -100,11 +78,8 @@ void run(const KinematicsArgs& a) {
   if (!(a.loss_scale > 0)) throw InputError("", "--loss-scale must be positive");
   opt.loss_scale = a.loss_scale;
   opt.ring_free_vsys = a.ring_vsys;
-  if (a.noise_correlation < 0) throw InputError("", "--noise-correlation must be >= 0");
-  opt.noise_correlation = a.noise_correlation;
   opt.min_pixels = a.min_pixels;
   opt.min_inc_deg = a.min_inc;
-  opt.correct_beam_smearing = !a.no_smearing_correction;
   if (a.smearing_refits < 1) throw InputError("", "--smearing-refits must be at least 1");
   opt.smearing_max_refits = a.smearing_refits;
 
@@ -187,6 +162,13 @@ void run(const KinematicsArgs& a) {
                 bs.uncorrected.inc_deg);
   else
     std::printf("  beam smearing not corrected: %s\n", bs.reason.c_str());
+  const auto& fp = fit.footprint;
+  if (fp.enabled)
+    std::printf("  footprint: %d velocity outliers, %d isolated pixels, %d pixels in %d islands "
+                "smaller than %d pixels removed; %d of %d kept\n",
+                fp.velocity_outliers, fp.isolated_pixels, fp.small_island_pixels, fp.small_islands,
+                fp.min_island_pixels, fp.pixels_kept, fp.pixels_in);
+  if (fit.ambiguity.ambiguous) std::printf("  %s\n", fit.ambiguity.note.c_str());
   std::printf("  %d of %d pixels, %d rings, reduced chi2 %.3f, %s\n", fit.diagnostics.pixels_used,
               fit.diagnostics.pixels_input, fit.diagnostics.rings_used,
               fit.diagnostics.reduced_chi2, fit.diagnostics.converged ? "converged" : "not converged");
@@ -205,31 +187,20 @@ FULCRUM_SUBCOMMAND(kinematics, 50, [](CLI::App& app) {
   cmd->add_option("--intensity", a->intensity,
                   "Line-intensity (moment-0) map weighting the beam-smearing correction (FITS, any "
                   "grid); default: uniform over the velocity footprint");
-  cmd->add_flag("--no-smearing-correction", a->no_smearing_correction,
-                "Fit the velocity map as it is, without the beam-smearing correction");
   cmd->add_option("--smearing-refits", a->smearing_refits,
                   "Most refits of the beam-smearing correction (4)");
   cmd->add_option("--method", a->method, "rings, harmonic or both (default both)");
   cmd->add_option("--json", a->json, "Write the result here (JSON)")->required();
   cmd->add_option("--out", a->out, "Folder for model/residual maps and the per-ring tables");
-  cmd->add_option("--centre-ra", a->centre_ra, "First-guess centre RA (deg)");
-  cmd->add_option("--centre-dec", a->centre_dec, "First-guess centre Dec (deg)");
-  cmd->add_option("--pa", a->pa, "First-guess PA of the receding half (deg, north through east)");
-  cmd->add_option("--inc", a->inc, "First-guess inclination (deg)");
-  cmd->add_option("--vsys", a->vsys, "First-guess systemic velocity (km/s)");
-  cmd->add_option("--max-radius", a->max_radius, "Outer ring radius (arcsec)");
+  fulcrum::cli::add_kinematic_options(cmd, a->settings, "Disc geometry and fit settings");
   cmd->add_option("--ring-width", a->ring_width, "Ring width (arcsec); default half a beam");
   cmd->add_option("--ring-width-beams", a->ring_width_beams, "Ring width in beam FWHM (0.5)");
-  cmd->add_option("--fix", a->fix, "Hold at the first guess: centre, pa, inc, vsys")
-      ->delimiter(',');
   cmd->add_option("--weight-power", a->weight_power, "k in the |cos theta|^k pixel weights (1)");
   cmd->add_option("--wedge", a->wedge, "Half-angle of the excluded wedge about the minor axis (deg, 15)");
   cmd->add_flag("--radial", a->radial, "Fit a radial velocity term per ring");
   cmd->add_option("--loss", a->loss, "Robust loss: none, huber or cauchy (none)");
   cmd->add_option("--loss-scale", a->loss_scale, "Robust loss scale in residual sigmas (2)");
   cmd->add_flag("--ring-vsys", a->ring_vsys, "Fit vsys per ring in the ring-by-ring fit");
-  cmd->add_option("--noise-correlation", a->noise_correlation,
-                  "Covariance factor for correlated pixels (0: 2 x pixels per beam)");
   cmd->add_option("--min-pixels", a->min_pixels, "Refuse with fewer usable pixels (60)");
   cmd->add_option("--min-inc", a->min_inc, "Refuse discs closer to face-on than this (deg, 15)");
   cmd->callback([a] {

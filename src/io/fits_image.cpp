@@ -1,4 +1,6 @@
-// FITS images and cubes through CFITSIO.
+// FITS images and cubes through CFITSIO, read as delivered: plain, gzip-
+// compressed (.fits.gz) and tile-compressed (fpack) files alike, with the
+// missing-value conventions found in real data products (missing_values.hpp).
 #include "fulcrum/io/fits_image.hpp"
 
 #include <fitsio.h>
@@ -14,6 +16,7 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/missing_values.hpp"
 
 namespace fulcrum {
 
@@ -42,12 +45,23 @@ std::size_t file_size(const std::string& path) {
   return ec ? 0 : static_cast<std::size_t>(n);
 }
 
+// A gzip stream starts with the bytes 0x1f 0x8b (RFC 1952, section 2.3.1);
+// CFITSIO unpacks such files in memory, whatever their name.
+bool is_gzip_file(const std::string& path) {
+  std::FILE* f = std::fopen(path.c_str(), "rb");
+  if (!f) return false;
+  unsigned char magic[2] = {0, 0};
+  const std::size_t got = std::fread(magic, 1, 2, f);
+  std::fclose(f);
+  return got == 2 && magic[0] == 0x1f && magic[1] == 0x8b;
+}
+
 void check_path_readable(const std::string& path) {
   namespace fs = std::filesystem;
   std::error_code ec;
   if (!fs::exists(path, ec)) throw InputError(path, "no such file");
   if (fs::is_directory(path, ec)) throw InputError(path, "is a folder, not a FITS file");
-  if (fs::file_size(path, ec) < 2880)
+  if (fs::file_size(path, ec) < 2880 && !is_gzip_file(path))
     throw InputError(path, "not a FITS file (shorter than one 2880-byte FITS block)");
 }
 
@@ -68,10 +82,15 @@ void goto_image_hdu(fitsfile* f, const std::string& name) {
   throw InputError(name, "holds no image data (no HDU with NAXIS > 0)");
 }
 
+// The header of the current HDU; for a tile-compressed image, the header of
+// the image it holds (CFITSIO converts the compressed table's header).
 std::string read_header(fitsfile* f, const std::string& name) {
   int status = 0, nkeys = 0;
   char* hdr = nullptr;
-  if (fits_hdr2str(f, 0, nullptr, 0, &hdr, &nkeys, &status))
+  int s0 = 0;
+  const bool compressed = fits_is_compressed_image(f, &s0) && !s0;
+  if (compressed ? fits_convert_hdr2str(f, 0, nullptr, 0, &hdr, &nkeys, &status)
+                 : fits_hdr2str(f, 0, nullptr, 0, &hdr, &nkeys, &status))
     throw InputError(name, "cannot read the FITS header: " + cfitsio_message(status));
   std::string out(hdr, static_cast<std::size_t>(nkeys) * 80);
   int s2 = 0;
@@ -155,6 +174,7 @@ struct RawArray {
   std::vector<long> naxes;
   std::vector<double> data;
   std::string header;
+  MissingValueCounts missing;
 };
 
 // `available` is the size of the file or buffer in bytes (0: unknown).
@@ -194,6 +214,8 @@ RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt
   }
   // A truncated file is refused before reading: the data unit must hold
   // every pixel the header announces.
+  int s_comp = 0;
+  if (fits_is_compressed_image(f, &s_comp) && !s_comp) available = 0;  // tiles: no fixed size
   if (available) {
     LONGLONG headstart = 0, datastart = 0, dataend = 0;
     int s2 = 0;
@@ -209,15 +231,22 @@ RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt
   std::vector<char> nulls(n, 0);
   std::vector<long> fpixel(static_cast<std::size_t>(naxis), 1);
   int anynul = 0;
-  if (fits_read_pixnull(f, TDOUBLE, fpixel.data(), static_cast<LONGLONG>(n), r.data.data(),
-                        nulls.data(), &anynul, &status))
+  // Integer images: CFITSIO applies BLANK (nulls). Floating-point images are
+  // read without CFITSIO's null check, which would turn +-inf into NaN
+  // unseen: mark_missing_values counts NaN, infinities, BLANK and absurd
+  // values apart.
+  const int read_failed =
+      bitpix > 0 ? fits_read_pixnull(f, TDOUBLE, fpixel.data(), static_cast<LONGLONG>(n),
+                                     r.data.data(), nulls.data(), &anynul, &status)
+                 : fits_read_pix(f, TDOUBLE, fpixel.data(), static_cast<LONGLONG>(n), nullptr,
+                                 r.data.data(), &anynul, &status);
+  if (read_failed)
     throw InputError(name, "cannot read the pixel data (truncated or damaged file?): " +
                                cfitsio_message(status));
   if (anynul)
     for (std::size_t i = 0; i < n; ++i)
       if (nulls[i]) r.data[i] = kNaN;
-  for (double& v : r.data)
-    if (!std::isfinite(v)) v = kNaN;
+  r.missing = mark_missing_values(r.data, r.header, bitpix);
   return r;
 }
 
@@ -306,9 +335,19 @@ std::optional<std::string> header_value(const std::string& header, const std::st
   return std::nullopt;
 }
 
-Image read_image(const std::string& path, const ReadOptions& options) {
+Image read_image_counted(const std::string& path, MissingValueCounts& counts,
+                         const ReadOptions& options) {
   auto f = open_fits(path);
-  return image_from_raw(read_array(f.get(), path, options, file_size(path)), path);
+  // A gzip file's size says nothing about the unpacked data unit.
+  RawArray r = read_array(f.get(), path, options, is_gzip_file(path) ? 0 : file_size(path));
+  counts = r.missing;
+  warn_missing_values(counts, path);
+  return image_from_raw(std::move(r), path);
+}
+
+Image read_image(const std::string& path, const ReadOptions& options) {
+  MissingValueCounts counts;
+  return read_image_counted(path, counts, options);
 }
 
 Image read_image_from_memory(const void* bytes, std::size_t size, const std::string& name,
@@ -337,7 +376,8 @@ Image read_image_from_memory(const void* bytes, std::size_t size, const std::str
 
 Cube read_cube(const std::string& path, const ReadOptions& options) {
   auto f = open_fits(path);
-  RawArray r = read_array(f.get(), path, options, file_size(path));
+  RawArray r = read_array(f.get(), path, options, is_gzip_file(path) ? 0 : file_size(path));
+  warn_missing_values(r.missing, path);
   const auto nax = r.naxes.size();
   if (nax < 3 || nax > 4)
     throw InputError(path, "NAXIS = " + std::to_string(nax) + ": a cube needs 3 axes (x, y, "

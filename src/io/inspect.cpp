@@ -8,6 +8,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/io/missing_values.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
 
 namespace fulcrum {
@@ -17,6 +18,18 @@ namespace {
 std::string lower(std::string s) {
   std::transform(s.begin(), s.end(), s.begin(), [](unsigned char c) { return std::tolower(c); });
   return s;
+}
+
+std::string fixed(double v, int decimals) {
+  char b[64];
+  std::snprintf(b, sizeof b, "%.*f", decimals, std::abs(v) < 0.5 * std::pow(10.0, -decimals) ? 0.0 : v);
+  return b;
+}
+
+std::string fmt(double v, int prec = 4) {
+  char b[64];
+  std::snprintf(b, sizeof b, "%.*g", prec, v);
+  return b;
 }
 
 nlohmann::json value_stats(const std::vector<double>& data) {
@@ -37,9 +50,73 @@ nlohmann::json value_stats(const std::vector<double>& data) {
   return j;
 }
 
-std::vector<std::string> uses_for_map(const std::string& unit, bool has_beam, const nlohmann::json& st) {
+double quantile_of(std::vector<double> v, double q) {
+  const std::size_t k = std::min(v.size() - 1, static_cast<std::size_t>(q * (v.size() - 1) + 0.5));
+  std::nth_element(v.begin(), v.begin() + static_cast<std::ptrdiff_t>(k), v.end());
+  return v[k];
+}
+
+// Words in a file name that mark an error map: "err", "sigma", "unc",
+// "noise", "rms", or a name part that is 'e' before a product word
+// ("evel", "emom0", "evcen"). A hint only: the values decide with it.
+std::string error_name_hint(const std::string& path) {
+  std::string base = lower(path.substr(path.find_last_of('/') + 1));
+  std::vector<std::string> parts{""};
+  for (char c : base) {
+    if (c == '.' || c == '_' || c == '-' || c == ' ') parts.emplace_back();
+    else parts.back() += c;
+  }
+  for (const auto& p : parts) {
+    for (const char* w : {"err", "sigma", "unc", "noise", "rms"})
+      if (p.find(w) != std::string::npos) return "the file name has '" + p + "'";
+    for (const char* w : {"vel", "vcen", "mom", "gauss", "peak", "pk", "int", "flux"})
+      if (p.size() > 1 && p[0] == 'e' && p.compare(1, std::string(w).size(), w) == 0)
+        return "the file name has '" + p + "' (e for error)";
+  }
+  return "";
+}
+
+bool is_velocity_unit(const std::string& unit) {
+  const std::string u = lower(unit);
+  return u == "km/s" || u == "km s-1" || u == "m/s" || u == "m s-1";
+}
+
+// Why a map looks like an error map, or "" when it does not. BTYPE naming an
+// error decides. Otherwise the values: an error map is non-negative with a
+// long upper tail (the 99th percentile lies more than 5 times further above
+// the median than the 1st percentile lies below it), while a velocity field
+// is roughly symmetric about its systemic velocity. For a map in velocity
+// units that shape decides alone; a line map can have it too (a bright
+// nucleus), so there a file-name hint must agree. Thresholds are our own.
+std::string error_map_reason(const std::string& path, const std::string& header,
+                             const std::string& unit, const std::vector<double>& data) {
+  const std::string btype = lower(header_value(header, "BTYPE").value_or(""));
+  for (const char* w : {"error", "uncert", "sigma", "noise"})
+    if (btype.find(w) != std::string::npos) return "BTYPE is '" + btype + "'";
+  std::vector<double> v;
+  for (double x : data)
+    if (std::isfinite(x)) v.push_back(x);
+  if (v.size() < 10 || *std::min_element(v.begin(), v.end()) < 0) return "";
+  const double lo = quantile_of(v, 0.01), med = quantile_of(v, 0.5), hi = quantile_of(v, 0.99);
+  const bool long_tail = hi - med > 5.0 * (med - lo);
+  const std::string hint = error_name_hint(path);
+  const std::string shape = "its values are all non-negative with a long upper tail (median " +
+                            fmt(med) + ", 99th percentile " + fmt(hi) + ")";
+  if (is_velocity_unit(unit)) return long_tail ? shape + (hint.empty() ? "" : "; " + hint) : "";
+  if (!hint.empty() && long_tail) return shape + "; " + hint;
+  return "";
+}
+
+std::vector<std::string> uses_for_map(const std::string& unit, bool has_beam, const nlohmann::json& st,
+                                      const std::string& error_reason) {
   std::vector<std::string> uses;
   const std::string u = lower(unit);
+  if (!error_reason.empty() && st.contains("min")) {
+    const bool vel = is_velocity_unit(u);
+    return {std::string(vel ? "velocity error map (--velocity-error)"
+                            : "intensity error map (--intensity-error)") +
+            ", not a " + (vel ? "velocity field" : "line map") + ": " + error_reason};
+  }
   const bool velocity_unit = u == "km/s" || u == "km s-1" || u == "m/s" || u == "m s-1";
   const bool line_unit = u.find("km") != std::string::npos &&
                          (u.find("jy") != std::string::npos || u.find("k ") == 0 || u == "k.km/s" ||
@@ -57,17 +134,6 @@ std::vector<std::string> uses_for_map(const std::string& unit, bool has_beam, co
   return uses;
 }
 
-std::string fixed(double v, int decimals) {
-  char b[64];
-  std::snprintf(b, sizeof b, "%.*f", decimals, std::abs(v) < 0.5 * std::pow(10.0, -decimals) ? 0.0 : v);
-  return b;
-}
-
-std::string fmt(double v, int prec = 4) {
-  char b[64];
-  std::snprintf(b, sizeof b, "%.*g", prec, v);
-  return b;
-}
 
 }  // namespace
 
@@ -77,8 +143,9 @@ nlohmann::json inspect_fits(const std::string& path) {
   Image img;
   bool is_cube = false;
   Cube cube;
+  MissingValueCounts missing;
   try {
-    img = read_image(path);
+    img = read_image_counted(path, missing);
   } catch (const InputError& e) {
     if (std::string(e.problem()).find("is this a cube") == std::string::npos) throw;
     cube = read_cube(path);
@@ -122,11 +189,22 @@ nlohmann::json inspect_fits(const std::string& path) {
   }
   j["unit"] = is_cube ? cube.unit : img.unit;
   j["values"] = value_stats(is_cube ? cube.data : img.data);
+  if (!is_cube) {
+    nlohmann::json m = {{"not_a_number", missing.not_a_number},
+                        {"infinite", missing.infinite},
+                        {"absurd_ge_1e30", missing.absurd},
+                        {"blank_value", nullptr},
+                        {"blank_pixels", missing.blank}};
+    if (missing.blank_value) m["blank_value"] = *missing.blank_value;
+    j["missing"] = m;
+  }
   if (is_cube) {
     j["channels"] = cube.nz;
     j["uses"] = {"spectral-line cube (--cube, `fulcrum moments`)"};
   } else {
-    j["uses"] = uses_for_map(img.unit, img.beam.has_value(), j["values"]);
+    const std::string why = error_map_reason(path, img.header, img.unit, img.data);
+    j["looks_like_error_map"] = !why.empty();
+    j["uses"] = uses_for_map(img.unit, img.beam.has_value(), j["values"], why);
   }
   return j;
 }
@@ -172,6 +250,16 @@ std::string format_inspection(const nlohmann::json& j) {
   const auto& v = j["values"];
   line("finite pixels", std::to_string(v["finite_pixels"].get<std::size_t>()) + " of " +
                             std::to_string(v["pixels"].get<std::size_t>()));
+  if (j.contains("missing")) {
+    const auto& m = j["missing"];
+    std::string t = std::to_string(m["not_a_number"].get<std::size_t>()) + " NaN";
+    if (!m["blank_value"].is_null())
+      t += ", " + std::to_string(m["blank_pixels"].get<std::size_t>()) + " equal to BLANK = " +
+           fmt(m["blank_value"].get<double>(), 9) + " (honoured on floats)";
+    t += ", " + std::to_string(m["infinite"].get<std::size_t>()) + " infinite, " +
+         std::to_string(m["absurd_ge_1e30"].get<std::size_t>()) + " with |value| >= 1e30";
+    line("missing pixels", t);
+  }
   if (v.contains("min"))
     line("values", "min " + fmt(v["min"].get<double>()) + ", median " + fmt(v["median"].get<double>()) +
                        ", max " + fmt(v["max"].get<double>()));

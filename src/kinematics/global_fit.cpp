@@ -14,6 +14,7 @@
 //
 // Units: arcsec, radians inside, degrees outside, km/s.
 #include "fulcrum/kinematics/global_fit.hpp"
+#include "fulcrum/kinematics/quiet_solver_log.hpp"
 
 #include <ceres/ceres.h>
 
@@ -31,6 +32,27 @@ namespace fulcrum::kinematics {
 namespace {
 
 constexpr double kRad = std::numbers::pi / 180.0;
+
+// A Gaussian prior on one parameter (or one axis of the centre):
+// residual = (x - mean) / err, times the weight of GeometryPrior.
+struct PriorResidual {
+  PriorResidual(double mean, double scale, int index) : mean_(mean), scale_(scale), index_(index) {}
+  template <typename T>
+  bool operator()(const T* x, T* r) const {
+    r[0] = (x[index_] - T(mean_)) * T(scale_);
+    return true;
+  }
+  const double mean_, scale_;
+  const int index_;
+};
+
+template <int Size>
+void add_prior(ceres::Problem& problem, double* block, int index, double mean, double err,
+               double weight) {
+  auto* cost = new ceres::AutoDiffCostFunction<PriorResidual, 1, Size>(
+      new PriorResidual(mean, weight / err, index));
+  problem.AddResidualBlock(cost, nullptr, block);
+}
 
 struct Parameters {
   double centre[2] = {0, 0};
@@ -53,6 +75,25 @@ SampleState disc_state(const Parameters& p, double east, double north) {
     s.sin_t = Y / s.R;
   }
   return s;
+}
+
+// The geometry priors (GeometryPrior) as residual blocks. The PA's mean is
+// taken within 180 deg of the current PA (angles wrap).
+void add_priors(ceres::Problem& problem, Parameters& p, const GlobalFitOptions& opt) {
+  const GeometryPrior& pr = opt.prior;
+  const double w = std::sqrt(std::max(1.0, opt.correlation_factor));
+  if (pr.centre_err_arcsec && !opt.fix_centre) {
+    add_prior<2>(problem, p.centre, 0, pr.mean.centre.east, *pr.centre_err_arcsec, w);
+    add_prior<2>(problem, p.centre, 1, pr.mean.centre.north, *pr.centre_err_arcsec, w);
+  }
+  if (pr.pa_err_deg && !opt.fix_pa) {
+    const double mean = p.pa + angle_diff_deg(pr.mean.pa_deg, p.pa / kRad) * kRad;
+    add_prior<1>(problem, &p.pa, 0, mean, *pr.pa_err_deg * kRad, w);
+  }
+  if (pr.inc_err_deg && !opt.fix_inc)
+    add_prior<1>(problem, &p.inc, 0, pr.mean.inc_deg * kRad, *pr.inc_err_deg * kRad, w);
+  if (pr.vsys_err_kms && !opt.fix_vsys)
+    add_prior<1>(problem, &p.vsys, 0, pr.mean.vsys_kms, *pr.vsys_err_kms, w);
 }
 
 double model_of(const Parameters& p, const std::vector<double>& node_r, double east, double north,
@@ -285,6 +326,7 @@ GlobalFitSummary fit_global_rings(const VelocitySamples& s, const DiscGeometry& 
     if (hold_inc) {
       problem->SetParameterBlockConstant(&p.inc);
     }
+    add_priors(*problem, p, opt);
     if (opt.record_problem) {
       pass_start = {p.centre[0], p.centre[1], p.pa, p.inc, p.vsys};
       for (int k = 1; k <= N; ++k) pass_start.push_back(p.vrot[k]);
@@ -394,7 +436,11 @@ GlobalFitSummary fit_global_rings(const VelocitySamples& s, const DiscGeometry& 
     if (radial)
       for (int k = 1; k <= N; ++k)
         if (problem->HasParameterBlock(&p.vrad[k])) blocks.push_back(&p.vrad[k]);
-    const bool cov_ok = cov.Compute(blocks, problem.get());
+    bool cov_ok = false;
+    {
+      const QuietSolverLog quiet;  // the failure is reported in the summary, not by the solver
+      cov_ok = cov.Compute(blocks, problem.get());
+    }
     if (cov_ok) {
       const int np = static_cast<int>(blocks.size());
       std::vector<int> offset(np + 1, 0), sizes(np);

@@ -14,6 +14,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/kinematics/fit_health.hpp"
 #include "fulcrum/kinematics/tilted_ring_model.hpp"
 #include "fulcrum/sky/angle.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
@@ -97,10 +98,55 @@ void apply_centre_error_terms(KinematicFit& fit, const VelocitySamples& fitted, 
     fit.notes.push_back("centre errors: " + t.reason);
     return;
   }
-  if (fit.ring_centre) fit.ring_centre->covariance = t.total;
+  if (fit.ring_centre) {
+    fit.ring_centre->covariance = t.total;
+    if (fit.ambiguity.ambiguous)  // a second solution widens the centre (ambiguity term)
+      fit.ring_centre->covariance = add_ambiguity_spread(t.total, fit.global.geometry.centre,
+                                                         fit.ambiguity.second.centre);
+  }
   if (!go.fix_pa) fit.pa_err_deg = std::sqrt(t.geometry(2, 2));
   if (!go.fix_inc) fit.inc_err_deg = std::sqrt(t.geometry(3, 3));
   if (!go.fix_vsys) fit.vsys_err_kms = std::sqrt(t.geometry(4, 4));
+}
+
+nlohmann::json footprint_json(const FootprintSummary& f) {
+  return {{"cleaned", f.enabled},
+          {"pixels_with_bad_error", f.pixels_bad_error},
+          {"pixels_in", f.pixels_in},
+          {"velocity_outliers", f.velocity_outliers},
+          {"outlier_threshold_kms", f.outlier_threshold_kms},
+          {"isolated_pixels", f.isolated_pixels},
+          {"small_islands", f.small_islands},
+          {"small_island_pixels", f.small_island_pixels},
+          {"min_island_pixels", f.min_island_pixels},
+          {"islands_kept", f.islands_kept},
+          {"pixels_kept", f.pixels_kept}};
+}
+
+nlohmann::json geometry_json(const DiscGeometry& g) {
+  return {{"centre_east_arcsec", g.centre.east}, {"centre_north_arcsec", g.centre.north},
+          {"pa_deg", g.pa_deg}, {"inc_deg", g.inc_deg}, {"vsys_kms", g.vsys_kms}};
+}
+
+nlohmann::json starts_json(const MultiStartSummary& m) {
+  nlohmann::json j = {{"scouts", m.starts}, {"scouts_converged", m.converged},
+                      {"best_start", geometry_json(m.best_start)},
+                      {"best_misfit", m.best_misfit}};
+  j["second_start"] = m.second_start ? geometry_json(*m.second_start) : nlohmann::json();
+  if (m.second_start) j["second_misfit"] = m.second_misfit;
+  return j;
+}
+
+nlohmann::json ambiguity_json(const SolutionAmbiguity& a) {
+  nlohmann::json j = {{"ambiguous", a.ambiguous}, {"second_solution_fitted", a.checked},
+                      {"threshold_delta_chi2", a.threshold}};
+  if (a.checked) {
+    j["delta_chi2"] = num_or_null(a.delta_chi2);
+    j["second_solution"] = geometry_json(a.second);
+    j["centre_separation_arcsec"] = a.centre_separation_arcsec;
+  }
+  if (a.ambiguous) j["note"] = a.note;
+  return j;
 }
 
 void refuse(KinematicFit& fit, const std::string& why) {
@@ -127,6 +173,88 @@ std::string method_name(Method m) {
   return "both";
 }
 
+namespace {
+
+// Samples of the velocity map about `reference`, cleaned (footprint.hpp) and,
+// with a centre guess and a maximum radius, cut to that radius on the sky
+// (the disc inside a deprojected radius lies inside the same sky radius).
+VelocitySamples prepared_samples(const Image& velocity, const Image* error, WorldCoord reference,
+                                 const KinematicOptions& opt, FootprintSummary* footprint) {
+  VelocitySamples s = samples_from_image(velocity, error, reference);
+  if (opt.centre_guess && opt.max_radius_arcsec) {
+    const SkyOffset c = OffsetFrame(reference).to_offset(*opt.centre_guess);
+    VelocitySamples inside = s;
+    inside.east.clear(); inside.north.clear(); inside.velocity.clear();
+    inside.sigma.clear(); inside.x.clear(); inside.y.clear();
+    for (std::size_t i = 0; i < s.size(); ++i) {
+      if (std::hypot(s.east[i] - c.east, s.north[i] - c.north) > *opt.max_radius_arcsec) continue;
+      inside.east.push_back(s.east[i]);
+      inside.north.push_back(s.north[i]);
+      inside.velocity.push_back(s.velocity[i]);
+      inside.sigma.push_back(s.sigma[i]);
+      inside.x.push_back(s.x[i]);
+      inside.y.push_back(s.y[i]);
+    }
+    s = std::move(inside);
+  }
+  FootprintSummary f = clean_footprint(s, opt.footprint);
+  if (footprint) *footprint = std::move(f);
+  return s;
+}
+
+std::optional<SmearingGrid> smearing_grid_for(const Image& velocity, const Image* intensity,
+                                              const VelocitySamples& s, WorldCoord reference,
+                                              const KinematicOptions& opt,
+                                              std::vector<std::string>& notes) {
+  std::optional<Beam> beam = velocity.beam;
+  if (!beam && intensity && intensity->beam) {
+    beam = intensity->beam;
+    notes.push_back("the velocity map has no beam: the intensity map's beam is used "
+                    "for the beam-smearing correction");
+  }
+  if (!opt.correct_beam_smearing || !beam || !(beam->bmaj_arcsec > 0) ||
+      !(beam->bmin_arcsec > 0) || s.size() == 0)
+    return std::nullopt;
+  SmearingGrid grid = make_smearing_grid(velocity, s, reference, *beam, intensity);
+  if (!grid.note.empty()) notes.push_back(grid.note);
+  return grid;
+}
+
+// The pixel counts of what reading and cleaning removed, as notes.
+void footprint_notes(KinematicFit& fit, int dropped_bad_error) {
+  const FootprintSummary& f = fit.footprint;
+  if (dropped_bad_error > 0)
+    fit.notes.push_back(std::to_string(dropped_bad_error) +
+                        " velocity pixels left out: their error is missing, infinite or not "
+                        "positive");
+  if (f.enabled && f.pixels_in > f.pixels_kept)
+    fit.notes.push_back("footprint cleaned: " + std::to_string(f.velocity_outliers) +
+                        " velocity outliers, " + std::to_string(f.isolated_pixels) +
+                        " isolated pixels and " + std::to_string(f.small_island_pixels) +
+                        " pixels in " + std::to_string(f.small_islands) +
+                        " islands smaller than " + std::to_string(f.min_island_pixels) +
+                        " pixels removed; " + std::to_string(f.pixels_kept) + " of " +
+                        std::to_string(f.pixels_in) + " kept");
+}
+
+// Whether two maps share one sky grid: same size, and the same sky position
+// (within 1e-3 pixel) at three corners.
+bool same_sky_grid(const Image& a, const Image& b) {
+  if (a.nx != b.nx || a.ny != b.ny) return false;
+  try {
+    const double scale =
+        separation_arcsec(a.wcs.pixel_to_world({0, 0}), a.wcs.pixel_to_world({1, 0}));
+    for (const PixelCoord p : {PixelCoord{0, 0}, PixelCoord{a.nx - 1.0, 0}, PixelCoord{0, a.ny - 1.0}})
+      if (separation_arcsec(a.wcs.pixel_to_world(p), b.wcs.pixel_to_world(p)) > 1e-3 * scale)
+        return false;
+  } catch (const InputError&) {
+    return false;
+  }
+  return true;
+}
+
+}  // namespace
+
 KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
                             const KinematicOptions& options, const Image* intensity) {
   if (!velocity.wcs.valid())
@@ -142,15 +270,15 @@ KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
     velocity_unit_factor(*velocity_error, &why_err);
     if (!why_err.empty()) notes.push_back(why_err);
   }
-  // Reference: the given centre guess, else the first-guess centre found
-  // about the grid centre.
+  // Reference: the given centre guess, else the first-guess centre of the
+  // cleaned footprint found about the grid centre.
   WorldCoord reference;
   if (options.centre_guess) {
     reference = *options.centre_guess;
   } else {
     const WorldCoord grid_centre =
         velocity.wcs.pixel_to_world({0.5 * (velocity.nx - 1), 0.5 * (velocity.ny - 1)});
-    VelocitySamples s0 = samples_from_image(velocity, velocity_error, grid_centre);
+    VelocitySamples s0 = prepared_samples(velocity, velocity_error, grid_centre, options, nullptr);
     if (s0.size() == 0) {
       KinematicFit fit;
       fit.method = options.method;
@@ -158,27 +286,27 @@ KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
       fit.reference = grid_centre;
       fit.frame = OffsetFrame(grid_centre);
       fit.notes = notes;
-      refuse(fit, "the velocity map has no finite pixels");
+      refuse(fit, "the velocity map has no usable pixels (none finite with a usable error, or "
+                  "none left after the footprint cleaning)");
       return fit;
     }
-    const FirstGuess g0 = first_guess(s0);
-    reference = OffsetFrame(grid_centre).to_world(g0.centre);
+    reference = OffsetFrame(grid_centre).to_world(first_guess(s0).centre);
   }
-  const VelocitySamples s = samples_from_image(velocity, velocity_error, reference);
-  // The beam-smearing grid: the velocity map's beam, else the intensity map's.
-  std::optional<SmearingGrid> grid;
+  FootprintSummary footprint;
+  const VelocitySamples s =
+      prepared_samples(velocity, velocity_error, reference, options, &footprint);
   std::vector<std::string> smearing_notes;  // notes, not warnings
-  std::optional<Beam> beam = velocity.beam;
-  if (!beam && intensity && intensity->beam) {
-    beam = intensity->beam;
-    smearing_notes.push_back("the velocity map has no beam: the intensity map's beam is used "
-                             "for the beam-smearing correction");
+  if (intensity && !same_sky_grid(velocity, *intensity)) {
+    // No resampling is needed: every step works on sky positions, and the
+    // intensity is read at the velocity pixels' positions through its WCS.
+    const std::string w = "the velocity map " + velocity.path + " and the intensity map " +
+                          intensity->path + " do not share a sky grid: the intensity (nearest pixel) is read at "
+                          "the velocity pixels' sky positions (no resampling)";
+    warn(w);
+    notes.push_back(w);
   }
-  if (options.correct_beam_smearing && beam && beam->bmaj_arcsec > 0 && beam->bmin_arcsec > 0 &&
-      s.size() > 0) {
-    grid = make_smearing_grid(velocity, s, reference, *beam, intensity);
-    if (!grid->note.empty()) smearing_notes.push_back(grid->note);
-  }
+  const std::optional<SmearingGrid> grid =
+      smearing_grid_for(velocity, intensity, s, reference, options, smearing_notes);
   KinematicFit fit =
       fit_kinematics_samples(s, OffsetFrame(reference), velocity.wcs, options, grid ? &*grid : nullptr);
   if (options.correct_beam_smearing && !grid) {
@@ -186,6 +314,9 @@ KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
                                              : "no beam known (neither map has BMAJ/BMIN)";
   }
   fit.source = velocity.path;
+  fit.footprint = std::move(footprint);
+  fit.diagnostics.pixels_input = fit.footprint.pixels_in;
+  footprint_notes(fit, s.dropped_bad_error);
   fit.notes.insert(fit.notes.begin(), smearing_notes.begin(), smearing_notes.end());
   fit.notes.insert(fit.notes.begin(), notes.begin(), notes.end());
   // Unit conversions change every number: a warning, not a note.
@@ -193,10 +324,10 @@ KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
   return fit;
 }
 
-KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame& frame,
-                                    const CelestialWcs& wcs, const KinematicOptions& opt,
-                                    const SmearingGrid* smearing) {
-  KinematicFit fit;
+namespace {
+
+void start_fit(KinematicFit& fit, const VelocitySamples& s, const OffsetFrame& frame,
+               const KinematicOptions& opt, const SmearingGrid* smearing) {
   fit.method = opt.method;
   BeamSmearingSummary& bs = fit.beam_smearing;
   bs.requested = opt.correct_beam_smearing;
@@ -215,14 +346,10 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   d.pixels_per_beam = pixels_per_beam(s.beam, s.pixel_area_arcsec2);
   d.correlation_factor = correlation_factor(s.beam, s.pixel_area_arcsec2, opt.noise_correlation);
   if (!s.beam) fit.notes.push_back("no beam in the header: pixels treated as independent");
-  if (d.pixels_input < opt.min_pixels) {
-    refuse(fit, "too few pixels (" + std::to_string(d.pixels_input) +
-                    " finite velocity pixels, at least " + std::to_string(opt.min_pixels) +
-                    " needed)");
-    return fit;
-  }
+}
 
-  // First guesses, with overrides.
+FirstGuess guess_with_overrides(const VelocitySamples& s, const OffsetFrame& frame,
+                                const KinematicOptions& opt) {
   FirstGuess g = first_guess(s);
   if (opt.centre_guess) g.centre = frame.to_offset(*opt.centre_guess);
   if (opt.pa_guess_deg) g.pa_deg = wrap_pa_deg(*opt.pa_guess_deg);
@@ -231,48 +358,53 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   if (opt.centre_guess || opt.pa_guess_deg || opt.inc_guess_deg)
     g.max_radius_arcsec = radius_quantile(s, g.centre, g.pa_deg, g.inc_deg, 0.98);
   if (opt.max_radius_arcsec) g.max_radius_arcsec = *opt.max_radius_arcsec;
-  fit.guess = g;
-  if (g.gradient_snr / std::sqrt(d.correlation_factor) < opt.min_rotation_snr) {
-    refuse(fit, "no measurable rotation (the velocity gradient across the map is " +
-                    fmt(g.gradient_snr / std::sqrt(d.correlation_factor), 1) + " sigma, at least " +
-                    fmt(opt.min_rotation_snr, 1) + " needed)");
-    return fit;
-  }
-  if (!opt.inc_guess_deg && g.axis_ratio > std::cos(opt.min_inc_deg * std::numbers::pi / 180.0)) {
-    refuse(fit, "the disc is nearly face-on (footprint axis ratio " + fmt(g.axis_ratio, 3) +
-                    ", rounder than a disc inclined by " + fmt(opt.min_inc_deg, 1) +
-                    " deg; give --inc to override)");
-    return fit;
-  }
-  if (opt.inc_guess_deg && *opt.inc_guess_deg < opt.min_inc_deg) {
-    refuse(fit, "the disc is nearly face-on (inclination guess " + fmt(*opt.inc_guess_deg, 1) +
-                    " deg, below " + fmt(opt.min_inc_deg, 1) + " deg)");
-    return fit;
-  }
+  return g;
+}
 
+// Refusals before any fit, on the cleaned footprint. The velocity-gradient
+// test stands in for the rotation test only when the user gave no geometry:
+// with a PA, inclination or centre given, the fit runs and the rotation is
+// tested on its rings (post_fit_problem).
+std::string pre_fit_refusal(const FirstGuess& g, const KinematicOptions& opt, double eta) {
+  const bool user_geometry = opt.pa_guess_deg || opt.inc_guess_deg || opt.centre_guess;
+  const double snr = g.gradient_snr / std::sqrt(eta);
+  if (!user_geometry && snr < opt.min_rotation_snr)
+    return "no measurable rotation (the velocity gradient across the footprint is " +
+           fmt(snr, 1) + " sigma, at least " + fmt(opt.min_rotation_snr, 1) + " needed)";
+  if (!opt.inc_guess_deg && g.axis_ratio > std::cos(opt.min_inc_deg * std::numbers::pi / 180.0))
+    return "the disc is nearly face-on (footprint axis ratio " + fmt(g.axis_ratio, 3) +
+           ", rounder than a disc inclined by " + fmt(opt.min_inc_deg, 1) +
+           " deg; give --inc to override)";
+  if (opt.inc_guess_deg && *opt.inc_guess_deg < opt.min_inc_deg)
+    return "the disc is nearly face-on (inclination guess " + fmt(*opt.inc_guess_deg, 1) +
+           " deg, below " + fmt(opt.min_inc_deg, 1) + " deg)";
+  return "";
+}
+
+double ring_width_for(const VelocitySamples& s, const KinematicOptions& opt, KinematicFit& fit) {
   double width = 0;
   if (opt.ring_width_arcsec) {
     width = *opt.ring_width_arcsec;
   } else if (s.beam && s.beam->fwhm_arcsec() > 0) {
     width = opt.ring_width_beams * s.beam->fwhm_arcsec();
   } else {
-    width = 2.0 * d.pixel_scale_arcsec;
+    width = 2.0 * fit.diagnostics.pixel_scale_arcsec;
     fit.notes.push_back("no beam in the header: rings are 2 pixels wide");
   }
-  width = std::max(width, d.pixel_scale_arcsec);
-  if (!(g.max_radius_arcsec >= 2 * width)) {
-    refuse(fit, "the footprint is too small for two rings (outer radius " +
-                    fmt(g.max_radius_arcsec, 2) + " arcsec, ring width " + fmt(width, 2) +
-                    " arcsec)");
-    return fit;
-  }
-  d.ring_width_arcsec = width;
-  d.max_radius_arcsec = g.max_radius_arcsec;
+  return std::max(width, fit.diagnostics.pixel_scale_arcsec);
+}
 
-  // Global tilted-ring fit.
+GlobalFitOptions global_options(const KinematicOptions& opt, const VelocitySamples& s,
+                                const FirstGuess& g, double width, double eta) {
+  const double max_radius = g.max_radius_arcsec;
   GlobalFitOptions go;
+  go.prior.mean = DiscGeometry{g.centre, g.pa_deg, g.inc_deg, g.vsys_kms};
+  go.prior.centre_err_arcsec = opt.centre_guess ? opt.prior.centre_err_arcsec : std::nullopt;
+  go.prior.pa_err_deg = opt.pa_guess_deg ? opt.prior.pa_err_deg : std::nullopt;
+  go.prior.inc_err_deg = opt.inc_guess_deg ? opt.prior.inc_err_deg : std::nullopt;
+  go.prior.vsys_err_kms = opt.vsys_guess_kms ? opt.prior.vsys_err_kms : std::nullopt;
   go.ring_width_arcsec = width;
-  go.max_radius_arcsec = g.max_radius_arcsec;
+  go.max_radius_arcsec = max_radius;
   go.min_radius_arcsec = s.beam ? opt.inner_exclusion_beams * s.beam->fwhm_arcsec() : 0.0;
   go.weight_power = opt.weight_power;
   go.wedge_deg = opt.wedge_deg;
@@ -283,179 +415,220 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   go.fix_vsys = opt.fix_vsys;
   go.loss = opt.loss;
   go.loss_scale = opt.loss_scale;
-  go.correlation_factor = d.correlation_factor;
+  go.correlation_factor = eta;
   go.record_problem = opt.record_problem;
-  // Adopt a global fit: diagnostics, geometry and the node table.
-  auto adopt = [&](GlobalFitSummary gl_in) {
-    fit.global = std::move(gl_in);
-    const GlobalFitSummary& gl = fit.global;
-    d.pixels_used = gl.n_used;
-    d.parameters = gl.n_parameters;
-    d.chi2 = gl.chi2;
-    d.reduced_chi2 = gl.scaling.reduced_chi2;
-    d.residual_rms_kms = gl.residual_rms_kms;
-    d.converged = gl.converged;
-    d.termination = gl.message;
-    d.passes = gl.passes;
-    d.iterations = gl.iterations;
-    d.rings_used = 0;
-    for (const auto& n : gl.nodes) d.rings_used += n.n_pixels > 0 ? 1 : 0;
-    fit.pa_deg = gl.geometry.pa_deg;
-    fit.inc_deg = gl.geometry.inc_deg;
-    fit.vsys_kms = gl.geometry.vsys_kms;
-    fit.pa_err_deg = std::sqrt(gl.covariance(2, 2));
-    fit.inc_err_deg = std::sqrt(gl.covariance(3, 3));
-    fit.vsys_err_kms = std::sqrt(gl.covariance(4, 4));
-    fit.rings.clear();
-    for (const auto& n : gl.nodes) fit.rings.push_back(RingRow{n, std::nullopt, std::nullopt});
-  };
-  DiscGeometry start{g.centre, g.pa_deg, g.inc_deg, g.vsys_kms};
-  adopt(fit_global_rings(s, start, go));
-  const GlobalFitSummary& gl = fit.global;
-  // A negative rotation means the receding side is the other one.
-  double mean_v = 0;
-  for (const auto& n : gl.nodes) mean_v += n.vrot_kms * n.n_pixels;
+  return go;
+}
 
+// Adopt a global fit: diagnostics, geometry and the node table.
+void adopt_global(KinematicFit& fit, GlobalFitSummary gl_in) {
+  fit.global = std::move(gl_in);
+  const GlobalFitSummary& gl = fit.global;
+  auto& d = fit.diagnostics;
+  d.pixels_used = gl.n_used;
+  d.parameters = gl.n_parameters;
+  d.chi2 = gl.chi2;
+  d.reduced_chi2 = gl.scaling.reduced_chi2;
+  d.residual_rms_kms = gl.residual_rms_kms;
+  d.converged = gl.converged;
+  d.termination = gl.message;
+  d.passes = gl.passes;
+  d.iterations = gl.iterations;
+  d.rings_used = 0;
+  for (const auto& n : gl.nodes) d.rings_used += n.n_pixels > 0 ? 1 : 0;
+  fit.pa_deg = gl.geometry.pa_deg;
+  fit.inc_deg = gl.geometry.inc_deg;
+  fit.vsys_kms = gl.geometry.vsys_kms;
+  fit.pa_err_deg = std::sqrt(gl.covariance(2, 2));
+  fit.inc_err_deg = std::sqrt(gl.covariance(3, 3));
+  fit.vsys_err_kms = std::sqrt(gl.covariance(4, 4));
+  fit.rings.clear();
+  for (const auto& n : gl.nodes) fit.rings.push_back(RingRow{n, std::nullopt, std::nullopt});
+}
+
+// Scouts from several starts, then full fits of the best start and of the
+// best distinct one; the better full fit is adopted and the other judged by
+// solution_ambiguity.hpp.
+void fit_best_solution(KinematicFit& fit, const VelocitySamples& s, const FirstGuess& g,
+                       const GlobalFitOptions& go, const KinematicOptions& opt) {
+  MultiStartOptions mo = opt.starts;
+  mo.pa_given = mo.pa_given || opt.pa_guess_deg.has_value();
+  mo.centre_given = mo.centre_given || opt.centre_guess.has_value();
+  const double beam = s.beam ? s.beam->fwhm_arcsec() : 0.0;
+  fit.starts = scout_starts(s, g, go, mo, beam);
+  GlobalFitSummary best = fit_global_rings(s, fit.starts.best_start, go);
+  SolutionAmbiguity& amb = fit.ambiguity;
+  amb.threshold = opt.ambiguity_delta_chi2;
+  if (fit.starts.second_start && best.converged) {
+    GlobalFitSummary other = fit_global_rings(s, *fit.starts.second_start, go);
+    const double eta = fit.diagnostics.correlation_factor;
+    if (other.converged &&
+        distinct_solutions(best.geometry, other.geometry, mo, beam > 0 ? beam : go.ring_width_arcsec)) {
+      double c1 = common_chi2(best, s), c2 = common_chi2(other, s);
+      if (c2 < c1) {  // the second start fits the full map better
+        std::swap(best, other);
+        std::swap(c1, c2);
+      }
+      const double delta =
+          scaled_delta_chi2(c1, c2, static_cast<int>(s.size()), best.n_parameters, eta);
+      amb.checked = true;
+      amb.delta_chi2 = delta;
+      amb.second = other.geometry;
+      amb.centre_separation_arcsec = std::hypot(other.geometry.centre.east - best.geometry.centre.east,
+                                                other.geometry.centre.north - best.geometry.centre.north);
+      amb.ambiguous = delta < amb.threshold;
+      if (amb.ambiguous)
+        amb.note = "kinematic solution ambiguous: a second solution (PA " + fmt(other.geometry.pa_deg, 1) +
+                   " deg, inclination " + fmt(other.geometry.inc_deg, 1) + " deg, centre " +
+                   fmt(amb.centre_separation_arcsec, 2) + " arcsec away) fits almost as well "
+                   "(scaled chi2 difference " + fmt(delta, 2) + " < " + fmt(amb.threshold, 1) +
+                   "); the centre covariance includes the separation";
+    }
+  }
+  adopt_global(fit, std::move(best));
+}
+
+// Why a converged fit cannot be used, with the status it gets; empty when
+// it can.
+std::pair<std::string, std::string> post_fit_problem(const KinematicFit& fit,
+                                                     const GlobalFitOptions& go,
+                                                     const KinematicOptions& opt) {
+  const GlobalFitSummary& gl = fit.global;
+  const auto& d = fit.diagnostics;
   if (d.pixels_used < opt.min_pixels ||
-      d.pixels_used < opt.min_pixels_per_parameter * std::max(1, d.parameters)) {
-    refuse(fit, "too few pixels in the rings (" + std::to_string(d.pixels_used) + " for " +
-                    std::to_string(d.parameters) + " parameters)");
-    return fit;
-  }
-  if (!gl.converged) {
-    fit.status = "failed";
-    fit.reason = "the tilted-ring fit did not converge: " + gl.message;
-    return fit;
-  }
-  if (mean_v < 0) {
-    // Cannot happen from the gradient first guess unless the data are odd;
-    // report it plainly rather than flip silently.
-    fit.notes.push_back("the fitted rotation is negative: the receding side is at PA + 180 deg");
-  }
-  if (gl.geometry.inc_deg < opt.min_inc_deg) {
-    refuse(fit, "the disc is nearly face-on (fitted inclination " + fmt(gl.geometry.inc_deg, 1) +
-                    " deg, below " + fmt(opt.min_inc_deg, 1) + " deg)");
-    return fit;
-  }
+      d.pixels_used < opt.min_pixels_per_parameter * std::max(1, d.parameters))
+    return {"refused", "too few pixels in the rings (" + std::to_string(d.pixels_used) + " for " +
+                           std::to_string(d.parameters) + " parameters)"};
+  if (!gl.converged) return {"failed", "the tilted-ring fit did not converge: " + gl.message};
+  if (gl.geometry.inc_deg < opt.min_inc_deg)
+    return {"refused", "the disc is nearly face-on (fitted inclination " +
+                           fmt(gl.geometry.inc_deg, 1) + " deg, below " + fmt(opt.min_inc_deg, 1) +
+                           " deg)"};
+  if (auto p = covariance_problem(gl, go); !p.empty())
+    return {"failed", "the tilted-ring fit is degenerate: " + p};
+  if (auto p = limit_problem(gl, go, fit.guess.centre); !p.empty())
+    return {"failed", "the tilted-ring fit is degenerate: " + p};
   double best_snr = 0;
   for (const auto& n : gl.nodes)
     if (n.n_pixels > 0 && n.vrot_err_kms > 0 && std::isfinite(n.vrot_err_kms))
       best_snr = std::max(best_snr, std::abs(n.vrot_kms) / n.vrot_err_kms);
-  if (!gl.covariance_ok) {
-    refuse(fit, "no measurable rotation: the centre is unconstrained (singular covariance)");
-    return fit;
-  }
-  if (best_snr < opt.min_rotation_snr) {
-    refuse(fit, "no measurable rotation (largest ring rotation is " + fmt(best_snr, 1) +
-                    " sigma, at least " + fmt(opt.min_rotation_snr, 1) + " needed)");
-    return fit;
-  }
+  if (best_snr < opt.min_rotation_snr)
+    return {"refused", "no measurable rotation (largest ring rotation is " + fmt(best_snr, 1) +
+                           " sigma, at least " + fmt(opt.min_rotation_snr, 1) + " needed)"};
+  return {"", ""};
+}
 
-  // Beam-smearing correction (beam_smearing.hpp): refit to v_obs - Delta,
-  // Delta = what the beam does to the current model, until the geometry
-  // settles. The adopted covariance is Ceres' one of the last refit, scaled
-  // as every global fit is (covariance_scaling.hpp).
-  VelocitySamples corrected;
-  const VelocitySamples* fitted = &s;
-  bs.uncorrected = gl.geometry;
-  if (smearing && smearing->usable() && opt.correct_beam_smearing) {
-    // Each refit starts from the current geometry and node speeds. Without a
-    // robust loss it is a single pass: the pixel brackets come from the
-    // current geometry, and the refits themselves repeat until the geometry
-    // settles, as the passes of one fit would. A robust loss keeps its
-    // reweighting passes.
-    GlobalFitOptions ro = go;
-    ro.hold_inc_first_pass = false;
-    if (opt.loss == RobustLoss::none) ro.max_passes = 1;
-    corrected = s;
-    GlobalFitSummary current = gl;
-    std::vector<double> delta;
-    bool failed = false;
-    const int max_refits = std::max(1, opt.smearing_max_refits);
-    for (int it = 0; it < max_refits; ++it) {
-      delta = smearing_correction(*smearing, current);
-      for (std::size_t i = 0; i < s.size(); ++i) corrected.velocity[i] = s.velocity[i] - delta[i];
-      ro.start_vrot.clear();
-      ro.start_vrad.clear();
-      for (const auto& node : current.nodes) {
-        ro.start_vrot.push_back(node.vrot_kms);
-        ro.start_vrad.push_back(node.vrad_kms);
-      }
-      GlobalFitSummary next = fit_global_rings(corrected, current.geometry, ro);
-      ++bs.refits;
-      if (!next.converged || !next.covariance_ok) {
-        failed = true;
-        bs.reason = "the refit with the correction " +
-                    std::string(next.converged ? "has a singular covariance" : "did not converge") +
-                    " (" + next.message + "): the uncorrected fit is kept";
-        break;
-      }
-      // Largest move of a geometry parameter, in units of its 1-sigma error.
-      const double moved[5] = {next.geometry.centre.east - current.geometry.centre.east,
-                               next.geometry.centre.north - current.geometry.centre.north,
-                               angle_diff_deg(next.geometry.pa_deg, current.geometry.pa_deg),
-                               next.geometry.inc_deg - current.geometry.inc_deg,
-                               next.geometry.vsys_kms - current.geometry.vsys_kms};
-      double change = 0.0;
-      for (int q = 0; q < 5; ++q) {
-        const double sd = std::sqrt(next.covariance(q, q));
-        if (sd > 0 && std::isfinite(sd)) change = std::max(change, std::abs(moved[q]) / sd);
-      }
-      bs.last_change_sigma = change;
-      current = std::move(next);
-      if (change < opt.smearing_tolerance_sigma) {
-        bs.converged = true;
-        break;
-      }
+// Largest move of a geometry parameter between two fits, in units of the
+// newer fit's 1-sigma errors.
+double geometry_change_sigma(const GlobalFitSummary& next, const GlobalFitSummary& current) {
+  const double moved[5] = {next.geometry.centre.east - current.geometry.centre.east,
+                           next.geometry.centre.north - current.geometry.centre.north,
+                           angle_diff_deg(next.geometry.pa_deg, current.geometry.pa_deg),
+                           next.geometry.inc_deg - current.geometry.inc_deg,
+                           next.geometry.vsys_kms - current.geometry.vsys_kms};
+  double change = 0.0;
+  for (int q = 0; q < 5; ++q) {
+    const double sd = std::sqrt(next.covariance(q, q));
+    if (sd > 0 && std::isfinite(sd)) change = std::max(change, std::abs(moved[q]) / sd);
+  }
+  return change;
+}
+
+// Beam-smearing correction (beam_smearing.hpp): refit to v_obs - Delta,
+// Delta = what the beam does to the current model, until the geometry
+// settles. The adopted covariance is Ceres' one of the last refit, scaled as
+// every global fit is (covariance_scaling.hpp). Returns the corrected
+// samples when the correction was applied.
+std::optional<VelocitySamples> correct_smearing(KinematicFit& fit, const VelocitySamples& s,
+                                                const GlobalFitOptions& go,
+                                                const KinematicOptions& opt,
+                                                const SmearingGrid& smearing) {
+  BeamSmearingSummary& bs = fit.beam_smearing;
+  // Each refit starts from the current geometry and node speeds. Without a
+  // robust loss it is a single pass; a robust loss keeps its passes.
+  GlobalFitOptions ro = go;
+  ro.hold_inc_first_pass = false;
+  if (opt.loss == RobustLoss::none) ro.max_passes = 1;
+  VelocitySamples corrected = s;
+  GlobalFitSummary current = fit.global;
+  std::vector<double> delta;
+  for (int it = 0; it < std::max(1, opt.smearing_max_refits); ++it) {
+    delta = smearing_correction(smearing, current);
+    for (std::size_t i = 0; i < s.size(); ++i) corrected.velocity[i] = s.velocity[i] - delta[i];
+    ro.start_vrot.clear();
+    ro.start_vrad.clear();
+    for (const auto& node : current.nodes) {
+      ro.start_vrot.push_back(node.vrot_kms);
+      ro.start_vrad.push_back(node.vrad_kms);
     }
-    if (!failed) {
-      adopt(std::move(current));
-      fitted = &corrected;
-      bs.applied = true;
-      double ss = 0.0;
-      for (double x : delta) {
-        bs.max_abs_correction_kms = std::max(bs.max_abs_correction_kms, std::abs(x));
-        ss += x * x;
-      }
-      bs.rms_correction_kms = delta.empty() ? 0.0 : std::sqrt(ss / static_cast<double>(delta.size()));
-      bs.x = s.x;
-      bs.y = s.y;
-      bs.correction = std::move(delta);
-      if (!bs.converged)
-        fit.notes.push_back("beam-smearing correction: the geometry still moved by " +
-                            fmt(bs.last_change_sigma, 2) + " sigma in the last of " +
-                            std::to_string(bs.refits) + " refits");
-    } else {
+    GlobalFitSummary next = fit_global_rings(corrected, current.geometry, ro);
+    ++bs.refits;
+    if (!next.converged || !next.covariance_ok) {
+      bs.reason = "the refit with the correction " +
+                  std::string(next.converged ? "has a singular covariance" : "did not converge") +
+                  " (" + next.message + "): the uncorrected fit is kept";
       fit.notes.push_back("beam-smearing correction not applied: " + bs.reason);
+      return std::nullopt;
+    }
+    bs.last_change_sigma = geometry_change_sigma(next, current);
+    current = std::move(next);
+    if (bs.last_change_sigma < opt.smearing_tolerance_sigma) {
+      bs.converged = true;
+      break;
     }
   }
+  adopt_global(fit, std::move(current));
+  bs.applied = true;
+  double ss = 0.0;
+  for (double x : delta) {
+    bs.max_abs_correction_kms = std::max(bs.max_abs_correction_kms, std::abs(x));
+    ss += x * x;
+  }
+  bs.rms_correction_kms = delta.empty() ? 0.0 : std::sqrt(ss / static_cast<double>(delta.size()));
+  bs.x = s.x;
+  bs.y = s.y;
+  bs.correction = std::move(delta);
+  if (!bs.converged)
+    fit.notes.push_back("beam-smearing correction: the geometry still moved by " +
+                        fmt(bs.last_change_sigma, 2) + " sigma in the last of " +
+                        std::to_string(bs.refits) + " refits");
+  return corrected;
+}
 
-  fit.ring_centre = make_centre(gl.geometry.centre, gl.centre_covariance(), frame, wcs);
-
-  // Ring-by-ring.
+// Ring-by-ring fits and the harmonic centre, then the adopted centre (with
+// the ambiguity spread when the solution is ambiguous).
+void finish_centres(KinematicFit& fit, const VelocitySamples& s, const VelocitySamples& fitted,
+                    const CelestialWcs& wcs, const KinematicOptions& opt, double width,
+                    double max_radius) {
+  const GlobalFitSummary& gl = fit.global;
+  Eigen::Matrix2d ring_cov = gl.centre_covariance();
+  if (fit.ambiguity.ambiguous)
+    ring_cov = add_ambiguity_spread(ring_cov, gl.geometry.centre, fit.ambiguity.second.centre);
+  fit.ring_centre = make_centre(gl.geometry.centre, ring_cov, fit.frame, wcs);
   if (opt.ring_by_ring) {
     RingFitOptions ro;
     ro.free_vsys = opt.ring_free_vsys;
     ro.fit_radial = opt.fit_radial;
     ro.weight_power = opt.weight_power;
     ro.wedge_deg = opt.wedge_deg;
-    ro.correlation_factor = d.correlation_factor;
-    auto rf = fit_rings_individually(*fitted, gl, width, ro);
+    ro.correlation_factor = fit.diagnostics.correlation_factor;
+    auto rf = fit_rings_individually(fitted, gl, width, ro);
     for (std::size_t k = 0; k < rf.size() && k < fit.rings.size(); ++k) fit.rings[k].free = rf[k];
   }
-
-  // Harmonic centre.
   if (opt.method != Method::rings) {
     HarmonicCentreOptions ho;
     ho.ring_width_arcsec = width;
-    ho.max_radius_arcsec = g.max_radius_arcsec;
+    ho.max_radius_arcsec = max_radius;
     ho.min_radius_arcsec =
         s.beam ? opt.harmonic_min_radius_beams * s.beam->fwhm_arcsec() : 2.0 * width;
-    ho.expansion.correlation_factor = d.correlation_factor;
+    ho.expansion.correlation_factor = fit.diagnostics.correlation_factor;
     HarmonicCentreSummary hc = fit_harmonic_centre(s, gl.geometry, ho);
     if (hc.ok) {
       fit.harmonic_status = "ok";
-      fit.harmonic_centre = make_centre(hc.centre, hc.covariance, frame, wcs);
+      Eigen::Matrix2d hcov = hc.covariance;
+      if (fit.ambiguity.ambiguous)
+        hcov = add_ambiguity_spread(hcov, gl.geometry.centre, fit.ambiguity.second.centre);
+      fit.harmonic_centre = make_centre(hc.centre, hcov, fit.frame, wcs);
     } else {
       fit.harmonic_status = hc.reason;
     }
@@ -464,9 +637,69 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   } else {
     fit.harmonic_status = "not run";
   }
+}
 
-  if (opt.residual_covariance) apply_centre_error_terms(fit, *fitted, go);
+}  // namespace
 
+KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame& frame,
+                                    const CelestialWcs& wcs, const KinematicOptions& opt,
+                                    const SmearingGrid* smearing) {
+  KinematicFit fit;
+  start_fit(fit, s, frame, opt, smearing);
+  auto& d = fit.diagnostics;
+  if (d.pixels_input < opt.min_pixels) {
+    refuse(fit, "too few pixels (" + std::to_string(d.pixels_input) +
+                    " usable velocity pixels, at least " + std::to_string(opt.min_pixels) +
+                    " needed)");
+    return fit;
+  }
+  const FirstGuess g = guess_with_overrides(s, frame, opt);
+  fit.guess = g;
+  if (auto why = pre_fit_refusal(g, opt, d.correlation_factor); !why.empty()) {
+    refuse(fit, why);
+    return fit;
+  }
+  const double width = ring_width_for(s, opt, fit);
+  if (!(g.max_radius_arcsec >= 2 * width)) {
+    refuse(fit, "the footprint is too small for two rings (outer radius " +
+                    fmt(g.max_radius_arcsec, 2) + " arcsec, ring width " + fmt(width, 2) +
+                    " arcsec)");
+    return fit;
+  }
+  d.ring_width_arcsec = width;
+  d.max_radius_arcsec = g.max_radius_arcsec;
+  const GlobalFitOptions go = global_options(opt, s, g, width, d.correlation_factor);
+  fit_best_solution(fit, s, g, go, opt);
+  double mean_v = 0;
+  for (const auto& n : fit.global.nodes) mean_v += n.vrot_kms * n.n_pixels;
+  if (auto [status, why] = post_fit_problem(fit, go, opt); !status.empty()) {
+    if (status == "refused") refuse(fit, why);
+    else { fit.status = status; fit.reason = why; }
+    return fit;
+  }
+  if (mean_v < 0)
+    fit.notes.push_back("the fitted rotation is negative: the receding side is at PA + 180 deg");
+  if (fit.ambiguity.ambiguous) fit.notes.push_back(fit.ambiguity.note);
+
+  fit.beam_smearing.uncorrected = fit.global.geometry;
+  std::optional<VelocitySamples> corrected;
+  if (smearing && smearing->usable() && opt.correct_beam_smearing)
+    corrected = correct_smearing(fit, s, go, opt, *smearing);
+  if (fit.beam_smearing.applied) {
+    if (auto p = smearing_problem(fit.global, fit.beam_smearing.max_abs_correction_kms,
+                                  opt.max_smearing_fraction); !p.empty()) {
+      fit.status = "failed";
+      fit.reason = "the tilted-ring fit is degenerate: " + p;
+      return fit;
+    }
+    if (auto p = covariance_problem(fit.global, go); !p.empty()) {
+      fit.status = "failed";
+      fit.reason = "the tilted-ring fit with the beam-smearing correction is degenerate: " + p;
+      return fit;
+    }
+  }
+  finish_centres(fit, s, corrected ? *corrected : s, wcs, opt, width, g.max_radius_arcsec);
+  if (opt.residual_covariance) apply_centre_error_terms(fit, corrected ? *corrected : s, go);
   if (opt.method == Method::harmonic) {
     if (!fit.harmonic_centre) {
       refuse(fit, "the harmonic centre failed: " + fit.harmonic_status);
@@ -597,6 +830,9 @@ nlohmann::json to_json(const KinematicFit& fit) {
     }
     j["beam_smearing"] = jb;
   }
+  j["footprint"] = footprint_json(fit.footprint);
+  j["starts"] = starts_json(fit.starts);
+  j["ambiguity"] = ambiguity_json(fit.ambiguity);
   const WorldCoord gw = fit.frame.to_world(fit.guess.centre);
   j["first_guess"] = {{"ra_deg", gw.ra_deg},
                       {"dec_deg", gw.dec_deg},

@@ -2,6 +2,7 @@
 // per ring, started from the global solution.
 // Units: arcsec, degrees (radians inside Ceres), km/s.
 #include "fulcrum/kinematics/ring_fit.hpp"
+#include "fulcrum/kinematics/quiet_solver_log.hpp"
 
 #include <ceres/ceres.h>
 
@@ -98,7 +99,12 @@ std::vector<RingFit> fit_rings_individually(const VelocitySamples& s,
     std::vector<const double*> blocks = {centre, &pa, &inc, &vrot};
     if (opt.free_vsys) blocks.push_back(&vsys);
     if (opt.fit_radial) blocks.push_back(&vrad);
-    if (!cov.Compute(blocks, &problem)) {
+    bool cov_ok = false;
+    {
+      const QuietSolverLog quiet;  // the failure is reported below, not by the solver
+      cov_ok = cov.Compute(blocks, &problem);
+    }
+    if (!cov_ok) {
       rf.reason = "covariance could not be computed (ring geometry unconstrained)";
       out.push_back(rf);
       continue;

@@ -70,7 +70,10 @@ VelocitySamples samples_from_image(const Image& velocity, const Image* error,
       double sig = 1.0;
       if (error) {
         sig = error->at(x, y) * ef;
-        if (!std::isfinite(sig) || sig <= 0) continue;
+        if (!std::isfinite(sig) || sig <= 0) {
+          ++s.dropped_bad_error;
+          continue;
+        }
       }
       const SkyOffset o = offsets.at(x, y);
       s.east.push_back(o.east);

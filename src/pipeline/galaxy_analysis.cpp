@@ -32,6 +32,7 @@
 #if __has_include("fulcrum/kinematics/kinematic_fit.hpp")
 #define FULCRUM_HAVE_KINEMATICS 1
 #include "fulcrum/kinematics/kinematic_fit.hpp"
+#include "fulcrum/kinematics/kinematic_settings.hpp"
 #else
 #define FULCRUM_HAVE_KINEMATICS 0
 #endif
@@ -213,7 +214,8 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
   if (undetermined_reason.empty()) {
 #if FULCRUM_HAVE_KINEMATICS
     try {
-      kinematics::KinematicOptions ko;
+      kinematics::KinematicOptions ko;  // the galaxy's kinematic settings (checked on input)
+      kinematics::apply_kinematic_settings(in.kinematic, ko, [](const std::string& k) { return "'" + k + "'"; });
       ko.method = kinematics::Method::both;
       // The intensity map weights the beam-smearing correction; when it cannot
       // (nothing positive under the velocity footprint), the fit falls back to

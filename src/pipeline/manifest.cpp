@@ -118,12 +118,41 @@ void read_moment_settings(const Ctx& c, const toml::node& n, MomentSettings& s) 
   if (!problem.empty()) fail(c, line_of(n), "moments: " + problem);
 }
 
+// A galaxy's `kinematics` table: the settings of
+// kinematics/kinematic_settings.hpp by name.
+void read_kinematic_settings(const Ctx& c, const toml::node& n, kinematics::KinematicSettings& s) {
+  const auto* t = n.as_table();
+  if (!t) fail(c, line_of(n), "'kinematics' must be a table, e.g. kinematics = { pa = 36.0, pa_err = 5.0 }");
+  auto settings = kinematics::kinematic_settings(s);
+  std::set<std::string> names;
+  for (const auto& m : settings) names.insert(m.name);
+  for (const auto& [k, node] : *t) {
+    const std::string key(k.str());
+    const kinematics::KinematicSetting* m = nullptr;
+    for (const auto& x : settings)
+      if (x.name == key) m = &x;
+    if (!m) fail(c, line_of(node), "unknown key '" + key + "' in 'kinematics' (known keys: " + known_list(names) + ")");
+    if (auto* str = std::get_if<std::string*>(&m->target)) {
+      **str = get_string(c, node, key);
+    } else if (auto* d = std::get_if<std::optional<double>*>(&m->target)) {
+      **d = get_number(c, node, key);
+    } else if (auto* b = std::get_if<bool*>(&m->target)) {
+      if (!node.is_boolean()) fail(c, line_of(node), "'" + key + "' must be true or false");
+      **b = *node.value<bool>();
+    }
+  }
+  const std::string problem =
+      kinematics::kinematic_settings_problem(s, [](const std::string& k) { return "'" + k + "'"; });
+  if (!problem.empty()) fail(c, line_of(n), "kinematics: " + problem);
+}
+
 GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasInput& defaults,
                         int table_line) {
   static const std::set<std::string> keys = [] {
     std::set<std::string> k = {"name", "velocity", "velocity_error", "intensity", "intensity_error", "rms",
                                "optical", "optical_mask", "psf_fwhm_arcsec", "tail_pa_deg",
-                               "tail_pa_err_deg", "tail_image", "distance_mpc", "seed", "cube", "moments"};
+                               "tail_pa_err_deg", "tail_image", "distance_mpc", "seed", "cube", "moments",
+                               "kinematics"};
     k.insert(kMolecularKeys.begin(), kMolecularKeys.end());
     return k;
   }();
@@ -140,6 +169,7 @@ GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasIn
     if (key == "name") g.name = get_string(c, node, key);
     else if (key == "cube") g.cube = resolve(c, get_string(c, node, key));
     else if (key == "moments") read_moment_settings(c, node, g.moments);
+    else if (key == "kinematics") read_kinematic_settings(c, node, g.kinematic);
     else if (key == "velocity") g.velocity = resolve(c, get_string(c, node, key));
     else if (key == "velocity_error") g.velocity_error = resolve(c, get_string(c, node, key));
     else if (key == "intensity") g.intensity = resolve(c, get_string(c, node, key));

@@ -169,3 +169,29 @@ TEST_CASE("cube and maps together, and bad moment settings, are errors naming th
   CHECK(error_of(head + "cube = \"c.fits\"\nmoments = \"dame\"\n").find("line 8: 'moments' must be a table") !=
         std::string::npos);
 }
+
+TEST_CASE("a galaxy's kinematic settings are read by name and checked", "[pipeline][kinematics]") {
+  const std::string head = "[sample]\nname = \"s\"\n[[galaxy]]\nname = \"g\"\nvelocity = \"v.fits\"\n"
+                           "intensity = \"i.fits\"\ntail_pa_deg = 10\n";
+  auto m = parse_manifest(head + "kinematics = { pa = 36.0, pa_err = 5.0, max_radius = 40.0, "
+                                 "smearing_correction = false, fix = \"vsys\", vsys = 1600.0 }\n",
+                          "/d/s.toml");
+  const auto& k = m.galaxies[0].kinematic;
+  CHECK(*k.pa == 36.0);
+  CHECK(*k.pa_err == 5.0);
+  CHECK(*k.max_radius == 40.0);
+  CHECK(!k.smearing_correction);
+  CHECK(k.fix == "vsys");
+  auto message = [&](const std::string& extra) {
+    try {
+      parse_manifest(head + extra, "/d/s.toml");
+    } catch (const InputError& e) {
+      return std::string(e.what());
+    }
+    return std::string();
+  };
+  CHECK(message("kinematics = { spin = 1 }\n").find("unknown key 'spin' in 'kinematics'") != std::string::npos);
+  CHECK(message("kinematics = { inc_err = 3.0 }\n").find("line 8") != std::string::npos);
+  CHECK(message("kinematics = { inc_err = 3.0 }\n").find("'inc_err' needs 'inc'") != std::string::npos);
+  CHECK(message("kinematics = { smearing_correction = 1 }\n").find("must be true or false") != std::string::npos);
+}

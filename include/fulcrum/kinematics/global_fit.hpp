@@ -22,6 +22,7 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -39,6 +40,18 @@ struct DiscGeometry {
   double pa_deg = 0.0;
   double inc_deg = 45.0;
   double vsys_kms = 0.0;
+};
+
+// Gaussian priors on the geometry: for each error given, a term
+// ((x - mean) / err)^2 joins chi^2 (a 2-D one, per axis, for the centre).
+// The term's residual is multiplied by sqrt(correlation_factor) so that the
+// prior keeps its stated width after the covariance is inflated by eta
+// (covariance_scaling.hpp); the reduced-chi^2 inflation, known only after the
+// fit, widens it like the data's (a stated approximation).
+struct GeometryPrior {
+  DiscGeometry mean;
+  std::optional<double> centre_err_arcsec, pa_err_deg, inc_err_deg, vsys_err_kms;
+  bool any() const { return centre_err_arcsec || pa_err_deg || inc_err_deg || vsys_err_kms; }
 };
 
 struct GlobalFitOptions {
@@ -67,6 +80,7 @@ struct GlobalFitOptions {
   double parameter_tolerance = 1e-14;
   double gradient_tolerance = 1e-14;
   bool record_problem = false;      // keep the last pass's problem (for cross-checks)
+  GeometryPrior prior;
 };
 
 // The fixed least-squares problem of the last pass, for an independent

@@ -16,11 +16,21 @@
 // the observed velocities with the corrected PA and inclination). Rings are `ring_width_beams` beam FWHM wide
 // (half a beam by default).
 //
+// Before any fit, the footprint is cleaned (footprint.hpp: neighbour
+// outliers, isolated pixels, islands smaller than a beam) and, when the user
+// gives a centre and a maximum radius, limited to that radius on the sky.
+// The global fit starts from several places (multi_start.hpp); a second
+// distinct solution that fits almost as well makes the answer "ambiguous"
+// (solution_ambiguity.hpp), a note, and widens the centre covariance.
+//
 // fit_kinematics throws InputError only for unusable input (grids that do not
 // match, a non-velocity unit, no WCS). When the data cannot constrain a
 // centre it returns status "refused" with the reason (too few pixels, a
-// nearly face-on disc, no measurable rotation); a fit that fails to converge
-// gives status "failed". Only "ok" carries a centre.
+// nearly face-on disc, no measurable rotation); a fit that fails to converge,
+// or converges to a degenerate answer (rank-deficient or near-singular
+// covariance, a parameter at its limit, a beam-smearing correction larger
+// than the rotation; fit_health.hpp) gives status "failed" with the reason.
+// Only "ok" carries a centre.
 //
 // Conventions: the centre is reported as RA/Dec (degrees), as FITS pixels
 // (1-based, through the map's WCS) and as (east, north) arcsec offsets from
@@ -39,7 +49,10 @@
 #include "fulcrum/kinematics/beam_smearing.hpp"
 #include "fulcrum/kinematics/centre_error_terms.hpp"
 #include "fulcrum/kinematics/first_guess.hpp"
+#include "fulcrum/kinematics/footprint.hpp"
 #include "fulcrum/kinematics/global_fit.hpp"
+#include "fulcrum/kinematics/multi_start.hpp"
+#include "fulcrum/kinematics/solution_ambiguity.hpp"
 #include "fulcrum/kinematics/harmonic_centre.hpp"
 #include "fulcrum/kinematics/ring_fit.hpp"
 
@@ -61,6 +74,11 @@ struct KinematicOptions {
   // beam FWHM, where beam smearing flattens the velocity gradient and biases
   // the inclination (the centre stays unbiased by symmetry either way).
   double inner_exclusion_beams = 0.0;
+  // Gaussian priors (1 sigma) about the given guesses (global_fit.hpp
+  // GeometryPrior); each needs its guess (centre_guess, pa_guess_deg, ...).
+  struct Prior {
+    std::optional<double> centre_err_arcsec, pa_err_deg, inc_err_deg, vsys_err_kms;
+  } prior;
   // Hold parameters at their guesses.
   bool fix_centre = false, fix_pa = false, fix_inc = false, fix_vsys = false;
   double weight_power = 1.0;                // |cos theta|^k
@@ -91,6 +109,17 @@ struct KinematicOptions {
   bool correct_beam_smearing = true;
   int smearing_max_refits = 4;
   double smearing_tolerance_sigma = 0.1;
+  // A correction larger than this fraction of the projected rotation
+  // amplitude makes the fit fail (fit_health.hpp).
+  double max_smearing_fraction = 1.0;
+  // Footprint cleaning (footprint.hpp) before anything else sees the pixels.
+  FootprintOptions footprint;
+  // Several starts (multi_start.hpp); the user's PA/centre, when given, are
+  // the only PA/centre starts.
+  MultiStartOptions starts;
+  // A second distinct solution within this scaled chi^2 difference makes the
+  // solution "ambiguous" (solution_ambiguity.hpp).
+  double ambiguity_delta_chi2 = 4.0;
   bool record_problem = false;              // keep the global problem (tests)
 };
 
@@ -166,6 +195,9 @@ struct KinematicFit {
   GlobalFitSummary global;          // the full global-fit summary (the adopted fit)
   BeamSmearingSummary beam_smearing;
   CentreErrorTerms centre_errors;   // the adopted centre's error budget
+  FootprintSummary footprint;       // what the footprint cleaning removed
+  MultiStartSummary starts;         // the scouts
+  SolutionAmbiguity ambiguity;      // a second distinct solution, if one was fitted
 };
 
 // `intensity` (optional, may be null) is the line-intensity (moment-0) map

@@ -30,6 +30,9 @@ struct VelocitySamples {
   std::vector<double> sigma;        // km/s (1 when unknown)
   std::vector<int> x, y;            // 0-based pixel of each sample
   bool has_errors = false;
+  // Finite velocity pixels left out because their error is missing (NaN,
+  // infinite, >= 1e30) or not positive: an error map marks failed fits so.
+  int dropped_bad_error = 0;
   double pixel_area_arcsec2 = 1.0;
   std::optional<Beam> beam;
   std::size_t size() const { return velocity.size(); }
@@ -42,7 +45,7 @@ double velocity_unit_factor(const Image& velocity, std::string* why);
 
 // Samples of `velocity` (and `error`, same grid) about `reference`. Pixels
 // where either value is not finite, or the error is not positive, are left
-// out. Throws InputError when the error map's grid differs from the velocity
+// out (the latter counted in dropped_bad_error). Throws InputError when the error map's grid differs from the velocity
 // map's.
 VelocitySamples samples_from_image(const Image& velocity, const Image* error,
                                    WorldCoord reference);

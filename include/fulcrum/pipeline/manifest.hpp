@@ -29,7 +29,10 @@
 // keys may also sit in [sample] as defaults for every galaxy. `cube` excludes
 // velocity, velocity_error, intensity, intensity_error and rms (an error
 // naming the line of the second key); `moments` (a table whose keys are the
-// names of moments/moment_settings.hpp) needs `cube`.
+// names of moments/moment_settings.hpp) needs `cube`. `kinematics` (a table
+// whose keys are the names of kinematics/kinematic_settings.hpp, e.g.
+// kinematics = { pa = 36.0, pa_err = 5.0, max_radius = 40.0 }) sets the
+// kinematic fit.
 #pragma once
 
 #include <cstdint>
@@ -37,6 +40,7 @@
 #include <string>
 #include <vector>
 
+#include "fulcrum/kinematics/kinematic_settings.hpp"
 #include "fulcrum/moments/moment_settings.hpp"
 
 namespace fulcrum::pipeline {
@@ -69,6 +73,7 @@ struct GalaxyInput {
   std::optional<double> distance_mpc;
   std::optional<std::uint64_t> seed;
   MolecularGasInput molecular;
+  kinematics::KinematicSettings kinematic;  // kinematic-fit settings (`kinematics` table)
   int manifest_line = 0;        // where the [[galaxy]] table starts (0: not from a manifest)
 };
 
