@@ -31,8 +31,9 @@ int main(int argc, char** argv) {
   in.intensity_error = &p.intensity_error;
   in.velocity = &p.velocity;
   in.velocity_error = &p.velocity_error;
-  in.centre = {g.ra_deg, g.dec_deg};
-  in.centre_covariance << 0.04, 0.0, 0.0, 0.04;
+  Eigen::Matrix2d cov;
+  cov << 0.04, 0.0, 0.0, 0.04;
+  in.centre = measured_centre(CentreMethod::kinematic_rings, {g.ra_deg, g.dec_deg}, cov, "velocity map");
   in.pa_deg = g.pa_deg;
   in.inc_deg = g.inc_deg;
   in.vsys_kms = g.vsys_kms;

@@ -72,7 +72,7 @@ std::vector<double> correlated_noise(const Image& grid, const Eigen::Matrix2d& j
 
 split::SplitSummary split_truth(const Image& model, const MatchedInputs& in) {
   split::SplitOptions so;
-  so.centre = in.centre;
+  so.centre = in.centre.position;
   so.tail_pa_deg = in.tail_pa_deg;
   so.aperture = in.aperture;
   return split::split_halves(model, so);
@@ -130,7 +130,7 @@ Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile
   const Image& real = *in.intensity;
   Image m = real.like(0.0);
   m.path = "mock of " + (real.path.empty() ? in.galaxy : real.path);
-  PixelOffsets off(real, in.centre);
+  PixelOffsets off(real, in.centre.position);
   const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
   const double phi_lead = (in.tail_pa_deg + 180.0) * kDeg;
   for (int y = 0; y < real.ny; ++y)
@@ -147,9 +147,10 @@ Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile
   return m;
 }
 
-CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& opt) {
-  const auto t0 = std::chrono::steady_clock::now();
-  const std::string who = in.galaxy;
+namespace {
+
+void check_inputs(const MatchedInputs& in, const CalibrationOptions& opt) {
+  const std::string& who = in.galaxy;
   if (!in.intensity) throw InputError(who, "calibration needs the intensity map");
   const Image& real = *in.intensity;
   if (!real.beam) throw InputError(real.path.empty() ? who : real.path, "calibration needs the beam (BMAJ/BMIN)");
@@ -160,223 +161,275 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
   if (opt.n_mocks == 0) throw InputError(who, "the number of mocks must be positive");
   if (in.intensity_error && (in.intensity_error->nx != real.nx || in.intensity_error->ny != real.ny))
     throw InputError(in.intensity_error->path, "is not on the grid of the intensity map");
-  const bool refit = opt.refit_centre && in.velocity != nullptr;
+}
 
-  const RadialProfile profile =
-      gas_profile(real, in.centre, in.pa_deg, in.inc_deg, opt.profile_bin_beams * real.beam->fwhm_arcsec());
-  if (profile.mean.empty()) throw InputError(who, "the intensity map has no positive gas profile");
+// Tune e so that the noise-free mock has the measured A (secant steps;
+// A(e) is close to linear, A ~ (2/pi) e for a pure cos term on a half).
+// Fills the tuning fields of `s`; returns e.
+double tune_amplitude(const MatchedInputs& in, const RadialProfile& profile, double a_sym, int max_steps,
+                      CalibrationSummary& s) {
+  const double target = in.measured_asymmetry;
+  double e0 = 0.0, f0 = a_sym - target;
+  double e1 = std::clamp(0.5 * std::numbers::pi * target, -0.99, 0.99);
+  double f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - target;
+  for (int it = 0; it < max_steps && std::abs(f1) > 1e-9 && f1 != f0; ++it) {
+    double e2 = std::clamp(e1 - f1 * (e1 - e0) / (f1 - f0), -0.999, 0.999);
+    e0 = e1, f0 = f1, e1 = e2;
+    f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - target;
+    s.tuning_steps = it + 1;
+  }
+  return e1;
+}
+
+// The noise-free velocity model vsys + vrot(R) sin i cos theta on the real
+// velocity grid.
+Image velocity_model(const MatchedInputs& in) {
+  const Image& v = *in.velocity;
+  Image m = v.like(0.0);
+  PixelOffsets voff(v, in.centre.position);
+  const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
+  for (int y = 0; y < v.ny; ++y)
+    for (int x = 0; x < v.nx; ++x) {
+      DiscPoint d = disc_coordinates(voff.at(x, y), SkyOffset{0, 0}, pa, inc);
+      m.at(x, y) = in.vsys_kms + interp_vrot(in, d.radius_arcsec) * std::sin(inc.rad()) * d.cos_theta;
+    }
+  return m;
+}
+
+// What every mock shares: the models, the profile, the noise geometry.
+struct MockSetup {
+  Image sym_model, lop_model;
+  double a_sym = 0.0, a_lop = 0.0;
+  Eigen::Matrix2d jacobian = Eigen::Matrix2d::Identity();
+  std::optional<Image> vel_model;  // when the centre is re-fitted
+};
+
+// The mock line map: model + beam-correlated noise scaled by the error map or rms.
+Image noisy_line_map(const MatchedInputs& in, const MockSetup& setup, int set, robustness::Generator& g) {
+  Image map = set == 0 ? setup.sym_model : setup.lop_model;
+  const std::vector<double> n = correlated_noise(*in.intensity, setup.jacobian, g);
+  for (std::size_t i = 0; i < map.size(); ++i) {
+    if (!std::isfinite(map.data[i])) continue;
+    const double sig = in.intensity_error ? in.intensity_error->data[i] : in.rms;
+    map.data[i] += (std::isfinite(sig) ? sig : 0.0) * n[i];
+  }
+  return map;
+}
+
+// Re-fit the kinematic centre on a noisy mock velocity map; on success the
+// adopted centre becomes the fit, otherwise the failure is recorded.
+void refit_centre(const MatchedInputs& in, const Image& vel_model, robustness::Generator& g, MockCentres& mc,
+                  MockOutcome& out) {
+  Image vel = vel_model;
+  for (std::size_t i = 0; i < vel.size(); ++i) {
+    if (!std::isfinite(in.velocity->data[i])) {
+      vel.data[i] = std::nan("");
+      continue;
+    }
+    double sig = in.velocity_error ? in.velocity_error->data[i] : in.velocity_noise_kms;
+    if (!std::isfinite(sig)) sig = in.velocity_noise_kms;
+    vel.data[i] += sig * g.normal();
+  }
+  kinematics::KinematicOptions ko;
+  ko.method = kinematics::Method::rings;
+  ko.ring_by_ring = false;
+  ko.pa_guess_deg = in.pa_deg;
+  ko.inc_guess_deg = in.inc_deg;
+  ko.vsys_guess_kms = in.vsys_kms;
+  // These mock velocity maps are the intrinsic (unsmeared) model plus
+  // noise, so there is no beam smearing to correct.
+  ko.correct_beam_smearing = false;
+  auto fit = kinematics::fit_kinematics(vel, in.velocity_error, ko);
+  if (fit.status == "ok" && fit.centre) {
+    mc.adopted.position = fit.centre->world;
+    mc.adopted.covariance = fit.centre->covariance;
+    const SkyOffset d = OffsetFrame(fit.centre->world).to_offset(in.centre.position);
+    Eigen::Vector2d dv(d.east, d.north);
+    const Eigen::Matrix2d& C = fit.centre->covariance;
+    out.centre_mahalanobis = C.determinant() > 0 ? std::sqrt(dv.dot(C.inverse() * dv)) : INFINITY;
+  } else {
+    out.centre_fit_ok = false;
+    mc.failures.push_back("the kinematic fit " + fit.status + " (" + fit.reason + ")");
+  }
+}
+
+// The other centre estimates: truth + their real offsets, scattered by their own errors.
+void place_estimates(const MatchedInputs& in, robustness::Generator& g, MockCentres& mc) {
+  const OffsetFrame truth(in.centre.position);
+  for (const auto& p : in.estimates) {
+    if (!p.ok()) continue;
+    const Eigen::Matrix2d& C = p.covariance;
+    Eigen::Vector2d z(g.normal(), g.normal());
+    Eigen::Vector2d dz = Eigen::Vector2d::Zero();
+    if (C.determinant() > 0) dz = Eigen::Matrix2d(C.llt().matrixL()) * z;
+    const SkyOffset o = truth.to_offset(p.position);
+    Centre w = p;
+    w.position = truth.to_world(SkyOffset{o.east + dz(0), o.north + dz(1)});
+    mc.estimates.push_back(w);
+  }
+}
+
+// One mock, start to end.
+void run_mock(const MatchedInputs& in, const CalibrationOptions& opt, const MockSetup& setup, int set,
+              std::size_t k, MockOutcome& out) {
+  out.seed = mock_seed(opt.seed, set, k);
+  out.true_asymmetry = set == 0 ? setup.a_sym : setup.a_lop;
+  try {
+    robustness::Generator g(out.seed);
+    const Image map = noisy_line_map(in, setup, set, g);
+    MockCentres mc;
+    mc.adopted = in.centre;
+    const bool do_refit = setup.vel_model && (opt.refit_every <= 1 || k % opt.refit_every == 0);
+    out.centre_refitted = do_refit;
+    out.centre_fit_ok = true;
+    if (do_refit) refit_centre(in, *setup.vel_model, g, mc, out);
+    place_estimates(in, g, mc);
+    const auto a = analyse_mock(map, in, mc, opt, splitmix(out.seed ^ 0x626f6f74ull));
+    out.verdict = robustness::verdict_name(a.verdict.verdict);
+    out.measured_asymmetry = a.split.asymmetry;
+    out.lo68 = a.bootstrap.lo68, out.hi68 = a.bootstrap.hi68;
+    out.lo95 = a.bootstrap.lo95, out.hi95 = a.bootstrap.hi95;
+  } catch (const std::exception& ex) {
+    out.verdict = std::string("error: ") + ex.what();
+    out.measured_asymmetry = std::nan("");
+  }
+}
+
+void mean_and_error(double sum, double sum2, std::size_t n, double* m, double* e) {
+  if (n == 0) {
+    *m = *e = std::nan("");
+    return;
+  }
+  *m = sum / static_cast<double>(n);
+  const double var = n > 1 ? (sum2 - static_cast<double>(n) * *m * *m) / static_cast<double>(n - 1) : 0.0;
+  *e = std::sqrt(std::max(0.0, var) / static_cast<double>(n));
+}
+
+// Rates, bias and coverage over the stored mocks (serial, in mock order).
+void summarise_mocks(CalibrationSummary& s) {
+  std::size_t fr = 0, rec = 0, c68 = 0, c95 = 0, nint = 0, cc = 0, ncc = 0;
+  auto tally = [&](const MockOutcome& o) {
+    if (!std::isfinite(o.measured_asymmetry)) return;
+    ++nint;
+    if (o.lo68 <= o.true_asymmetry && o.true_asymmetry <= o.hi68) ++c68;
+    if (o.lo95 <= o.true_asymmetry && o.true_asymmetry <= o.hi95) ++c95;
+    if (!o.centre_refitted) return;
+    if (!o.centre_fit_ok) {
+      ++s.centre_fit_failures;
+    } else {
+      ++ncc;
+      if (o.centre_mahalanobis <= 2.0) ++cc;
+    }
+  };
+  auto bias = [&](const std::vector<MockOutcome>& v, double* m, double* e) {
+    double sum = 0, sum2 = 0;
+    std::size_t n = 0;
+    for (const auto& o : v)
+      if (std::isfinite(o.measured_asymmetry)) {
+        const double d = o.measured_asymmetry - o.true_asymmetry;
+        sum += d, sum2 += d * d, ++n;
+      }
+    mean_and_error(sum, sum2, n, m, e);
+  };
+  for (const auto& o : s.symmetric) {
+    if (o.verdict == "robust" || o.verdict == "reversed") ++fr;
+    tally(o);
+  }
+  for (const auto& o : s.lopsided) {
+    if (o.verdict == "robust") ++rec;
+    tally(o);
+  }
+  s.false_robust = make_rate(fr, s.n_mocks);
+  s.recovery = make_rate(rec, s.n_mocks);
+  bias(s.lopsided, &s.bias, &s.bias_err);
+  bias(s.symmetric, &s.bias_symmetric, &s.bias_symmetric_err);
+  s.coverage68 = make_rate(c68, nint);
+  s.coverage95 = make_rate(c95, nint);
+  s.centre_coverage = make_rate(cc, ncc);
+  s.centre_coverage_expected = 1.0 - std::exp(-2.0);
+}
+
+std::string calibration_statement(const CalibrationSummary& s, int secant_steps) {
+  char buf[256];
+  std::snprintf(buf, sizeof buf,
+                "a symmetric disc with these data is called robust or reversed in %.1f%% (+- %.1f%%) of %zu "
+                "matched mocks, and a disc with the measured A = %.3f is called robust in %.1f%%",
+                100.0 * s.false_robust.rate, 100.0 * s.false_robust.err, s.n_mocks, s.achieved_asymmetry,
+                100.0 * s.recovery.rate);
+  std::string out = buf;
+  if (!s.tuning_converged) {
+    std::snprintf(buf, sizeof buf,
+                  "; warning: the lopsided mocks reach A = %.3f, not the measured %.3f (amplitude tuning "
+                  "stopped after %d of at most %d secant steps at e = %.3f)",
+                  s.achieved_asymmetry, s.target_asymmetry, s.tuning_steps, secant_steps, s.lopsided_amplitude);
+    out += buf;
+  }
+  return out;
+}
+
+}  // namespace
+
+robustness::AnalysisSummary analyse_mock(const Image& map, const MatchedInputs& in, const MockCentres& centres,
+                                         const CalibrationOptions& opt, std::uint64_t chain_seed) {
+  robustness::AnalysisOptions ao;
+  ao.galaxy = in.galaxy + " mock";
+  ao.adopted = centres.adopted;
+  ao.estimates = centres.estimates;
+  ao.failures = centres.failures;
+  ao.tail_pa_deg = in.tail_pa_deg;
+  ao.tail_pa_err_deg = in.tail_pa_err_deg;
+  ao.aperture = in.aperture;
+  ao.rms = in.rms;
+  ao.error_map = in.intensity_error;
+  ao.settings = opt.chain;
+  ao.settings.seed = chain_seed;
+  ao.settings.n_draws = opt.n_draws;
+  ao.settings.figure_data = false;
+  return robustness::analyse(map, ao);
+}
+
+CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& opt) {
+  const auto t0 = std::chrono::steady_clock::now();
+  check_inputs(in, opt);
+  const Image& real = *in.intensity;
+  const RadialProfile profile = gas_profile(real, in.centre.position, in.pa_deg, in.inc_deg,
+                                            opt.profile_bin_beams * real.beam->fwhm_arcsec());
+  if (profile.mean.empty()) throw InputError(in.galaxy, "the intensity map has no positive gas profile");
 
   CalibrationSummary s;
-  s.galaxy = who;
+  s.galaxy = in.galaxy;
   s.n_mocks = opt.n_mocks;
   s.seed = opt.seed;
   s.target_asymmetry = in.measured_asymmetry;
-
-  // Tune e so that the noise-free mock has the measured A (secant steps;
-  // A(e) is close to linear, A ~ (2/pi) e for a pure cos term on a half).
-  const Image sym_model = mock_intensity_model(in, profile, 0.0);
-  const double a_sym = split_truth(sym_model, in).asymmetry;
-  double e0 = 0.0, f0 = a_sym - in.measured_asymmetry;
-  double e1 = std::clamp(0.5 * std::numbers::pi * in.measured_asymmetry, -0.99, 0.99);
-  double f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - in.measured_asymmetry;
-  for (int it = 0; it < opt.secant_steps && std::abs(f1) > 1e-9 && f1 != f0; ++it) {
-    double e2 = std::clamp(e1 - f1 * (e1 - e0) / (f1 - f0), -0.999, 0.999);
-    e0 = e1, f0 = f1, e1 = e2;
-    f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - in.measured_asymmetry;
-    s.tuning_steps = it + 1;
-  }
-  s.lopsided_amplitude = e1;
-  const Image lop_model = mock_intensity_model(in, profile, e1);
-  s.achieved_asymmetry = split_truth(lop_model, in).asymmetry;
+  MockSetup setup;
+  setup.sym_model = mock_intensity_model(in, profile, 0.0);
+  setup.a_sym = split_truth(setup.sym_model, in).asymmetry;
+  s.lopsided_amplitude = tune_amplitude(in, profile, setup.a_sym, opt.secant_steps, s);
+  setup.lop_model = mock_intensity_model(in, profile, s.lopsided_amplitude);
+  s.achieved_asymmetry = split_truth(setup.lop_model, in).asymmetry;
   // The step bound (or the amplitude limit |e| < 1) can stop the tuning short
   // of the measured A: the statement says so below.
   s.tuning_converged = std::abs(s.achieved_asymmetry - s.target_asymmetry) <= kTuningTolerance;
-  const double a_lop = s.achieved_asymmetry;
-
-  PixelOffsets off(real, in.centre);
-  const Eigen::Matrix2d jac = off.jacobian();
-  const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
-  // Velocity model (noise-free), on the velocity grid.
-  std::optional<Image> vel_model;
-  std::optional<PixelOffsets> voff;
-  if (refit) {
-    const Image& v = *in.velocity;
-    vel_model = v.like(0.0);
-    voff.emplace(v, in.centre);
-    for (int y = 0; y < v.ny; ++y)
-      for (int x = 0; x < v.nx; ++x) {
-        DiscPoint d = disc_coordinates(voff->at(x, y), SkyOffset{0, 0}, pa, inc);
-        vel_model->at(x, y) = in.vsys_kms + interp_vrot(in, d.radius_arcsec) * std::sin(inc.rad()) * d.cos_theta;
-      }
-  }
+  setup.a_lop = s.achieved_asymmetry;
+  setup.jacobian = PixelOffsets(real, in.centre.position).jacobian();
+  if (opt.refit_centre && in.velocity != nullptr) setup.vel_model = velocity_model(in);
 
   const std::size_t N = opt.n_mocks;
   s.symmetric.assign(N, {});
   s.lopsided.assign(N, {});
   Progress progress("calibration mocks", 2 * N);
   const long total = static_cast<long>(2 * N);
-
 #pragma omp parallel for schedule(dynamic, 1)
   for (long task = 0; task < total; ++task) {
     const int set = task < static_cast<long>(N) ? 0 : 1;
     const std::size_t k = static_cast<std::size_t>(set == 0 ? task : task - static_cast<long>(N));
-    MockOutcome& out = set == 0 ? s.symmetric[k] : s.lopsided[k];
-    out.seed = mock_seed(opt.seed, set, k);
-    out.true_asymmetry = set == 0 ? a_sym : a_lop;
-    try {
-      robustness::Generator g(out.seed);
-      // Line map: model + beam-correlated noise.
-      Image map = set == 0 ? sym_model : lop_model;
-      std::vector<double> n = correlated_noise(real, jac, g);
-      for (std::size_t i = 0; i < map.size(); ++i) {
-        if (!std::isfinite(map.data[i])) continue;
-        const double sig = in.intensity_error ? in.intensity_error->data[i] : in.rms;
-        map.data[i] += (std::isfinite(sig) ? sig : 0.0) * n[i];
-      }
-      // The kinematic centre.
-      robustness::AnalysisOptions ao;
-      ao.galaxy = in.galaxy + " mock";
-      ao.adopted.name = "kinematic-rings";
-      ao.adopted.position = in.centre;
-      ao.adopted.covariance = in.centre_covariance;
-      const bool do_refit = refit && (opt.refit_every <= 1 || k % opt.refit_every == 0);
-      out.centre_refitted = do_refit;
-      out.centre_fit_ok = true;
-      if (do_refit) {
-        Image vel = *vel_model;
-        for (std::size_t i = 0; i < vel.size(); ++i) {
-          if (!std::isfinite(in.velocity->data[i])) {
-            vel.data[i] = std::nan("");
-            continue;
-          }
-          double sig = in.velocity_error ? in.velocity_error->data[i] : in.velocity_noise_kms;
-          if (!std::isfinite(sig)) sig = in.velocity_noise_kms;
-          vel.data[i] += sig * g.normal();
-        }
-        kinematics::KinematicOptions ko;
-        ko.method = kinematics::Method::rings;
-        ko.ring_by_ring = false;
-        ko.pa_guess_deg = in.pa_deg;
-        ko.inc_guess_deg = in.inc_deg;
-        ko.vsys_guess_kms = in.vsys_kms;
-        // These mock velocity maps are the intrinsic (unsmeared) model plus
-        // noise, so there is no beam smearing to correct.
-        ko.correct_beam_smearing = false;
-        auto fit = kinematics::fit_kinematics(vel, in.velocity_error, ko);
-        if (fit.status == "ok" && fit.centre) {
-          ao.adopted.position = fit.centre->world;
-          ao.adopted.covariance = fit.centre->covariance;
-          const SkyOffset d = OffsetFrame(fit.centre->world).to_offset(in.centre);
-          Eigen::Vector2d dv(d.east, d.north);
-          const Eigen::Matrix2d& C = fit.centre->covariance;
-          out.centre_mahalanobis = C.determinant() > 0 ? std::sqrt(dv.dot(C.inverse() * dv)) : INFINITY;
-        } else {
-          out.centre_fit_ok = false;
-          ao.failures.push_back("the kinematic fit " + fit.status + " (" + fit.reason + ")");
-        }
-      }
-      // Photometric centres: truth + their real offsets, scattered by their own errors.
-      const OffsetFrame truth(in.centre);
-      for (const auto& p : in.photometric) {
-        Eigen::Matrix2d C = p.covariance;
-        Eigen::Vector2d z(g.normal(), g.normal());
-        Eigen::Vector2d dz = Eigen::Vector2d::Zero();
-        if (C.determinant() > 0) dz = Eigen::Matrix2d(C.llt().matrixL()) * z;
-        robustness::WorldCentre w;
-        w.name = p.name;
-        w.position = truth.to_world(SkyOffset{p.offset.east + dz(0), p.offset.north + dz(1)});
-        w.covariance = C;
-        w.weight = p.weight;
-        ao.estimates.push_back(w);
-      }
-      ao.tail_pa_deg = in.tail_pa_deg;
-      ao.tail_pa_err_deg = in.tail_pa_err_deg;
-      ao.aperture = in.aperture;
-      ao.rms = in.rms;
-      ao.error_map = in.intensity_error;
-      ao.seed = splitmix(out.seed ^ 0x626f6f74ull);
-      ao.n_draws = opt.n_draws;
-      ao.bootstrap_estimates = opt.bootstrap_from_estimates;
-      ao.verdict = opt.verdict;
-      auto a = robustness::analyse(map, ao);
-      out.verdict = robustness::verdict_name(a.verdict.verdict);
-      out.measured_asymmetry = a.split.asymmetry;
-      out.lo68 = a.bootstrap.lo68, out.hi68 = a.bootstrap.hi68;
-      out.lo95 = a.bootstrap.lo95, out.hi95 = a.bootstrap.hi95;
-    } catch (const std::exception& ex) {
-      out.verdict = std::string("error: ") + ex.what();
-      out.measured_asymmetry = std::nan("");
-    }
+    run_mock(in, opt, setup, set, k, set == 0 ? s.symmetric[k] : s.lopsided[k]);
 #pragma omp critical(calibration_progress)
     progress.advance();
   }
   progress.finish();
-
-  // Summaries (serial, in mock order).
-  std::size_t fr = 0, rec = 0, c68 = 0, c95 = 0, nint = 0, cc = 0, ncc = 0;
-  double sb = 0, sbb = 0, ss = 0, sss = 0;
-  std::size_t nb = 0, ns = 0;
-  auto tally = [&](const MockOutcome& o) {
-    if (!std::isfinite(o.measured_asymmetry)) return;
-    ++nint;
-    if (o.lo68 <= o.true_asymmetry && o.true_asymmetry <= o.hi68) ++c68;
-    if (o.lo95 <= o.true_asymmetry && o.true_asymmetry <= o.hi95) ++c95;
-    if (o.centre_refitted) {
-      if (!o.centre_fit_ok) {
-        ++s.centre_fit_failures;
-      } else {
-        ++ncc;
-        if (o.centre_mahalanobis <= 2.0) ++cc;
-      }
-    }
-  };
-  for (const auto& o : s.symmetric) {
-    if (o.verdict == "robust" || o.verdict == "reversed") ++fr;
-    tally(o);
-    if (std::isfinite(o.measured_asymmetry)) {
-      double d = o.measured_asymmetry - o.true_asymmetry;
-      ss += d, sss += d * d, ++ns;
-    }
-  }
-  for (const auto& o : s.lopsided) {
-    if (o.verdict == "robust") ++rec;
-    tally(o);
-    if (std::isfinite(o.measured_asymmetry)) {
-      double d = o.measured_asymmetry - o.true_asymmetry;
-      sb += d, sbb += d * d, ++nb;
-    }
-  }
-  auto mean_err = [](double sum, double sum2, std::size_t n, double* m, double* e) {
-    if (n == 0) {
-      *m = *e = std::nan("");
-      return;
-    }
-    *m = sum / static_cast<double>(n);
-    const double var = n > 1 ? (sum2 - static_cast<double>(n) * *m * *m) / static_cast<double>(n - 1) : 0.0;
-    *e = std::sqrt(std::max(0.0, var) / static_cast<double>(n));
-  };
-  s.false_robust = make_rate(fr, N);
-  s.recovery = make_rate(rec, N);
-  mean_err(sb, sbb, nb, &s.bias, &s.bias_err);
-  mean_err(ss, sss, ns, &s.bias_symmetric, &s.bias_symmetric_err);
-  s.coverage68 = make_rate(c68, nint);
-  s.coverage95 = make_rate(c95, nint);
-  s.centre_coverage = make_rate(cc, ncc);
-  s.centre_coverage_expected = 1.0 - std::exp(-2.0);
-  char buf[256];
-  std::snprintf(buf, sizeof buf,
-                "a symmetric disc with these data is called robust or reversed in %.1f%% (+- %.1f%%) of %zu "
-                "matched mocks, and a disc with the measured A = %.3f is called robust in %.1f%%",
-                100.0 * s.false_robust.rate, 100.0 * s.false_robust.err, N, a_lop, 100.0 * s.recovery.rate);
-  s.statement = buf;
-  if (!s.tuning_converged) {
-    std::snprintf(buf, sizeof buf,
-                  "; warning: the lopsided mocks reach A = %.3f, not the measured %.3f (amplitude tuning "
-                  "stopped after %d of at most %d secant steps at e = %.3f)",
-                  s.achieved_asymmetry, s.target_asymmetry, s.tuning_steps, opt.secant_steps,
-                  s.lopsided_amplitude);
-    s.statement += buf;
-  }
+  summarise_mocks(s);
+  s.statement = calibration_statement(s, opt.secant_steps);
   s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
   return s;
 }

@@ -12,6 +12,7 @@
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "fulcrum/pipeline/report_reader.hpp"
 #include "fulcrum/pipeline/sample_run.hpp"
 #include "galaxy_args.hpp"
 #include "subcommand.hpp"
@@ -67,11 +68,13 @@ void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
   o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a.bootstrap_centres);
   note("analysing " + in.name);
   auto r = pipeline::analyse_galaxy(in, o);
-  pipeline::write_galaxy_outputs(r, a.out);
-  pipeline::write_galaxy_html(a.out, r.report);
+ pipeline::write_galaxy_outputs(r, a.out);
+  // The page and the summary say what report.json says (the one reader).
+  const auto g = pipeline::read_report(r.report, (fs::path(a.out) / "report.json").string());
+  pipeline::write_galaxy_html(a.out, g);
   for (const auto& n : r.notes) warn(in.name + ": " + n);
-  std::cout << r.report["statement"].get<std::string>() << "\n\n"
-            << pipeline::summary_text({r.report}) << "\nreport: " << (fs::path(a.out) / "report.json").string()
+  std::cout << g.statement << "\n\n"
+            << pipeline::summary_text({g}) << "\nreport: " << (fs::path(a.out) / "report.json").string()
             << "\nfigures and page: " << (fs::path(a.out) / "report.html").string() << "\n";
 }
 

@@ -10,12 +10,15 @@
 #include <memory>
 #include <sstream>
 
-#include "fulcrum/calibration/from_report.hpp"
+#include "fulcrum/calibration/calibration.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "fulcrum/pipeline/galaxy_stages.hpp"
+#include "fulcrum/pipeline/report_json.hpp"
+#include "fulcrum/pipeline/report_reader.hpp"
 #include "galaxy_args.hpp"
 #include "subcommand.hpp"
 
@@ -47,43 +50,33 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
     in = pipeline::make_maps_from_cube(in, a.out);
   }
 
-  nlohmann::json report;
-  std::string where;
+  // The analysis: a finished one read through the one reader of report.json,
+  // or run now. Either way the typed summary gives the matched inputs.
+  pipeline::GalaxySummary summary;
   if (!a.from.empty()) {
-    where = (fs::path(a.from) / "report.json").string();
-    std::ifstream f(where);
-    if (!f) throw InputError(where, "cannot be read");
-    try {
-      report = nlohmann::json::parse(f);
-    } catch (const std::exception& e) {
-      throw InputError(where, std::string("is not JSON: ") + e.what());
-    }
+    summary = pipeline::read_report_file((fs::path(a.from) / "report.json").string());
   } else {
     pipeline::AnalysisOptions o;
     o.seed = a.seed;
     o.draws = a.draws;
     o.figures = false;
     note("analysing " + in.name);
-    report = pipeline::analyse_galaxy(in, o).report;
-    where = in.name + " (analysis)";
+    summary = pipeline::analyse_galaxy(in, o).summary;
   }
-  auto maps = calibration::load_maps(in);
-  auto mi = calibration::matched_inputs_from_report(report, in, maps, where);
+  const auto maps = pipeline::load_galaxy_maps(in);
+  const auto mi = pipeline::matched_inputs(summary, maps);
   calibration::CalibrationOptions co;
   co.n_mocks = a.mocks;
-  co.seed = report.contains("robustness") && report["robustness"].contains("seed") &&
-                    report["robustness"]["seed"].is_number_unsigned() && !cmd->count("--seed")
-                ? report["robustness"]["seed"].get<std::uint64_t>()
-                : a.seed;
+  // The galaxy seed of the analysis unless --seed is given.
+  co.seed = summary.robustness && !cmd->count("--seed") ? summary.seed : a.seed;
   co.n_draws = a.mock_draws;
   co.refit_centre = !a.no_refit;
   co.refit_every = a.refit_every;
-  co.bootstrap_from_estimates = report.contains("robustness") && report["robustness"].is_object() &&
-                                report["robustness"].value("centre_draws", "adopted") == "all-estimates";
+  co.chain.bootstrap_estimates = summary.bootstrap_from_estimates;
   auto s = calibration::calibrate(mi, co);
   nlohmann::json j = calibration::to_json(s, a.per_mock);
   j["galaxy"] = s.galaxy;
-  j["verdict"] = report.value("verdict", "undetermined");
+  j["verdict"] = robustness::verdict_name(summary.verdict);
   j["mock_draws"] = co.n_draws;
   j["refit_every"] = co.refit_centre ? nlohmann::json(co.refit_every) : nlohmann::json(nullptr);
   j["seconds"] = s.seconds;

@@ -12,13 +12,7 @@
 #include "fulcrum/pipeline/sample_run.hpp"
 #include "subcommand.hpp"
 
-// The synth library's sample writer arrives with synth/mock_field_table.hpp.
-#if __has_include("fulcrum/synth/mock_field_table.hpp")
-#define FULCRUM_HAVE_SYNTH 1
 #include "fulcrum/synth/mock_galaxy.hpp"
-#else
-#define FULCRUM_HAVE_SYNTH 0
-#endif
 
 namespace {
 struct DemoArgs {
@@ -31,7 +25,6 @@ void run_demo(const DemoArgs& a, CLI::App* cmd) {
   using namespace fulcrum;
   namespace fs = std::filesystem;
   set_quiet(cli::global_flags().quiet);
-#if FULCRUM_HAVE_SYNTH
   fs::path data = fs::path(a.out) / "data";
   fs::path results = fs::path(a.out) / "results";
   if (fs::exists(results / "sample.json") && !cli::global_flags().force)
@@ -46,12 +39,12 @@ void run_demo(const DemoArgs& a, CLI::App* cmd) {
   o.overwrite = true;
   if (cmd->count("--draws")) o.draws = a.draws;
   auto s = pipeline::run_sample(m, o);
-  std::cout << pipeline::summary_text(s.reports) << "\n";
+  std::cout << pipeline::summary_text(s.galaxies) << "\n";
   int matched = 0;
   for (const auto& g : sample) {
     std::string got;
-    for (const auto& r : s.reports)
-      if (r.value("galaxy", "") == g.name) got = r.value("verdict", "");
+    for (const auto& r : s.galaxies)
+      if (r.input.name == g.name) got = robustness::verdict_name(r.verdict);
     bool ok = got == g.expected_verdict;
     matched += ok;
     std::cout << (ok ? "  as built:  " : "  DIFFERENT: ") << g.name << " built to be " << g.expected_verdict
@@ -59,11 +52,6 @@ void run_demo(const DemoArgs& a, CLI::App* cmd) {
   }
   std::cout << "\n" << matched << " of " << sample.size() << " demo galaxies reached the verdict they were built for.\n"
             << "manifest: " << manifest << "\nreport:   " << s.html_path << "\n";
-#else
-  (void)a;
-  (void)cmd;
-  throw InputError("", "the synth library (mock galaxies) is not part of this build, so the demo sample cannot be made");
-#endif
 }
 }  // namespace
 

@@ -24,6 +24,6 @@ FULCRUM_SUBCOMMAND(merge, 85, [](CLI::App& app) {
     using namespace fulcrum;
     set_quiet(cli::global_flags().quiet);
     auto s = pipeline::merge_outputs(a->dirs, a->out, cli::global_flags().force);
-    std::cout << pipeline::summary_text(s.reports) << "\nreport: " << s.html_path << "\n";
+    std::cout << pipeline::summary_text(s.galaxies) << "\nreport: " << s.html_path << "\n";
   });
 });

@@ -51,6 +51,6 @@ FULCRUM_SUBCOMMAND(run, 80, [](CLI::App& app) {
     if (cmd->count("--seed")) o.seed = a->seed;
     o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a->bootstrap_centres);
     auto s = pipeline::run_sample(m, o);
-    std::cout << pipeline::summary_text(s.reports) << "\nreport: " << s.html_path << "\n";
+    std::cout << pipeline::summary_text(s.galaxies) << "\nreport: " << s.html_path << "\n";
   });
 });

@@ -6,6 +6,7 @@
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
+#include <functional>
 #include <map>
 #include <set>
 #include <sstream>
@@ -20,6 +21,9 @@
 #include "fulcrum/report/html_report.hpp"
 #include "fulcrum/report/sample_statistics.hpp"
 #include "fulcrum/report/svg.hpp"
+#include "fulcrum/pipeline/report_json.hpp"
+#include "fulcrum/pipeline/report_reader.hpp"
+#include "fulcrum/sky/offset_frame.hpp"
 
 namespace fulcrum::pipeline {
 
@@ -28,72 +32,30 @@ using nlohmann::json;
 
 namespace {
 
-// Value at a dotted path with optional [k] index, e.g. "robustness.asymmetry_ci68[0]".
-const json* at_path(const json& j, const std::string& path) {
-  const json* cur = &j;
-  std::size_t pos = 0;
-  while (pos < path.size()) {
-    std::size_t dot = path.find('.', pos);
-    std::string part = path.substr(pos, dot == std::string::npos ? std::string::npos : dot - pos);
-    pos = dot == std::string::npos ? path.size() : dot + 1;
-    int index = -1;
-    auto br = part.find('[');
-    if (br != std::string::npos) {
-      index = std::stoi(part.substr(br + 1));
-      part = part.substr(0, br);
-    }
-    if (!cur->is_object() || !cur->contains(part)) return nullptr;
-    cur = &(*cur)[part];
-    if (index >= 0) {
-      if (!cur->is_array() || static_cast<int>(cur->size()) <= index) return nullptr;
-      cur = &(*cur)[index];
-    }
-  }
-  return cur;
-}
+double nan_if_absent(const std::optional<double>& v) { return v ? *v : NAN; }
 
-double get_num(const json& j, const std::string& path) {
-  const json* v = at_path(j, path);
-  return v && v->is_number() ? v->get<double>() : NAN;
-}
-std::string get_str(const json& j, const std::string& path) {
-  const json* v = at_path(j, path);
-  return v && v->is_string() ? v->get<std::string>() : std::string();
-}
-std::int64_t get_int(const json& j, const std::string& path) {
-  const json* v = at_path(j, path);
-  return v && v->is_number() ? v->get<std::int64_t>() : 0;
-}
-
-const json* adopted_entry(const json& rep) {
-  if (!rep.contains("adopted_centre") || !rep["adopted_centre"].is_string()) return nullptr;
-  for (const auto& c : rep["centres"])
-    if (c.value("id", "") == rep["adopted_centre"].get<std::string>()) return &c;
-  return nullptr;
-}
-
-double adopted_num(const json& rep, const std::string& key) {
-  const json* c = adopted_entry(rep);
-  return c && c->contains(key) && (*c)[key].is_number() ? (*c)[key].get<double>() : NAN;
+const robustness::AnalysisSummary* split_of(const GalaxySummary& s) {
+  return s.robustness ? &*s.robustness : nullptr;
 }
 
 // 1-sigma semi-major axis of the adopted centre's error ellipse.
-double adopted_err(const json& rep) {
-  const json* c = adopted_entry(rep);
-  if (!c || !c->contains("cov_arcsec2") || !(*c)["cov_arcsec2"].is_array()) return NAN;
-  const auto& m = (*c)["cov_arcsec2"];
-  double a = m[0][0].is_number() ? m[0][0].get<double>() : NAN, b = m[0][1].is_number() ? m[0][1].get<double>() : NAN,
-         d = m[1][1].is_number() ? m[1][1].get<double>() : NAN;
-  double tr = a + d, det = a * d - b * b;
+double adopted_err(const GalaxySummary& s) {
+  const Centre* c = s.adopted_centre();
+  if (!c) return NAN;
+  const auto& m = c->covariance;
+  const double a = m(0, 0), b = m(0, 1), d = m(1, 1);
+  const double tr = a + d, det = a * d - b * b;
   return std::sqrt(tr / 2 + std::sqrt(std::max(0.0, tr * tr / 4 - det)));
 }
 
 // Largest offset of any successful centre from the adopted one.
-double max_offset(const json& rep) {
+double max_offset(const GalaxySummary& s) {
+  const Centre* a = s.adopted_centre();
   double m = NAN;
-  for (const auto& c : rep["centres"]) {
-    if (!c.contains("offset_from_adopted")) continue;
-    double d = c["offset_from_adopted"].value("distance_arcsec", NAN);
+  if (!a) return m;
+  for (const auto& c : s.centres) {
+    if (!c.ok()) continue;
+    const double d = separation_arcsec(a->position, c.position);
     if (std::isfinite(d)) m = std::isfinite(m) ? std::max(m, d) : d;
   }
   return m;
@@ -106,122 +68,196 @@ std::string read_text(const fs::path& p) {
   return ss.str();
 }
 
-json minimal_failure_report(const GalaxyInput& g, const std::string& reason, const AnalysisOptions& o) {
-  json rep = {{"schema_version", 1}, {"galaxy", g.name}, {"verdict", "undetermined"},
-              {"verdict_reason", reason},
-              {"statement", g.name + ": no verdict (undetermined): " + reason + "."},
-              {"centres", json::array()}, {"adopted_centre", nullptr},
-              {"kinematics", {{"status", "not run"}, {"pa_deg", nullptr}, {"inc_deg", nullptr}, {"vsys_kms", nullptr}, {"rings", json::array()}}},
-              {"split", {{"tail_pa_deg", g.tail_pa_deg ? json(*g.tail_pa_deg) : json(nullptr)}, {"leading_flux", nullptr},
-                         {"trailing_flux", nullptr}, {"flux_unit", nullptr}, {"asymmetry", nullptr}, {"asymmetry_err", nullptr},
-                         {"at_centres", json::array()}}},
-              {"robustness", {{"p_leading", nullptr}, {"draws", o.draws}, {"seed", o.seed}, {"asymmetry_ci68", nullptr},
-                              {"asymmetry_ci95", nullptr}, {"flip_distance_arcsec", nullptr}, {"flip_distance_beams", nullptr},
-                              {"flip_direction_pa_deg", nullptr}, {"farthest_plausible_arcsec", nullptr}}},
-              {"inputs", json::object()}, {"software", software_info()}, {"created_utc", created_utc()},
-              {"stages", json::array({{{"stage", "analysis"}, {"status", "failed"}, {"reason", reason}}})},
-              {"figures", json::array()}, {"notes", json::array({reason})}};
-  return rep;
+// The report of a galaxy whose analysis could not start or stopped.
+GalaxySummary failed_galaxy(const GalaxyInput& g, const std::string& reason, const AnalysisOptions& o) {
+  GalaxySummary s;
+  s.input = g;
+  s.seed = o.seed;
+  s.draws = o.draws;
+  s.created_utc = created_utc();
+  s.undetermined_reason = reason;
+  s.statement = g.name + ": no verdict (undetermined): " + reason + ".";
+  s.stages.push_back({"analysis", StageStatus::failed, reason});
+  s.notes.push_back(reason);
+  return s;
 }
 
 std::string fmt_or_dash(double v, int d) { return std::isfinite(v) ? report::fmt(v, d) : "-"; }
 
+using Getter = std::function<double(const GalaxySummary&)>;
+
+double split_value(const GalaxySummary& s, double split::SplitSummary::*field) {
+  const auto* a = split_of(s);
+  return a ? a->split.*field : NAN;
+}
+double boot_value(const GalaxySummary& s, double robustness::BootstrapSummary::*field) {
+  const auto* a = split_of(s);
+  return a ? a->bootstrap.*field : NAN;
+}
+double kin_value(const GalaxySummary& s, double kinematics::KinematicFit::*field) {
+  return s.kinematics ? s.kinematics->fit.*field : NAN;
+}
+double flip_arcsec(const GalaxySummary& s) {
+  const auto* a = split_of(s);
+  return a && a->flip.nominal.found ? a->flip.nominal.distance_arcsec : NAN;
+}
+double flip_beams(const GalaxySummary& s) {
+  const auto* a = split_of(s);
+  return a && a->flip.nominal.found ? a->flip.nominal_beams : NAN;
+}
+double flip_pa(const GalaxySummary& s) {
+  const auto* a = split_of(s);
+  return a && a->flip.nominal.found ? a->flip.nominal.direction_pa_deg : NAN;
+}
+double farthest(const GalaxySummary& s) {
+  const auto* a = split_of(s);
+  return a ? a->verdict.plausible.farthest_plausible_arcsec : NAN;
+}
+double calibration_rate(const GalaxySummary& s, calibration::Rate calibration::CalibrationSummary::*rate) {
+  return s.calibration && s.calibration->summary ? ((*s.calibration->summary).*rate).rate : NAN;
+}
+std::string flux_unit(const GalaxySummary& s) { return s.robustness ? s.robustness->split.flux_unit : ""; }
+std::string verdict_of(const GalaxySummary& s) { return robustness::verdict_name(s.verdict); }
+std::string adopted_id(const GalaxySummary& s) { return s.adopted_centre() ? s.adopted_centre()->id() : ""; }
+
 }  // namespace
 
-report::Table robustness_table(const std::vector<json>& reports) {
+namespace {
+
+// Adds one column per call, one row per galaxy.
+struct ColumnWriter {
+  report::Table& t;
+  const std::vector<GalaxySummary>& galaxies;
+  template <class F>
+  void strings(const std::string& name, const std::string& desc, F f) {
+    std::vector<std::string> v;
+    for (const auto& g : galaxies) v.push_back(f(g));
+    t.add_string(name, desc, v);
+  }
+  // `path` names the place of the same number in report.json.
+  void floats(const std::string& name, const std::string& unit, const std::string& desc, const std::string& path,
+              int digits, const Getter& f) {
+    std::vector<double> v;
+    for (const auto& g : galaxies) v.push_back(f(g));
+    t.add_float(name, unit, desc + " [" + path + "]", v, digits);
+  }
+};
+
+Getter split_field(double split::SplitSummary::*m) {
+  return [m](const GalaxySummary& g) { return split_value(g, m); };
+}
+Getter boot_field(double robustness::BootstrapSummary::*m) {
+  return [m](const GalaxySummary& g) { return boot_value(g, m); };
+}
+Getter kin_field(double kinematics::KinematicFit::*m) {
+  return [m](const GalaxySummary& g) { return kin_value(g, m); };
+}
+
+void centre_columns(ColumnWriter& w) {
+  w.strings("galaxy", "Galaxy name [report.json: galaxy]", [](const GalaxySummary& g) { return g.input.name; });
+  w.strings("verdict", "robust, marginal, centre-sensitive, reversed or undetermined [report.json: verdict]", verdict_of);
+  w.strings("adopted_centre", "Which centre estimate the halves use [report.json: adopted_centre]", adopted_id);
+  w.floats("ra_deg", "deg", "Right ascension of the adopted centre", "report.json: centres[adopted].ra_deg", 6,
+           [](const GalaxySummary& g) { return g.adopted_centre() ? g.adopted_centre()->position.ra_deg : NAN; });
+  w.floats("dec_deg", "deg", "Declination of the adopted centre", "report.json: centres[adopted].dec_deg", 6,
+           [](const GalaxySummary& g) { return g.adopted_centre() ? g.adopted_centre()->position.dec_deg : NAN; });
+  w.floats("centre_err_arcsec", "arcsec", "1-sigma semi-major axis of the adopted centre's error ellipse",
+           "derived: centres[adopted].cov_arcsec2", 3, adopted_err);
+  w.floats("max_centre_offset_arcsec", "arcsec", "Largest offset of any centre estimate from the adopted one",
+           "derived: centres[].offset_from_adopted", 2, max_offset);
+  w.floats("pa_deg", "deg", "Kinematic PA of the receding half, north through east", "report.json: kinematics.pa_deg",
+           1, kin_field(&kinematics::KinematicFit::pa_deg));
+  w.floats("inc_deg", "deg", "Kinematic inclination", "report.json: kinematics.inc_deg", 1,
+           kin_field(&kinematics::KinematicFit::inc_deg));
+  w.floats("vsys_kms", "km / s", "Systemic velocity", "report.json: kinematics.vsys_kms", 1,
+           kin_field(&kinematics::KinematicFit::vsys_kms));
+}
+
+void split_columns(ColumnWriter& w) {
+  w.floats("tail_pa_deg", "deg", "Tail direction from the centre, north through east", "report.json: split.tail_pa_deg",
+           1, [](const GalaxySummary& g) { return g.robustness ? g.robustness->tail_pa_deg : nan_if_absent(g.input.tail_pa_deg); });
+  w.floats("tail_pa_err_deg", "deg", "Error of the tail direction", "report.json: split.tail_pa_err_deg", 1,
+           [](const GalaxySummary& g) { return g.robustness ? g.robustness->tail_pa_err_deg : g.input.tail_pa_err_deg; });
+  w.floats("leading_flux", "", "Line flux of the leading half (unit in flux_unit)", "report.json: split.leading_flux", 3,
+           split_field(&split::SplitSummary::leading_flux));
+  w.floats("trailing_flux", "", "Line flux of the trailing half (unit in flux_unit)",
+           "report.json: split.trailing_flux", 3, split_field(&split::SplitSummary::trailing_flux));
+  w.strings("flux_unit", "Unit of the half fluxes [report.json: split.flux_unit]", flux_unit);
+  w.floats("asymmetry", "", "A = (L - T)/(L + T) at the adopted centre", "report.json: split.asymmetry", 3,
+           split_field(&split::SplitSummary::asymmetry));
+  w.floats("asymmetry_err", "", "1-sigma error of A from map noise", "report.json: split.asymmetry_err", 3,
+           split_field(&split::SplitSummary::asymmetry_err));
+}
+
+void robustness_columns(ColumnWriter& w) {
+  using B = robustness::BootstrapSummary;
+  w.floats("asymmetry_ci68_lo", "", "Bootstrap 68% interval of A, lower end",
+           "report.json: robustness.asymmetry_ci68[0]", 3, boot_field(&B::lo68));
+  w.floats("asymmetry_ci68_hi", "", "Bootstrap 68% interval of A, upper end",
+           "report.json: robustness.asymmetry_ci68[1]", 3, boot_field(&B::hi68));
+  w.floats("asymmetry_ci95_lo", "", "Bootstrap 95% interval of A, lower end",
+           "report.json: robustness.asymmetry_ci95[0]", 3, boot_field(&B::lo95));
+  w.floats("asymmetry_ci95_hi", "", "Bootstrap 95% interval of A, upper end",
+           "report.json: robustness.asymmetry_ci95[1]", 3, boot_field(&B::hi95));
+  w.floats("p_leading", "", "Bootstrap probability P(A > 0)", "report.json: robustness.p_leading", 3,
+           boot_field(&B::p_positive));
+  w.floats("flip_distance_arcsec", "arcsec", "Smallest centre shift that reverses the sign of A (nominal angle)",
+           "report.json: robustness.flip_distance_arcsec", 2, flip_arcsec);
+  w.floats("flip_distance_beams", "", "Flip distance in beam FWHM along its direction",
+           "report.json: robustness.flip_distance_beams", 2, flip_beams);
+  w.floats("flip_direction_pa_deg", "deg", "Direction of that shift, north through east",
+           "report.json: robustness.flip_direction_pa_deg", 1, flip_pa);
+  w.floats("farthest_plausible_arcsec", "arcsec", "Distance of the farthest plausible centre from the adopted one",
+           "report.json: robustness.farthest_plausible_arcsec", 2, farthest);
+  std::vector<std::int64_t> draws, seeds;
+  for (const auto& g : w.galaxies) {
+    draws.push_back(g.draws);
+    seeds.push_back(static_cast<std::int64_t>(g.seed));
+  }
+  w.t.add_int("draws", "", "Bootstrap draws [report.json: robustness.draws]", draws);
+  w.t.add_int("seed", "", "Seed of the galaxy's random generator [report.json: robustness.seed]", seeds);
+}
+
+void calibration_columns(ColumnWriter& w) {
+  bool calibrated = false;
+  for (const auto& g : w.galaxies) calibrated = calibrated || g.calibration.has_value();
+  if (!calibrated) return;
+  using C = calibration::CalibrationSummary;
+  w.floats("false_robust_rate", "", "Matched symmetric mocks called robust or reversed",
+           "report.json: calibration.false_robust_rate", 3,
+           [](const GalaxySummary& g) { return calibration_rate(g, &C::false_robust); });
+  w.floats("recovery_rate", "", "Matched mocks with the measured A called robust",
+           "report.json: calibration.recovery_rate", 3,
+           [](const GalaxySummary& g) { return calibration_rate(g, &C::recovery); });
+}
+
+}  // namespace
+
+report::Table robustness_table(const std::vector<GalaxySummary>& galaxies) {
   report::Table t;
   t.name = "robustness";
   t.caption = "Centre and split robustness of the leading-side excess, one row per galaxy.";
-  auto strings = [&](const std::string& name, const std::string& desc, auto f) {
-    std::vector<std::string> v;
-    for (const auto& r : reports) v.push_back(f(r));
-    t.add_string(name, desc, v);
-  };
-  auto floats = [&](const std::string& name, const std::string& unit, const std::string& desc, const std::string& path,
-                    int digits) {
-    std::vector<double> v;
-    for (const auto& r : reports) v.push_back(get_num(r, path));
-    t.add_float(name, unit, desc + " [report.json: " + path + "]", v, digits);
-  };
-  auto adopted = [&](const std::string& name, const std::string& unit, const std::string& desc, const std::string& key,
-                     int digits) {
-    std::vector<double> v;
-    for (const auto& r : reports) v.push_back(adopted_num(r, key));
-    t.add_float(name, unit, desc + " [report.json: centres[adopted]." + key + "]", v, digits);
-  };
-  strings("galaxy", "Galaxy name [report.json: galaxy]", [](const json& r) { return get_str(r, "galaxy"); });
-  strings("verdict", "robust, marginal, centre-sensitive, reversed or undetermined [report.json: verdict]",
-          [](const json& r) { return get_str(r, "verdict"); });
-  strings("adopted_centre", "Which centre estimate the halves use [report.json: adopted_centre]",
-          [](const json& r) { return get_str(r, "adopted_centre"); });
-  adopted("ra_deg", "deg", "Right ascension of the adopted centre", "ra_deg", 6);
-  adopted("dec_deg", "deg", "Declination of the adopted centre", "dec_deg", 6);
-  {
-    std::vector<double> v;
-    for (const auto& r : reports) v.push_back(adopted_err(r));
-    t.add_float("centre_err_arcsec", "arcsec",
-                "1-sigma semi-major axis of the adopted centre's error ellipse [derived: centres[adopted].cov_arcsec2]", v, 3);
-  }
-  {
-    std::vector<double> v;
-    for (const auto& r : reports) v.push_back(max_offset(r));
-    t.add_float("max_centre_offset_arcsec", "arcsec",
-                "Largest offset of any centre estimate from the adopted one [derived: centres[].offset_from_adopted]", v, 2);
-  }
-  floats("pa_deg", "deg", "Kinematic PA of the receding half, north through east", "kinematics.pa_deg", 1);
-  floats("inc_deg", "deg", "Kinematic inclination", "kinematics.inc_deg", 1);
-  floats("vsys_kms", "km / s", "Systemic velocity", "kinematics.vsys_kms", 1);
-  floats("tail_pa_deg", "deg", "Tail direction from the centre, north through east", "split.tail_pa_deg", 1);
-  floats("tail_pa_err_deg", "deg", "Error of the tail direction", "split.tail_pa_err_deg", 1);
-  floats("leading_flux", "", "Line flux of the leading half (unit in flux_unit)", "split.leading_flux", 3);
-  floats("trailing_flux", "", "Line flux of the trailing half (unit in flux_unit)", "split.trailing_flux", 3);
-  strings("flux_unit", "Unit of the half fluxes [report.json: split.flux_unit]",
-          [](const json& r) { return get_str(r, "split.flux_unit"); });
-  floats("asymmetry", "", "A = (L - T)/(L + T) at the adopted centre", "split.asymmetry", 3);
-  floats("asymmetry_err", "", "1-sigma error of A from map noise", "split.asymmetry_err", 3);
-  floats("asymmetry_ci68_lo", "", "Bootstrap 68% interval of A, lower end", "robustness.asymmetry_ci68[0]", 3);
-  floats("asymmetry_ci68_hi", "", "Bootstrap 68% interval of A, upper end", "robustness.asymmetry_ci68[1]", 3);
-  floats("asymmetry_ci95_lo", "", "Bootstrap 95% interval of A, lower end", "robustness.asymmetry_ci95[0]", 3);
-  floats("asymmetry_ci95_hi", "", "Bootstrap 95% interval of A, upper end", "robustness.asymmetry_ci95[1]", 3);
-  floats("p_leading", "", "Bootstrap probability P(A > 0)", "robustness.p_leading", 3);
-  floats("flip_distance_arcsec", "arcsec", "Smallest centre shift that reverses the sign of A (nominal angle)",
-         "robustness.flip_distance_arcsec", 2);
-  floats("flip_distance_beams", "", "Flip distance in beam FWHM along its direction", "robustness.flip_distance_beams", 2);
-  floats("flip_direction_pa_deg", "deg", "Direction of that shift, north through east",
-         "robustness.flip_direction_pa_deg", 1);
-  floats("farthest_plausible_arcsec", "arcsec", "Distance of the farthest plausible centre from the adopted one",
-         "robustness.farthest_plausible_arcsec", 2);
-  {
-    std::vector<std::int64_t> draws, seeds;
-    for (const auto& r : reports) {
-      draws.push_back(get_int(r, "robustness.draws"));
-      seeds.push_back(get_int(r, "robustness.seed"));
-    }
-    t.add_int("draws", "", "Bootstrap draws [report.json: robustness.draws]", draws);
-    t.add_int("seed", "", "Seed of the galaxy's random generator [report.json: robustness.seed]", seeds);
-  }
-  {
-    bool calibrated = false;
-    for (const auto& r : reports) calibrated = calibrated || (r.contains("calibration") && r["calibration"].is_object());
-    if (calibrated) {
-      floats("false_robust_rate", "", "Matched symmetric mocks called robust or reversed", "calibration.false_robust_rate", 3);
-      floats("recovery_rate", "", "Matched mocks with the measured A called robust", "calibration.recovery_rate", 3);
-    }
-  }
-  strings("reason", "Why the verdict is undetermined (empty otherwise) [report.json: verdict_reason]",
-          [](const json& r) { return get_str(r, "verdict_reason"); });
+  ColumnWriter w{t, galaxies};
+  centre_columns(w);
+  split_columns(w);
+  robustness_columns(w);
+  calibration_columns(w);
+  w.strings("reason", "Why the verdict is undetermined (empty otherwise) [report.json: verdict_reason]",
+            [](const GalaxySummary& g) {
+              return g.verdict == robustness::Verdict::undetermined ? g.undetermined_reason : std::string();
+            });
   // Common flux unit: put it on the flux columns.
   std::set<std::string> units;
-  for (const auto& r : reports)
-    if (!get_str(r, "split.flux_unit").empty()) units.insert(get_str(r, "split.flux_unit"));
+  for (const auto& g : galaxies)
+    if (!flux_unit(g).empty()) units.insert(flux_unit(g));
   if (units.size() == 1 && (*units.begin() == "Jy km/s" || *units.begin() == "Jy km / s"))
     for (auto& c : t.columns)
       if (c.name == "leading_flux" || c.name == "trailing_flux") c.unit = "Jy km / s";
   return t;
 }
 
-report::Table paper_table(const std::vector<json>& reports) {
-  report::Table full = robustness_table(reports);
+report::Table paper_table(const std::vector<GalaxySummary>& galaxies) {
+  report::Table full = robustness_table(galaxies);
   report::Table t;
   t.name = "robustness";
   t.caption = "Robustness of the leading-side excess. A at the adopted centre with its bootstrap 95% interval, "
@@ -248,13 +284,14 @@ report::Table paper_table(const std::vector<json>& reports) {
   return t;
 }
 
-json sample_statistics(const std::vector<json>& reports) {
+json sample_statistics(const std::vector<GalaxySummary>& galaxies) {
   std::vector<report::GalaxyOutcome> g;
   std::vector<std::string> verdicts;
-  for (const auto& r : reports) {
+  for (const auto& r : galaxies) {
     report::GalaxyOutcome o;
-    std::string v = get_str(r, "verdict");
-    double a = get_num(r, "split.asymmetry"), p = get_num(r, "robustness.p_leading");
+    const std::string v = verdict_of(r);
+    const double a = split_value(r, &split::SplitSummary::asymmetry);
+    const double p = boot_value(r, &robustness::BootstrapSummary::p_positive);
     o.determined = v != "undetermined" && std::isfinite(a) && std::isfinite(p);
     o.asymmetry = std::isfinite(a) ? a : 0.0;
     o.p_leading = std::isfinite(p) ? p : 0.5;
@@ -273,40 +310,36 @@ json sample_statistics(const std::vector<json>& reports) {
   return j;
 }
 
-std::string summary_text(const std::vector<json>& reports) {
+std::string summary_text(const std::vector<GalaxySummary>& galaxies) {
   std::ostringstream os;
   std::size_t w = 6;
-  for (const auto& r : reports) w = std::max(w, get_str(r, "galaxy").size());
+  for (const auto& r : galaxies) w = std::max(w, r.input.name.size());
   char line[512];
   std::snprintf(line, sizeof line, "%-*s  %-16s  %7s  %6s  %8s  %9s\n", static_cast<int>(w), "galaxy", "verdict", "A",
                 "P(A>0)", "flip(\")", "plaus.(\")");
   os << line;
-  for (const auto& r : reports) {
-    std::snprintf(line, sizeof line, "%-*s  %-16s  %7s  %6s  %8s  %9s\n", static_cast<int>(w),
-                  get_str(r, "galaxy").c_str(), get_str(r, "verdict").c_str(),
-                  fmt_or_dash(get_num(r, "split.asymmetry"), 3).c_str(),
-                  fmt_or_dash(get_num(r, "robustness.p_leading"), 3).c_str(),
-                  fmt_or_dash(get_num(r, "robustness.flip_distance_arcsec"), 2).c_str(),
-                  fmt_or_dash(get_num(r, "robustness.farthest_plausible_arcsec"), 2).c_str());
+  for (const auto& r : galaxies) {
+    std::snprintf(line, sizeof line, "%-*s  %-16s  %7s  %6s  %8s  %9s\n", static_cast<int>(w), r.input.name.c_str(),
+                  verdict_of(r).c_str(), fmt_or_dash(split_value(r, &split::SplitSummary::asymmetry), 3).c_str(),
+                  fmt_or_dash(boot_value(r, &robustness::BootstrapSummary::p_positive), 3).c_str(),
+                  fmt_or_dash(flip_arcsec(r), 2).c_str(), fmt_or_dash(farthest(r), 2).c_str());
     os << line;
   }
   return os.str();
 }
 
 namespace {
-report::HtmlGalaxy html_galaxy(const json& r, const fs::path& galaxy_dir) {
+report::HtmlGalaxy html_galaxy(const GalaxySummary& r, const fs::path& galaxy_dir) {
   report::HtmlGalaxy g;
-  g.name = get_str(r, "galaxy");
-  g.verdict = get_str(r, "verdict");
-  g.statement = get_str(r, "statement");
-  if (r.contains("notes"))
-    for (const auto& n : r["notes"]) g.notes.push_back(n.get<std::string>());
-  if (r.contains("figures"))
-    for (const auto& f : r["figures"]) {
-      fs::path file = galaxy_dir / f.value("file", "");
-      if (!fs::exists(file)) continue;
-      g.figures.push_back({f.value("id", ""), f.value("caption", ""), read_text(file)});
-    }
+  g.name = r.input.name;
+  g.verdict = verdict_of(r);
+  g.statement = r.statement;
+  g.notes = r.notes;
+  for (const auto& f : r.figures) {
+    fs::path file = galaxy_dir / f.file;
+    if (!fs::exists(file)) continue;
+    g.figures.push_back({f.id, f.caption, read_text(file)});
+  }
   return g;
 }
 
@@ -316,9 +349,9 @@ const char* kFooter =
     "Inputs and their SHA-256 digests are listed in each galaxy's report.json.";
 }  // namespace
 
-void write_galaxy_html(const std::string& dir, const json& rep) {
+void write_galaxy_html(const std::string& dir, const GalaxySummary& rep) {
   report::HtmlSample h;
-  h.title = get_str(rep, "galaxy");
+  h.title = rep.input.name;
   h.subtitle = "Centre and split robustness of the leading-side excess";
   h.table = paper_table({rep});
   h.galaxies.push_back(html_galaxy(rep, fs::path(dir)));
@@ -326,67 +359,44 @@ void write_galaxy_html(const std::string& dir, const json& rep) {
   write_text_file((fs::path(dir) / "report.html").string(), report::sample_html(h));
 }
 
-void write_sample_products(const std::string& out_dir, std::vector<json> reports) {
-  std::stable_sort(reports.begin(), reports.end(), [](const json& a, const json& b) {
-    auto ia = get_int(a, "sample.index"), ib = get_int(b, "sample.index");
-    if (ia != ib) return ia < ib;
-    return get_str(a, "galaxy") < get_str(b, "galaxy");
-  });
-  fs::create_directories(out_dir);
-  fs::path dir(out_dir);
-  report::Table full = robustness_table(reports);
-  std::string sample_name = reports.empty() ? "" : get_str(reports.front(), "sample.name");
-  full.meta = {{"sample", sample_name}, {"software", "fulcrum " + version_string()}};
-  report::write_ecsv((dir / "robustness.ecsv").string(), full);
-  report::write_csv((dir / "robustness.csv").string(), full);
-  report::write_fits((dir / "robustness.fits").string(), full);
-  report::Table paper = paper_table(reports);
-  report::write_latex((dir / "robustness.tex").string(), paper);
-  report::write_markdown((dir / "robustness.md").string(), paper);
+namespace {
 
-  json stats = sample_statistics(reports);
-  json sj = {{"sample", sample_name},
-             {"galaxies", json::array()},
-             {"statistics", stats},
-             {"software", software_info()},
-             {"created_utc", created_utc()}};
-  for (const auto& r : reports)
-    sj["galaxies"].push_back({{"galaxy", get_str(r, "galaxy")}, {"verdict", get_str(r, "verdict")},
-                              {"report", get_str(r, "galaxy") + "/report.json"}});
-  {
-    // Expected number of false robust (or reversed) galaxies: the sum of the
-    // calibrated false-robust rates, beside the number observed.
-    double expected = 0.0, var = 0.0;
-    std::size_t n_cal = 0, observed = 0;
-    for (const auto& r : reports) {
-      if (!r.contains("calibration") || !r["calibration"].is_object()) continue;
-      const double fr = get_num(r, "calibration.false_robust_rate");
-      if (!std::isfinite(fr)) continue;
-      const double e = get_num(r, "calibration.false_robust.err");
-      expected += fr;
-      var += std::isfinite(e) ? e * e : 0.0;
-      ++n_cal;
-      const std::string v = get_str(r, "verdict");
-      observed += (v == "robust" || v == "reversed") ? 1 : 0;
-    }
-    if (n_cal > 0)
-      sj["calibration"] = {{"galaxies_calibrated", n_cal},
-                           {"expected_false_robust", expected},
-                           {"expected_false_robust_err", std::sqrt(var)},
-                           {"observed_robust_or_reversed", observed}};
+std::int64_t sample_index(const GalaxySummary& g) { return g.sample ? g.sample->index : 0; }
+
+// Expected number of false robust (or reversed) galaxies: the sum of the
+// calibrated false-robust rates, beside the number observed (null when no
+// galaxy is calibrated).
+json expected_false_robust(const std::vector<GalaxySummary>& galaxies) {
+  double expected = 0.0, var = 0.0;
+  std::size_t n_cal = 0, observed = 0;
+  for (const auto& g : galaxies) {
+    if (!g.calibration) continue;
+    const double fr = calibration_rate(g, &calibration::CalibrationSummary::false_robust);
+    if (!std::isfinite(fr)) continue;
+    const double e = g.calibration->summary->false_robust.err;
+    expected += fr;
+    var += std::isfinite(e) ? e * e : 0.0;
+    ++n_cal;
+    observed += (g.verdict == robustness::Verdict::robust || g.verdict == robustness::Verdict::reversed) ? 1 : 0;
   }
-  write_text_file((dir / "sample.json").string(), dump_json(sj));
+  if (n_cal == 0) return nullptr;
+  return {{"galaxies_calibrated", n_cal},
+          {"expected_false_robust", expected},
+          {"expected_false_robust_err", std::sqrt(var)},
+          {"observed_robust_or_reversed", observed}};
+}
 
-  // report.html
+void write_sample_html(const fs::path& dir, const std::string& sample_name, const std::vector<GalaxySummary>& galaxies,
+                       const report::Table& paper, const json& stats) {
   report::HtmlSample h;
   h.title = sample_name.empty() ? "fulcrum sample report" : sample_name;
-  h.subtitle = std::to_string(reports.size()) + " galaxies; centre and split robustness of the leading-side excess";
+  h.subtitle = std::to_string(galaxies.size()) + " galaxies; centre and split robustness of the leading-side excess";
   h.table = paper;
   const json& a = stats["all_determined"];
   const json& s = stats["secure_only"];
   auto p = [](const json& v) { return v.is_number() ? report::fmt(v.get<double>(), 4) : std::string("-"); };
   h.stats = {
-      {"galaxies measured", std::to_string(a.value("n", 0)) + " of " + std::to_string(reports.size())},
+      {"galaxies measured", std::to_string(a.value("n", 0)) + " of " + std::to_string(galaxies.size())},
       {"leading excess (A > 0)", std::to_string(a.value("n_leading", 0)) + " of " + std::to_string(a.value("n", 0))},
       {"P(at least that many | no preferred side)", p(a["p_null_sign_test"]) + " (sign test)"},
       {"same, with each galaxy's own P folded in", p(a["p_null_marginal"])},
@@ -394,10 +404,84 @@ void write_sample_products(const std::string& out_dir, std::vector<json> reports
       {"robust among robust + reversed", std::to_string(s.value("n_leading", 0)) + " of " + std::to_string(s.value("n", 0)) +
                                              ", P(null) = " + p(s["p_null_sign_test"])},
   };
-  for (const auto& r : reports) h.galaxies.push_back(html_galaxy(r, dir / get_str(r, "galaxy")));
+  for (const auto& g : galaxies) h.galaxies.push_back(html_galaxy(g, dir / g.input.name));
   h.footer = "Made by fulcrum " + version_string() + kFooter;
   write_text_file((dir / "report.html").string(), report::sample_html(h));
 }
+
+void sort_by_sample_index(std::vector<GalaxySummary>& galaxies) {
+  std::stable_sort(galaxies.begin(), galaxies.end(), [](const GalaxySummary& a, const GalaxySummary& b) {
+    const auto ia = sample_index(a), ib = sample_index(b);
+    if (ia != ib) return ia < ib;
+    return a.input.name < b.input.name;
+  });
+}
+
+}  // namespace
+
+void write_sample_products(const std::string& out_dir, std::vector<GalaxySummary> galaxies) {
+  sort_by_sample_index(galaxies);
+  fs::create_directories(out_dir);
+  fs::path dir(out_dir);
+  report::Table full = robustness_table(galaxies);
+  const std::string sample_name = galaxies.empty() || !galaxies.front().sample ? "" : galaxies.front().sample->name;
+  full.meta = {{"sample", sample_name}, {"software", "fulcrum " + version_string()}};
+  report::write_ecsv((dir / "robustness.ecsv").string(), full);
+  report::write_csv((dir / "robustness.csv").string(), full);
+  report::write_fits((dir / "robustness.fits").string(), full);
+  report::Table paper = paper_table(galaxies);
+  report::write_latex((dir / "robustness.tex").string(), paper);
+  report::write_markdown((dir / "robustness.md").string(), paper);
+
+  json stats = sample_statistics(galaxies);
+  json sj = {{"sample", sample_name},
+             {"galaxies", json::array()},
+             {"statistics", stats},
+             {"software", software_info()},
+             {"created_utc", created_utc()}};
+  for (const auto& g : galaxies)
+    sj["galaxies"].push_back({{"galaxy", g.input.name}, {"verdict", verdict_of(g)},
+                              {"report", g.input.name + "/report.json"}});
+  if (json e = expected_false_robust(galaxies); !e.is_null()) sj["calibration"] = e;
+  write_text_file((dir / "sample.json").string(), dump_json(sj));
+  write_sample_html(dir, sample_name, galaxies, paper, stats);
+}
+
+namespace {
+
+// One galaxy of a sample run: its maps (from its cube when given), the
+// analysis, its outputs, and the summary as report.json says it.
+GalaxySummary run_one(const GalaxyInput& g, const AnalysisOptions& ao, const SampleRef& ref, const fs::path& out) {
+  GalaxyResult res;
+  std::string failed;
+  try {
+    GalaxyInput maps;
+    try {
+      maps = make_maps_from_cube(g, (out / g.name).string());
+    } catch (const InputError& e) {
+      failed = std::string("the moment maps could not be made from the cube: ") + e.what();
+    }
+    if (failed.empty()) res = analyse_galaxy(maps, ao);
+  } catch (const std::exception& e) {
+    failed = std::string("the analysis stopped: ") + e.what();
+  }
+  if (!failed.empty()) {
+    // One failing galaxy must not stop the others.
+    res = GalaxyResult{};
+    res.name = g.name;
+    res.summary = failed_galaxy(g, failed, ao);
+  }
+  res.summary.sample = ref;
+  res.report = to_json(res.summary);
+  try {
+    write_galaxy_outputs(res, (out / g.name).string());
+  } catch (const std::exception& e) {
+    warn(g.name + ": could not write its outputs: " + e.what());
+  }
+  return read_report(res.report, g.name);
+}
+
+}  // namespace
 
 RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
   if (o.out_dir.empty()) throw InputError("", "--out DIR is required");
@@ -410,7 +494,7 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
   for (std::size_t i = 0; i < manifest.galaxies.size(); ++i) index[manifest.galaxies[i].name] = static_cast<int>(i);
   fs::create_directories(out);
 
-  std::vector<json> reports(selected.size());
+  std::vector<GalaxySummary> galaxies(selected.size());
   Progress progress("galaxies", selected.size());
   const int n = static_cast<int>(selected.size());
   const int threads = o.threads > 0 ? o.threads : omp_get_max_threads();
@@ -423,39 +507,15 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
     ao.calibrate = manifest.calibrate;
     ao.figures = o.figures;
     ao.bootstrap_from_estimates = o.bootstrap_from_estimates;
-    GalaxyResult res;
-    std::string failed;
-    try {
-      // A galaxy given as a cube: its maps are made into its folder first.
-      GalaxyInput maps;
-      try {
-        maps = make_maps_from_cube(g, (out / g.name).string());
-      } catch (const InputError& e) {
-        failed = std::string("the moment maps could not be made from the cube: ") + e.what();
-      }
-      if (failed.empty()) res = analyse_galaxy(maps, ao);
-    } catch (const std::exception& e) {
-      failed = std::string("the analysis stopped: ") + e.what();
-    }
-    if (!failed.empty()) {
-      // One failing galaxy must not stop the others.
-      res.name = g.name;
-      res.report = minimal_failure_report(g, failed, ao);
-    }
-    res.report["sample"] = {{"name", manifest.name}, {"manifest", manifest.path}, {"index", index[g.name]},
-                            {"seed", o.seed.value_or(manifest.seed)}};
-    try {
-      write_galaxy_outputs(res, (out / g.name).string());
-    } catch (const std::exception& e) {
-      warn(g.name + ": could not write its outputs: " + e.what());
-    }
-    reports[i] = std::move(res.report);
+    const SampleRef ref{manifest.name, manifest.path, index[g.name], o.seed.value_or(manifest.seed)};
+    galaxies[i] = run_one(g, ao, ref, out);
+#pragma omp critical(sample_progress)
     progress.advance();
   }
   progress.finish();
-  write_sample_products(o.out_dir, reports);
+  write_sample_products(o.out_dir, galaxies);
   RunSummary s;
-  s.reports = reports;
+  s.galaxies = galaxies;
   s.out_dir = o.out_dir;
   s.html_path = (out / "report.html").string();
   return s;
@@ -467,7 +527,7 @@ RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string
   if (fs::exists(out / "sample.json") && !overwrite &&
       std::find(dirs.begin(), dirs.end(), out_dir) == dirs.end())
     throw InputError(out_dir, "already holds a sample run (sample.json); use --force to overwrite");
-  std::vector<json> reports;
+  std::vector<GalaxySummary> galaxies;
   std::map<std::string, std::string> seen;
   std::set<std::string> sample_names;
   for (const auto& d : dirs) {
@@ -478,33 +538,26 @@ RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string
     std::sort(sub.begin(), sub.end());
     if (sub.empty()) throw InputError(d, "holds no <galaxy>/report.json");
     for (const auto& p : sub) {
-      json rep;
-      try {
-        rep = json::parse(read_text(p / "report.json"));
-      } catch (const json::exception& e) {
-        throw InputError((p / "report.json").string(), std::string("is not valid JSON: ") + e.what());
-      }
-      std::string name = get_str(rep, "galaxy");
-      if (name.empty()) throw InputError((p / "report.json").string(), "has no galaxy name");
-      if (seen.count(name))
-        throw InputError((p / "report.json").string(), "galaxy '" + name + "' is also in " + seen[name]);
-      seen[name] = (p / "report.json").string();
-      sample_names.insert(get_str(rep, "sample.name"));
+      const std::string file = (p / "report.json").string();
+      GalaxySummary g = read_report_file(file);
+      if (seen.count(g.input.name)) throw InputError(file, "galaxy '" + g.input.name + "' is also in " + seen[g.input.name]);
+      seen[g.input.name] = file;
+      sample_names.insert(g.sample ? g.sample->name : "");
       fs::path dest = out / p.filename();
       if (fs::weakly_canonical(dest) != fs::weakly_canonical(p)) {
         fs::create_directories(dest);
         fs::copy(p, dest, fs::copy_options::recursive | fs::copy_options::overwrite_existing);
       }
-      reports.push_back(std::move(rep));
+      galaxies.push_back(std::move(g));
     }
   }
   if (sample_names.size() > 1) warn("merging galaxies from differently named samples; the first name is used");
-  write_sample_products(out_dir, reports);
+  write_sample_products(out_dir, galaxies);
   RunSummary s;
-  std::stable_sort(reports.begin(), reports.end(), [](const json& a, const json& b) {
-    return get_int(a, "sample.index") < get_int(b, "sample.index");
+  std::stable_sort(galaxies.begin(), galaxies.end(), [](const GalaxySummary& a, const GalaxySummary& b) {
+    return sample_index(a) < sample_index(b);
   });
-  s.reports = reports;
+  s.galaxies = galaxies;
   s.out_dir = out_dir;
   s.html_path = (out / "report.html").string();
   return s;

@@ -50,8 +50,9 @@ calibration::MatchedInputs inputs_for(const synth::MockGalaxy& g, const synth::M
   in.intensity_error = &p.intensity_error;
   in.velocity = &p.velocity;
   in.velocity_error = &p.velocity_error;
-  in.centre = {g.ra_deg, g.dec_deg};
-  in.centre_covariance << 0.16, 0.0, 0.0, 0.16;  // (0.4 arcsec)^2: a plausible fitted-centre error
+  Eigen::Matrix2d cov;
+  cov << 0.16, 0.0, 0.0, 0.16;  // (0.4 arcsec)^2: a plausible fitted-centre error
+  in.centre = measured_centre(CentreMethod::kinematic_rings, {g.ra_deg, g.dec_deg}, cov, "velocity map");
   in.pa_deg = g.pa_deg;
   in.inc_deg = g.inc_deg;
   in.vsys_kms = g.vsys_kms;
@@ -73,15 +74,15 @@ calibration::MatchedInputs inputs_for(const synth::MockGalaxy& g, const synth::M
 robustness::AnalysisOptions direct_options(const calibration::MatchedInputs& in, const Image* err,
                                            std::uint64_t seed, std::size_t draws) {
   robustness::AnalysisOptions ao;
-  ao.adopted.name = "truth";
-  ao.adopted.position = in.centre;
-  ao.adopted.covariance = in.centre_covariance;
+  ao.adopted = in.centre;
+  ao.adopted.method = CentreMethod::external;
+  ao.adopted.label = "truth";
   ao.tail_pa_deg = in.tail_pa_deg;
   ao.tail_pa_err_deg = in.tail_pa_err_deg;
   ao.aperture = in.aperture;
   ao.error_map = err;
-  ao.seed = seed;
-  ao.n_draws = draws;
+  ao.settings.seed = seed;
+  ao.settings.n_draws = draws;
   return ao;
 }
 
@@ -139,7 +140,7 @@ TEST_CASE("calibration bias of A matches the directly measured bias on a masked 
   auto in0 = inputs_for(g, p, map, 0.0);
   // True A: the noise-free model with the same mask, at the true centre.
   split::SplitOptions so;
-  so.centre = in0.centre;
+  so.centre = in0.centre.position;
   so.tail_pa_deg = g.tail_pa_deg;
   so.aperture = in0.aperture;
   const double a_model = split::split_halves(masked(p.intensity_model), so).asymmetry;

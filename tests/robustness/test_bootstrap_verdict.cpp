@@ -141,24 +141,20 @@ AnalysisSummary analyse_mock(double eps, double disc_fraction, std::vector<SkyOf
   const auto maps = test::make_tiny_mock(m);
   AnalysisOptions o;
   o.galaxy = "mock";
-  o.adopted.name = "kinematic";
-  o.adopted.position = m.centre;
-  o.adopted.covariance << 0.01, 0.0, 0.0, 0.01;
+  Eigen::Matrix2d cov;
+  cov << 0.01, 0.0, 0.0, 0.01;
+  o.adopted = measured_centre(CentreMethod::kinematic_rings, m.centre, cov, "test");
   const OffsetFrame frame(m.centre);
   for (const auto& c : others) {
-    WorldCentre w;
-    w.name = "photometric";
-    w.position = frame.to_world(c);
-    w.covariance << 0.01, 0.0, 0.0, 0.01;
-    o.estimates.push_back(w);
+    o.estimates.push_back(measured_centre(CentreMethod::photometric_peak, frame.to_world(c), cov, "test"));
   }
   o.tail_pa_deg = m.tail_pa_deg;
   o.tail_pa_err_deg = 5.0;
   o.aperture = split::ApertureSpec{8.0, 60.0, 0.7, std::nullopt};
   o.rms = m.rms;
-  o.n_draws = 2000;
-  o.bootstrap_estimates = bootstrap_estimates;
-  o.verdict.angle_step_deg = 2.5;
+  o.settings.n_draws = 2000;
+  o.settings.bootstrap_estimates = bootstrap_estimates;
+  o.settings.verdict.angle_step_deg = 2.5;
   return analyse(maps.map, o);
 }
 }  // namespace

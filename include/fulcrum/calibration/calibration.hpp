@@ -43,13 +43,6 @@
 
 namespace fulcrum::calibration {
 
-struct PhotometricOffset {
-  std::string name;
-  SkyOffset offset;                                       // from the dynamical centre, arcsec
-  Eigen::Matrix2d covariance = Eigen::Matrix2d::Zero();   // arcsec^2
-  double weight = 1.0;
-};
-
 struct MatchedInputs {
   std::string galaxy = "the galaxy";
   const Image* intensity = nullptr;        // the real line map (grid, WCS, beam, unit, blanks)
@@ -58,16 +51,18 @@ struct MatchedInputs {
   const Image* velocity = nullptr;         // optional: the real velocity map (grid and blanks)
   const Image* velocity_error = nullptr;   // optional per-pixel 1-sigma (km/s)
   double velocity_noise_kms = 5.0;         // used when no velocity error map is given
-  // The fitted kinematics.
-  WorldCoord centre;
-  Eigen::Matrix2d centre_covariance = Eigen::Matrix2d::Zero();
+  // The fitted kinematics: the kinematic tilted-ring centre (position and
+  // covariance in arcsec^2 (east, north); the mocks' true centre).
+  Centre centre;
   double pa_deg = 0.0, inc_deg = 45.0, vsys_kms = 0.0;
   std::vector<double> ring_radius_arcsec, ring_vrot_kms;
   // The split.
   double tail_pa_deg = 0.0, tail_pa_err_deg = 10.0;
   double measured_asymmetry = 0.0;         // A at the adopted centre on the real map
   std::optional<split::ApertureSpec> aperture;
-  std::vector<PhotometricOffset> photometric;
+  // Every other successful centre estimate: placed in the mocks at its real
+  // (east, north) offset from `centre`, scattered by its own covariance.
+  std::vector<Centre> estimates;
 };
 
 // How close the noise-free lopsided mock's A must come to the measured A for
@@ -76,14 +71,15 @@ inline constexpr double kTuningTolerance = 1e-3;
 
 struct CalibrationOptions {
   std::size_t n_mocks = 100;        // per set (symmetric and lopsided)
-  std::uint64_t seed = 1;           // the galaxy seed
-  std::size_t n_draws = 2000;       // bootstrap draws per mock analysis
+  std::uint64_t seed = 1;           // the galaxy seed (mock seeds derive from it)
+  std::size_t n_draws = 2000;       // bootstrap draws per mock analysis (replaces chain.n_draws)
   bool refit_centre = true;         // re-fit the kinematic centre on the mocks
   std::size_t refit_every = 1;      // re-fit on mocks with index % refit_every == 0
   double profile_bin_beams = 0.5;   // annulus width for the gas profile
   int secant_steps = 6;
-  bool bootstrap_from_estimates = false;  // as the analysis being calibrated (robustness::AnalysisOptions)
-  robustness::VerdictOptions verdict;
+  // The settings of the analysis being calibrated (bootstrap centres,
+  // verdict thresholds); chain.seed and chain.n_draws are replaced per mock.
+  robustness::ChainSettings chain;
   bool progress = true;
 };
 
@@ -142,6 +138,21 @@ Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile
 
 // Seed of mock k of set s (splitmix64 of the galaxy seed, s and k).
 std::uint64_t mock_seed(std::uint64_t seed, int set, std::size_t k);
+
+// The centres one mock analysis uses: the adopted (the re-fitted kinematic
+// centre, or the truth with the real covariance), the other estimates, and
+// the failures known before the split (a re-fit that failed).
+struct MockCentres {
+  Centre adopted;
+  std::vector<Centre> estimates;
+  std::vector<std::string> failures;
+};
+
+// The per-mock step of calibrate(): robustness::analyse on `map` with the
+// real tail PA, aperture and noise of `in`, the given centres, and
+// options.chain with seed `chain_seed` and options.n_draws draws.
+robustness::AnalysisSummary analyse_mock(const Image& map, const MatchedInputs& in, const MockCentres& centres,
+                                         const CalibrationOptions& options, std::uint64_t chain_seed);
 
 // Throws InputError when the inputs are unusable (no intensity map, no beam,
 // no noise, an empty rotation curve).

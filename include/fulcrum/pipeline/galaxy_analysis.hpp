@@ -1,19 +1,23 @@
-// One galaxy, the whole chain: read the maps, find the dynamical centre
-// (tilted rings and harmonic expansion), measure photometric centres on an
-// optical image when one is given, compare them, split the line map at
-// every centre estimate, compute the flip distance and the bootstrap, reach
-// the verdict and its sentence, and draw the figures.
+// One galaxy, the whole chain, as a short sequence of typed stages
+// (pipeline/galaxy_stages.hpp):
 //
-// Each step is a stage with a status: "done", "failed" (with the reason),
-// "skipped" (its input is not given) or "missing" (the library for it is not
-// part of this build). A failed or missing stage never produces numbers: the
-// fields it would fill are null in report.json and the verdict becomes
-// "undetermined" with the reason when the split cannot be judged.
+//   inputs -> kinematics -> photometry -> adopted centre -> robustness
+//          -> molecular gas -> calibration -> figures
 //
-// The adopted centre is the kinematic tilted-ring centre when that fit
-// succeeded (DESIGN.md §5); otherwise the harmonic centre; otherwise the
-// first successful photometric centre (profile fit, centroid, peak, ...),
-// and the report says so.
+// Each stage takes typed inputs and returns a typed result; together they
+// fill one GalaxySummary (pipeline/galaxy_summary.hpp). report.json is
+// written from the summary at the edge (pipeline/report_json.hpp).
+//
+// Each stage has a status (stage_status.hpp): done, failed (with the reason)
+// or skipped (its input is not given, or an earlier stage stopped the
+// chain). A failed stage never produces numbers: the fields it would fill
+// are null in report.json and the verdict becomes "undetermined" with the
+// reason when the split cannot be judged.
+//
+// The adopted centre follows pipeline/adopted_centre.hpp (the kinematic
+// tilted-ring centre when that fit succeeded, DESIGN.md section 5). The
+// split, flip distance, bootstrap and verdict are robustness::analyse, the
+// same chain the matched-mock calibration runs on every mock.
 //
 // Determinism: one seed per galaxy drives every random draw; report.json is
 // written with sorted keys and shortest round-trip numbers, and carries one
@@ -27,6 +31,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include "fulcrum/pipeline/galaxy_summary.hpp"
 #include "fulcrum/pipeline/manifest.hpp"
 
 namespace fulcrum::pipeline {
@@ -49,6 +54,12 @@ struct AnalysisOptions {
 // true; anything else is an InputError naming the option.
 bool bootstrap_centres_from_estimates(const std::string& name);
 
+// The settings of the robustness chain for these options (seed, draws,
+// bootstrap centres, default verdict thresholds, figure data when figures
+// are drawn): what analyse_galaxy passes to robustness::analyse and to the
+// calibration.
+robustness::ChainSettings chain_settings(const AnalysisOptions& options);
+
 struct FigureFile {
   std::string id;       // file stem under figures/, e.g. "intensity"
   std::string caption;
@@ -57,9 +68,10 @@ struct FigureFile {
 
 struct GalaxyResult {
   std::string name;
-  nlohmann::json report;             // the content of report.json
+  GalaxySummary summary;             // everything the stages found
+  nlohmann::json report;             // report.json, written from the summary
   std::vector<FigureFile> figures;
-  std::vector<std::string> notes;    // stages missing or failed, for the HTML page
+  std::vector<std::string> notes;    // stages failed, fallbacks, for the HTML page
 };
 
 // Never throws for bad input: an unreadable file or an impossible option
@@ -68,18 +80,5 @@ GalaxyResult analyse_galaxy(const GalaxyInput& input, const AnalysisOptions& opt
 
 // DIR/report.json and DIR/figures/<id>.svg, each written atomically.
 void write_galaxy_outputs(const GalaxyResult& result, const std::string& dir);
-
-// {"velocity": {"path", "sha256"}, ...} for every input file that exists.
-nlohmann::json input_provenance(const GalaxyInput& input);
-
-// The single timestamp field (ISO 8601 UTC), honouring SOURCE_DATE_EPOCH.
-std::string created_utc();
-
-// Which stages this build contains: {"kinematics": true, ...}.
-nlohmann::json built_stages();
-
-// The JSON dump used for every report file: 2-space indent, sorted keys,
-// NaN/inf written as null, trailing newline.
-std::string dump_json(const nlohmann::json& j);
 
 }  // namespace fulcrum::pipeline

@@ -18,7 +18,9 @@
 // DIR. merge_outputs() reads the per-galaxy reports of several DIRs and
 // writes the sample products as if one run had made them: the rows are
 // ordered by each galaxy's position in the manifest (recorded in its
-// report.json), so a merged run equals an unsharded one.
+// report.json), so a merged run equals an unsharded one. Run and merge both
+// build the sample products from what each galaxy's report.json says, read
+// by the one reader (pipeline/report_reader.hpp), so the two cannot differ.
 #pragma once
 
 #include <string>
@@ -44,7 +46,7 @@ struct RunOptions {
 };
 
 struct RunSummary {
-  std::vector<nlohmann::json> reports;  // manifest order
+  std::vector<GalaxySummary> galaxies;  // manifest order, as their report.json says
   std::string out_dir;
   std::string html_path;
 };
@@ -56,23 +58,23 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& options)
 // products there. A galaxy found twice is an error.
 RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string& out_dir, bool overwrite);
 
-// The sample products from reports (sorted by manifest position). Figures
-// are read back from DIR/<galaxy>/figures/ for the HTML.
-void write_sample_products(const std::string& out_dir, std::vector<nlohmann::json> reports);
+// The sample products from the galaxies (sorted by manifest position).
+// Figures are read back from DIR/<galaxy>/figures/ for the HTML.
+void write_sample_products(const std::string& out_dir, std::vector<GalaxySummary> galaxies);
 
 // The supplementary robustness table (one row per galaxy). Every numeric
 // column's description ends with "[report.json: <path>]", the place of the
 // same number in the galaxy's report.json.
-report::Table robustness_table(const std::vector<nlohmann::json>& reports);
+report::Table robustness_table(const std::vector<GalaxySummary>& galaxies);
 // The compact table for LaTeX, Markdown and the HTML page.
-report::Table paper_table(const std::vector<nlohmann::json>& reports);
-nlohmann::json sample_statistics(const std::vector<nlohmann::json>& reports);
+report::Table paper_table(const std::vector<GalaxySummary>& galaxies);
+nlohmann::json sample_statistics(const std::vector<GalaxySummary>& galaxies);
 
 // DIR/report.html for one galaxy analysed with `fulcrum analyse` (figures
 // read from DIR/figures/).
-void write_galaxy_html(const std::string& dir, const nlohmann::json& report);
+void write_galaxy_html(const std::string& dir, const GalaxySummary& galaxy);
 
-// The plain-text summary printed at the end of `run` and `merge`.
-std::string summary_text(const std::vector<nlohmann::json>& reports);
+// The plain-text summary printed at the end of `run`, `merge` and `analyse`.
+std::string summary_text(const std::vector<GalaxySummary>& galaxies);
 
 }  // namespace fulcrum::pipeline

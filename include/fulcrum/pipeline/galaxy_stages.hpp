@@ -1,0 +1,58 @@
+// The stages of the single-galaxy analysis (pipeline/galaxy_analysis.hpp),
+// each a function with typed inputs and a typed result. They throw
+// InputError when their input is unusable; analyse_galaxy turns that into
+// the stage's "failed" status.
+//
+// Units and conventions: as galaxy_summary.hpp.
+#pragma once
+
+#include <optional>
+#include <vector>
+
+#include "fulcrum/kinematics/kinematic_fit.hpp"
+#include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "fulcrum/pipeline/galaxy_summary.hpp"
+
+namespace fulcrum::pipeline {
+
+// inputs: every map named in `input` (the error map must match the intensity grid).
+GalaxyMaps load_galaxy_maps(const GalaxyInput& input);
+
+// kinematics: the settings the pipeline uses (both methods, defaults).
+kinematics::KinematicOptions kinematic_options_for(const GalaxyInput& input);
+// The tilted-ring and harmonic centres. The intensity map weights the
+// beam-smearing correction; when it cannot, the fit falls back to uniform
+// weight over the velocity footprint and says so in its notes.
+KinematicsResult fit_kinematic_centres(const GalaxyMaps& maps, const kinematics::KinematicOptions& options);
+
+// photometry: every photometric estimator on the optical image (seed of
+// its own stream: galaxy seed XOR "photomet"); compared with the kinematic
+// tilted-ring centre when that is given.
+PhotometryResult measure_photometry(const GalaxyMaps& maps, const GalaxyInput& input, std::uint64_t seed,
+                                    const Centre* kinematic_rings, std::optional<Beam> beam);
+
+// The gas disc from the kinematic fit (PA, inclination, outer ring + half a
+// beam); nullopt without an ok fit.
+std::optional<DiscAperture> disc_aperture(const KinematicsResult* kinematics, std::optional<Beam> beam);
+
+// robustness: robustness::analyse about the adopted centre, with every other
+// centre estimate as a plausible centre.
+robustness::AnalysisSummary measure_robustness(const GalaxyMaps& maps, const GalaxySummary& summary,
+                                               const robustness::ChainSettings& settings);
+
+// molecular gas masses of the halves (informative only); nullopt when no
+// distance or CO line is given.
+std::optional<MolecularGasResult> molecular_gas(const GalaxyInput& input, const split::SplitSummary& split,
+                                                std::optional<double> vsys_kms);
+
+// calibration: matched mocks of this galaxy (calibration/calibration.hpp)
+// from the typed summary and the already-loaded maps.
+calibration::MatchedInputs matched_inputs(const GalaxySummary& summary, const GalaxyMaps& maps);
+CalibrationResult calibrate_verdict(const GalaxySummary& summary, const GalaxyMaps& maps,
+                                    const AnalysisOptions& options);
+
+// figures: every figure of one galaxy (SVG text); notes when incomplete.
+std::vector<FigureFile> galaxy_figures(const GalaxyMaps& maps, const GalaxySummary& summary,
+                                       const AnalysisOptions& options, std::vector<std::string>& notes);
+
+}  // namespace fulcrum::pipeline

@@ -1,0 +1,26 @@
+// The inputs stage: read every map of one galaxy once (see
+// include/fulcrum/pipeline/galaxy_stages.hpp).
+#include "fulcrum/core/error.hpp"
+#include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/pipeline/galaxy_stages.hpp"
+
+namespace fulcrum::pipeline {
+
+GalaxyMaps load_galaxy_maps(const GalaxyInput& in) {
+  GalaxyMaps m;
+  auto optional_map = [](const std::string& path, std::optional<Image>& into) {
+    if (!path.empty()) into = read_image(path);
+  };
+  m.velocity = read_image(in.velocity);
+  m.intensity = read_image(in.intensity);
+  optional_map(in.velocity_error, m.velocity_error);
+  optional_map(in.intensity_error, m.intensity_error);
+  optional_map(in.optical, m.optical);
+  optional_map(in.optical_mask, m.optical_mask);
+  optional_map(in.tail_image, m.tail_image);
+  if (m.intensity_error && (m.intensity_error->nx != m.intensity->nx || m.intensity_error->ny != m.intensity->ny))
+    throw InputError(in.intensity_error, "is not on the grid of the intensity map " + in.intensity);
+  return m;
+}
+
+}  // namespace fulcrum::pipeline
