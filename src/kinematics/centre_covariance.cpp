@@ -115,94 +115,121 @@ Matrix5d correlated_outer_sum(const SampleGrid& g, const std::vector<Eigen::Matr
   return out + half + half.transpose();
 }
 
-GeometryCovariance geometry_covariance(const VelocitySamples& s, const GlobalFitSummary& fit,
-                                       const GeometryCovarianceOptions& opt) {
-  GeometryCovariance out;
+namespace {
+
+// The weighted least-squares problem at the solution: free columns
+// (geometry first, then node speeds with pixels), Jacobian rows, weights,
+// normalised residuals and the normal matrix A = J^T W J.
+struct NormalSystem {
+  std::vector<int> gcol, ncol, rcol;  // column of each geometry parameter / node (-1: none)
+  int p = 0, ngeom = 0, used = 0;
+  std::vector<Row> rows;
+  std::vector<double> w, z;
+  double zz = 0.0;                    // sum of z^2
+  Eigen::MatrixXd A;
+};
+
+NormalSystem build_normal_system(const VelocitySamples& s, const GlobalFitSummary& fit,
+                                 const GeometryCovarianceOptions& opt) {
+  NormalSystem ns;
   const std::size_t n = s.size();
-  if (fit.used.size() != n || fit.nodes.empty()) {
-    out.reason = "the fit has no used pixels";
-    return out;
-  }
-  const bool radial = opt.radial;
   const int nn = static_cast<int>(fit.nodes.size());
-  // Free columns: geometry first, then node speeds with pixels.
   const bool fixed[5] = {opt.fix_centre, opt.fix_centre, opt.fix_pa, opt.fix_inc, opt.fix_vsys};
-  std::vector<int> gcol(5, -1), ncol(nn, -1), rcol(nn, -1);
-  int p = 0;
+  ns.gcol.assign(5, -1);
+  ns.ncol.assign(nn, -1);
+  ns.rcol.assign(nn, -1);
   for (int q = 0; q < 5; ++q)
-    if (!fixed[q]) gcol[q] = p++;
-  const int ngeom = p;
+    if (!fixed[q]) ns.gcol[q] = ns.p++;
+  ns.ngeom = ns.p;
   for (int k = 0; k < nn; ++k)
-    if (fit.nodes[k].n_pixels > 0) ncol[k] = p++;
-  if (radial)
+    if (fit.nodes[k].n_pixels > 0) ns.ncol[k] = ns.p++;
+  if (opt.radial)
     for (int k = 0; k < nn; ++k)
-      if (fit.nodes[k].n_pixels > 0) rcol[k] = p++;
-  // Rows, weights, the normal matrix A and the normalised residuals.
-  std::vector<Row> rows(n);
-  std::vector<double> w(n, 0.0), z(n, 0.0);
-  Eigen::MatrixXd A = Eigen::MatrixXd::Zero(p, p);
+      if (fit.nodes[k].n_pixels > 0) ns.rcol[k] = ns.p++;
+  ns.rows.resize(n);
+  ns.w.assign(n, 0.0);
+  ns.z.assign(n, 0.0);
+  ns.A = Eigen::MatrixXd::Zero(ns.p, ns.p);
   const DiscGeometry& g = fit.geometry;
   const double pa = g.pa_deg * kRad, inc = g.inc_deg * kRad;
-  double zz = 0.0;
-  int used = 0;
   for (std::size_t i = 0; i < n; ++i) {
     if (!fit.used[i]) continue;
     double X, Y;
     disc_plane(s.east[i], s.north[i], g.centre.east, g.centre.north, std::cos(pa), std::sin(pa),
                std::cos(inc), &X, &Y);
     const double R = std::hypot(X, Y);
-    const double cos_t = R > 0 ? X / R : 0.0;
-    w[i] = std::pow(std::abs(cos_t), opt.weight_power) / (s.sigma[i] * s.sigma[i]);
-    rows[i] = jacobian_row(g, fit.nodes, s.east[i], s.north[i]);
-    z[i] = (s.velocity[i] - model_at(g, fit.nodes, s.east[i], s.north[i])) / s.sigma[i];
-    zz += z[i] * z[i];
-    ++used;
-    // Sparse row -> (column, value) pairs.
+    ns.w[i] = std::pow(std::abs(R > 0 ? X / R : 0.0), opt.weight_power) / (s.sigma[i] * s.sigma[i]);
+    ns.rows[i] = jacobian_row(g, fit.nodes, s.east[i], s.north[i]);
+    ns.z[i] = (s.velocity[i] - model_at(g, fit.nodes, s.east[i], s.north[i])) / s.sigma[i];
+    ns.zz += ns.z[i] * ns.z[i];
+    ++ns.used;
+    // Sparse row -> (column, value) pairs, accumulated into A.
     std::array<std::pair<int, double>, 9> nz;
     int m = 0;
     for (int q = 0; q < 5; ++q)
-      if (gcol[q] >= 0) nz[m++] = {gcol[q], rows[i].geom[q]};
+      if (ns.gcol[q] >= 0) nz[m++] = {ns.gcol[q], ns.rows[i].geom[q]};
     for (int t = 0; t < 2; ++t) {
-      const int k = rows[i].node[t];
+      const int k = ns.rows[i].node[t];
       if (k < 0) continue;
-      if (ncol[k] >= 0) nz[m++] = {ncol[k], rows[i].dvrot[t]};
-      if (radial && rcol[k] >= 0) nz[m++] = {rcol[k], rows[i].dvrad[t]};
+      if (ns.ncol[k] >= 0) nz[m++] = {ns.ncol[k], ns.rows[i].dvrot[t]};
+      if (opt.radial && ns.rcol[k] >= 0) nz[m++] = {ns.rcol[k], ns.rows[i].dvrad[t]};
     }
     for (int a = 0; a < m; ++a)
-      for (int b = 0; b < m; ++b) A(nz[a].first, nz[b].first) += w[i] * nz[a].second * nz[b].second;
+      for (int b = 0; b < m; ++b) ns.A(nz[a].first, nz[b].first) += ns.w[i] * nz[a].second * nz[b].second;
   }
-  out.n_used = used;
-  out.n_parameters = p;
-  if (used <= p) {
+  return ns;
+}
+
+// v_i = sigma_i w_i J_i A^-1[:, geometry], in the 5-slot layout (zero for
+// fixed parameters and unused samples).
+std::vector<Eigen::Matrix<double, 5, 1>> influence(const NormalSystem& ns, const Eigen::MatrixXd& Ainv,
+                                                   const VelocitySamples& s,
+                                                   const std::vector<unsigned char>& used, bool radial) {
+  const Eigen::MatrixXd G = Ainv.leftCols(ns.ngeom);
+  std::vector<Eigen::Matrix<double, 5, 1>> v(s.size(), Eigen::Matrix<double, 5, 1>::Zero());
+  for (std::size_t i = 0; i < s.size(); ++i) {
+    if (!used[i]) continue;
+    Eigen::RowVectorXd jg = Eigen::RowVectorXd::Zero(ns.ngeom);
+    for (int q = 0; q < 5; ++q)
+      if (ns.gcol[q] >= 0) jg += ns.rows[i].geom[q] * G.row(ns.gcol[q]);
+    for (int t = 0; t < 2; ++t) {
+      const int k = ns.rows[i].node[t];
+      if (k < 0) continue;
+      if (ns.ncol[k] >= 0) jg += ns.rows[i].dvrot[t] * G.row(ns.ncol[k]);
+      if (radial && ns.rcol[k] >= 0) jg += ns.rows[i].dvrad[t] * G.row(ns.rcol[k]);
+    }
+    for (int q = 0; q < 5; ++q)
+      if (ns.gcol[q] >= 0) v[i](q) = ns.w[i] * s.sigma[i] * jg(ns.gcol[q]);
+  }
+  return v;
+}
+
+}  // namespace
+
+GeometryCovariance geometry_covariance(const VelocitySamples& s, const GlobalFitSummary& fit,
+                                       const GeometryCovarianceOptions& opt) {
+  GeometryCovariance out;
+  if (fit.used.size() != s.size() || fit.nodes.empty()) {
+    out.reason = "the fit has no used pixels";
+    return out;
+  }
+  const NormalSystem ns = build_normal_system(s, fit, opt);
+  out.n_used = ns.used;
+  out.n_parameters = ns.p;
+  if (ns.used <= ns.p) {
     out.reason = "fewer used pixels than parameters";
     return out;
   }
-  Eigen::LDLT<Eigen::MatrixXd> ldlt(A);
+  Eigen::LDLT<Eigen::MatrixXd> ldlt(ns.A);
   if (ldlt.info() != Eigen::Success || !(ldlt.vectorD().minCoeff() > 0)) {
     out.reason = "the normal matrix is singular";
     return out;
   }
-  const Eigen::MatrixXd Ainv = ldlt.solve(Eigen::MatrixXd::Identity(p, p));
+  const Eigen::MatrixXd Ainv = ldlt.solve(Eigen::MatrixXd::Identity(ns.p, ns.p));
   for (int a = 0; a < 5; ++a)
     for (int b = 0; b < 5; ++b)
-      out.formal(a, b) = (gcol[a] >= 0 && gcol[b] >= 0) ? Ainv(gcol[a], gcol[b]) : 0.0;
-  // u_i = w_i J_i A^-1[:, geometry], then v_i = sigma_i u_i.
-  const Eigen::MatrixXd G = Ainv.leftCols(ngeom);
-  std::vector<Eigen::Matrix<double, 5, 1>> v(n, Eigen::Matrix<double, 5, 1>::Zero());
-  for (std::size_t i = 0; i < n; ++i) {
-    if (!fit.used[i]) continue;
-    Eigen::RowVectorXd jg = Eigen::RowVectorXd::Zero(ngeom);
-    for (int q = 0; q < 5; ++q)
-      if (gcol[q] >= 0) jg += rows[i].geom[q] * G.row(gcol[q]);
-    for (int t = 0; t < 2; ++t) {
-      const int k = rows[i].node[t];
-      if (k < 0) continue;
-      if (ncol[k] >= 0) jg += rows[i].dvrot[t] * G.row(ncol[k]);
-      if (radial && rcol[k] >= 0) jg += rows[i].dvrad[t] * G.row(rcol[k]);
-    }
-    for (int q = 0; q < 5; ++q)
-      if (gcol[q] >= 0) v[i](q) = w[i] * s.sigma[i] * jg(gcol[q]);
-  }
+      out.formal(a, b) = (ns.gcol[a] >= 0 && ns.gcol[b] >= 0) ? Ainv(ns.gcol[a], ns.gcol[b]) : 0.0;
+  const auto v = influence(ns, Ainv, s, fit.used, opt.radial);
   // Residual correlation, then the residual scale. With noise correlated
   // over eta pixels each fitted parameter absorbs about eta pixels' worth of
   // residual variance (E sum r^2 ~ sigma^2 (N - p eta) for parameters whose
@@ -211,17 +238,18 @@ GeometryCovariance geometry_covariance(const VelocitySamples& s, const GlobalFit
   const SampleGrid grid = make_sample_grid(s, fit.used);
   const Beam beam = s.beam.value_or(Beam{});
   out.model_correlation_scale = std::sqrt(2.0);  // noise white before the beam
-  out.correlation = measure_residual_correlation(grid, z, fit.used, beam, opt.correlation);
+  out.correlation = measure_residual_correlation(grid, ns.z, fit.used, beam, opt.correlation);
   const double area = std::abs(grid.jacobian.determinant());
   const double eta = s.beam && grid.jacobian_ok ? out.correlation.correlation.correlated_pixels(area) : 1.0;
-  out.effective_dof = std::max(0.25 * used, used - p * eta);
-  out.residual_scale2_measured = zz / out.effective_dof;
+  out.effective_dof = std::max(0.25 * ns.used, ns.used - ns.p * eta);
+  out.residual_scale2_measured = ns.zz / out.effective_dof;
   out.residual_scale2 = s.has_errors ? std::max(1.0, out.residual_scale2_measured) : out.residual_scale2_measured;
+  const double c_stat2 = s.has_errors ? 1.0 : out.residual_scale2;
   if (!s.beam || !out.correlation.measured) {
     // No beam or no measurement: independent pixels, or the beam model.
     const NoiseCorrelation c = s.beam ? noise_correlation_of_beam(*s.beam) : NoiseCorrelation{};
     const Matrix5d sum = correlated_outer_sum(grid, v, c, opt.reach_sigma);
-    out.statistical = (s.has_errors ? 1.0 : out.residual_scale2) * sum;
+    out.statistical = c_stat2 * sum;
     out.total = out.residual_scale2 * sum;
   } else {
     const double s_stat = std::min(out.correlation.scale, out.model_correlation_scale);
@@ -230,7 +258,7 @@ GeometryCovariance geometry_covariance(const VelocitySamples& s, const GlobalFit
     const Matrix5d sum_all = out.correlation.scale == s_stat
                                  ? sum_stat
                                  : correlated_outer_sum(grid, v, out.correlation.correlation, opt.reach_sigma);
-    out.statistical = (s.has_errors ? 1.0 : out.residual_scale2) * sum_stat;
+    out.statistical = c_stat2 * sum_stat;
     out.total = out.residual_scale2 * sum_all;
   }
   out.ok = out.total.allFinite() && out.total(0, 0) > 0 && out.total(1, 1) > 0;
