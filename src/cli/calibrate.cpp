@@ -53,8 +53,9 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
   // The analysis: a finished one read through the one reader of report.json,
   // or run now. Either way the typed summary gives the matched inputs.
   pipeline::GalaxySummary summary;
+  const std::string report_path = (fs::path(a.from) / "report.json").string();
   if (!a.from.empty()) {
-    summary = pipeline::read_report_file((fs::path(a.from) / "report.json").string());
+    summary = pipeline::read_report_file(report_path);
   } else {
     pipeline::AnalysisOptions o;
     o.seed = a.seed;
@@ -64,7 +65,13 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
     summary = pipeline::analyse_galaxy(in, o).summary;
   }
   const auto maps = pipeline::load_galaxy_maps(in);
-  const auto mi = pipeline::matched_inputs(summary, maps);
+  calibration::MatchedInputs mi;
+  try {
+    mi = pipeline::matched_inputs(summary, maps);
+  } catch (const InputError& e) {
+    if (a.from.empty()) throw;
+    throw InputError(report_path, e.problem());  // name the report the summary came from
+  }
   calibration::CalibrationOptions co;
   co.n_mocks = a.mocks;
   // The galaxy seed of the analysis unless --seed is given.
