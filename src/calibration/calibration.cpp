@@ -53,14 +53,18 @@ double interp_vrot(const MatchedInputs& in, double r) {
   return V[j - 1] + t * (V[j] - V[j - 1]);
 }
 
-// Unit-variance Gaussian noise correlated over the beam.
-std::vector<double> correlated_noise(const Image& grid, const Eigen::Matrix2d& jac,
+// Unit-variance Gaussian noise correlated over the beam: white noise
+// convolved with a Gaussian of the beam's shape and FWHM beam x sqrt(k / 2)
+// has a Gaussian correlation function of FWHM beam x sqrt(k), whose integral
+// is k beam areas (k = noise_correlation_beams; k = 1: the correlation is
+// the beam itself).
+std::vector<double> correlated_noise(const Image& grid, const Eigen::Matrix2d& jac, double k_beams,
                                      robustness::Generator& g) {
   std::vector<double> w(grid.size());
   for (double& v : w) v = g.normal();
   if (!grid.beam) return w;
-  Beam k{grid.beam->bmaj_arcsec / std::numbers::sqrt2, grid.beam->bmin_arcsec / std::numbers::sqrt2,
-         grid.beam->bpa_deg};
+  const double f = std::sqrt(0.5 * k_beams);
+  Beam k{grid.beam->bmaj_arcsec * f, grid.beam->bmin_arcsec * f, grid.beam->bpa_deg};
   std::vector<double> s = convolve_gaussian(w, grid.nx, grid.ny, pixel_covariance(k, jac));
   double ss = 0.0;
   for (double v : s) ss += v * v;
@@ -126,16 +130,18 @@ RadialProfile gas_profile(const Image& intensity, WorldCoord centre, double pa_d
   return p;
 }
 
-Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile, double e) {
-  const Image& real = *in.intensity;
-  Image m = real.like(0.0);
-  m.path = "mock of " + (real.path.empty() ? in.galaxy : real.path);
-  PixelOffsets off(real, in.centre);
+namespace {
+// The noise-free lopsided disc on any grid (blank where `blanks` is blank,
+// when given on the same grid).
+Image model_on_grid(const Image& grid, const MatchedInputs& in, const RadialProfile& profile, double e) {
+  Image m = grid.like(0.0);
+  m.path = "mock of " + (grid.path.empty() ? in.galaxy : grid.path);
+  PixelOffsets off(grid, in.centre);
   const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
   const double phi_lead = (in.tail_pa_deg + 180.0) * kDeg;
-  for (int y = 0; y < real.ny; ++y)
-    for (int x = 0; x < real.nx; ++x) {
-      if (!std::isfinite(real.at(x, y))) {
+  for (int y = 0; y < grid.ny; ++y)
+    for (int x = 0; x < grid.nx; ++x) {
+      if (!std::isfinite(grid.at(x, y))) {
         m.at(x, y) = std::nan("");
         continue;
       }
@@ -146,9 +152,171 @@ Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile
     }
   return m;
 }
+}  // namespace
 
-CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& opt) {
-  const auto t0 = std::chrono::steady_clock::now();
+Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile, double e) {
+  return model_on_grid(*in.intensity, in, profile, e);
+}
+
+namespace {
+
+// Everything the mocks of one calibration share.
+struct MockSetup {
+  const MatchedInputs& in;
+  const CalibrationOptions& opt;
+  const Image& real;
+  Eigen::Matrix2d jac;
+  Image model[2];                   // noise-free line maps: symmetric, lopsided
+  double truth[2] = {0.0, 0.0};     // their A at the true centre
+  bool refit = false;
+  std::optional<Image> velocity[2];  // noise-free moment-1-like velocity maps
+  Eigen::Matrix2d vjac = Eigen::Matrix2d::Identity();
+};
+
+// The moment-1-like velocity of a beam-convolved cube: (I v) * B / (I * B),
+// I the noise-free line model on the velocity grid, v the tilted-ring model.
+Image smeared_velocity(const MockSetup& m, const RadialProfile& profile, double e) {
+  const Image& vgrid = *m.in.velocity;
+  const PixelOffsets voff(vgrid, m.in.centre);
+  const Image I = model_on_grid(vgrid.like(0.0), m.in, profile, e);
+  const Angle pa = m.in.pa_deg * degrees, inc = m.in.inc_deg * degrees;
+  Image v = vgrid.like(0.0);
+  std::vector<double> iv(v.size()), ii(v.size());
+  for (int y = 0; y < v.ny; ++y)
+    for (int x = 0; x < v.nx; ++x) {
+      const DiscPoint d = disc_coordinates(voff.at(x, y), SkyOffset{0, 0}, pa, inc);
+      const std::size_t i = static_cast<std::size_t>(x) + static_cast<std::size_t>(v.nx) * y;
+      v.data[i] = m.in.vsys_kms + interp_vrot(m.in, d.radius_arcsec) * std::sin(inc.rad()) * d.cos_theta;
+      ii[i] = std::max(0.0, I.data[i]);
+      iv[i] = ii[i] * v.data[i];
+    }
+  const Beam beam = vgrid.beam ? *vgrid.beam : *m.real.beam;
+  const Eigen::Matrix2d K = pixel_covariance(beam, voff.jacobian());
+  const auto num = convolve_gaussian(iv, v.nx, v.ny, K), den = convolve_gaussian(ii, v.nx, v.ny, K);
+  double peak = 0.0;
+  for (double d : den) peak = std::max(peak, d);
+  for (std::size_t i = 0; i < v.size(); ++i)
+    if (den[i] > 1e-9 * peak) v.data[i] = num[i] / den[i];
+  return v;
+}
+
+// Line map of one mock: model + beam-correlated noise, clipped like the data.
+Image noisy_line_map(const MockSetup& m, int set, robustness::Generator& g) {
+  Image map = m.model[set];
+  const std::vector<double> n = correlated_noise(m.real, m.jac, m.in.noise_correlation_beams, g);
+  for (std::size_t i = 0; i < map.size(); ++i) {
+    if (!std::isfinite(map.data[i])) continue;
+    double sig = m.in.intensity_error ? m.in.intensity_error->data[i] : m.in.rms;
+    if (!std::isfinite(sig)) sig = 0.0;
+    map.data[i] += sig * n[i];
+    if (m.in.clip_snr > 0.0 && map.data[i] < m.in.clip_snr * sig)
+      map.data[i] = m.in.clip_blank ? std::nan("") : 0.0;
+  }
+  return map;
+}
+
+// Velocity map of one mock: smeared model + noise with the beam correlation.
+Image noisy_velocity(const MockSetup& m, int set, robustness::Generator& g) {
+  Image vel = *m.velocity[set];
+  const std::vector<double> n = correlated_noise(*m.in.velocity, m.vjac, m.in.noise_correlation_beams, g);
+  for (std::size_t i = 0; i < vel.size(); ++i) {
+    if (!std::isfinite(m.in.velocity->data[i])) {
+      vel.data[i] = std::nan("");
+      continue;
+    }
+    double sig = m.in.velocity_error ? m.in.velocity_error->data[i] : m.in.velocity_noise_kms;
+    if (!std::isfinite(sig)) sig = m.in.velocity_noise_kms;
+    vel.data[i] += sig * n[i];
+  }
+  return vel;
+}
+
+// Re-fit the kinematic centre of one mock into the analysis options.
+void refit_centre(const MockSetup& m, const Image& vel, robustness::AnalysisOptions& ao, MockOutcome& out) {
+  kinematics::KinematicOptions ko;
+  ko.method = kinematics::Method::rings;
+  ko.ring_by_ring = false;
+  ko.pa_guess_deg = m.in.pa_deg;
+  ko.inc_guess_deg = m.in.inc_deg;
+  ko.vsys_guess_kms = m.in.vsys_kms;
+  ko.correct_beam_smearing = m.opt.correct_beam_smearing;  // the mock velocities are smeared like the data
+  auto fit = kinematics::fit_kinematics(vel, m.in.velocity_error, ko);
+  if (fit.status == "ok" && fit.centre) {
+    ao.adopted.position = fit.centre->world;
+    ao.adopted.covariance = fit.centre->covariance;
+    const SkyOffset d = OffsetFrame(fit.centre->world).to_offset(m.in.centre);
+    Eigen::Vector2d dv(d.east, d.north);
+    const Eigen::Matrix2d& C = fit.centre->covariance;
+    out.centre_mahalanobis = C.determinant() > 0 ? std::sqrt(dv.dot(C.inverse() * dv)) : INFINITY;
+  } else {
+    out.centre_fit_ok = false;
+    ao.failures.push_back("the kinematic fit " + fit.status + " (" + fit.reason + ")");
+  }
+}
+
+// Photometric centres: truth + their real offsets, scattered by their own errors.
+void place_photometric(const MatchedInputs& in, robustness::Generator& g, robustness::AnalysisOptions& ao) {
+  const OffsetFrame truth(in.centre);
+  for (const auto& p : in.photometric) {
+    const Eigen::Matrix2d& C = p.covariance;
+    Eigen::Vector2d z(g.normal(), g.normal());
+    Eigen::Vector2d dz = Eigen::Vector2d::Zero();
+    if (C.determinant() > 0) dz = Eigen::Matrix2d(C.llt().matrixL()) * z;
+    robustness::WorldCentre w;
+    w.name = p.name;
+    w.position = truth.to_world(SkyOffset{p.offset.east + dz(0), p.offset.north + dz(1)});
+    w.covariance = C;
+    w.weight = p.weight;
+    ao.estimates.push_back(w);
+  }
+}
+
+void run_mock(const MockSetup& m, int set, std::size_t k, MockOutcome& out) {
+  const MatchedInputs& in = m.in;
+  out.seed = mock_seed(m.opt.seed, set, k);
+  out.true_asymmetry = m.truth[set];
+  try {
+    robustness::Generator g(out.seed);
+    const Image map = noisy_line_map(m, set, g);
+    robustness::AnalysisOptions ao;
+    ao.galaxy = in.galaxy + " mock";
+    ao.adopted.name = "kinematic-rings";
+    ao.adopted.position = in.centre;
+    ao.adopted.covariance = in.centre_covariance;
+    const bool do_refit = m.refit && (m.opt.refit_every <= 1 || k % m.opt.refit_every == 0);
+    out.centre_refitted = do_refit;
+    out.centre_fit_ok = true;
+    if (do_refit) refit_centre(m, noisy_velocity(m, set, g), ao, out);
+    place_photometric(in, g, ao);
+    ao.tail_pa_deg = in.tail_pa_deg;
+    ao.tail_pa_err_deg = in.tail_pa_err_deg;
+    ao.aperture = in.aperture;
+    ao.rms = in.rms;
+    ao.error_map = in.intensity_error;
+    ao.clip_snr = in.clip_snr;  // the same clip-aware errors as the real analysis
+    ao.noise_correlation_beams = in.noise_correlation_beams;
+    ao.seed = splitmix(out.seed ^ 0x626f6f74ull);
+    ao.n_draws = m.opt.n_draws;
+    ao.bootstrap_estimates = m.opt.bootstrap_from_estimates;
+    ao.verdict = m.opt.verdict;
+    const auto a = robustness::analyse(map, ao);
+    out.verdict = robustness::verdict_name(a.verdict.verdict);
+    out.measured_asymmetry = a.split.asymmetry;
+    out.lo68 = a.bootstrap.lo68, out.hi68 = a.bootstrap.hi68;
+    out.lo95 = a.bootstrap.lo95, out.hi95 = a.bootstrap.hi95;
+  } catch (const std::exception& ex) {
+    out.verdict = std::string("error: ") + ex.what();
+    out.measured_asymmetry = std::nan("");
+  }
+}
+
+// A mock whose centre re-fit failed or whose analysis threw says nothing
+// about how often these data fake a result: counted apart.
+bool mock_failed(const MockOutcome& o) {
+  return !std::isfinite(o.measured_asymmetry) || (o.centre_refitted && !o.centre_fit_ok);
+}
+
+void check_inputs(const MatchedInputs& in, const CalibrationOptions& opt) {
   const std::string who = in.galaxy;
   if (!in.intensity) throw InputError(who, "calibration needs the intensity map");
   const Image& real = *in.intensity;
@@ -160,54 +328,120 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
   if (opt.n_mocks == 0) throw InputError(who, "the number of mocks must be positive");
   if (in.intensity_error && (in.intensity_error->nx != real.nx || in.intensity_error->ny != real.ny))
     throw InputError(in.intensity_error->path, "is not on the grid of the intensity map");
-  const bool refit = opt.refit_centre && in.velocity != nullptr;
+  if (!(in.clip_snr >= 0.0)) throw InputError(who, "the clipping threshold (clip_snr) must not be negative");
+  if (!(in.noise_correlation_beams > 0.0))
+    throw InputError(who, "the noise correlation area (noise_correlation_beams) must be positive");
+}
 
-  const RadialProfile profile =
-      gas_profile(real, in.centre, in.pa_deg, in.inc_deg, opt.profile_bin_beams * real.beam->fwhm_arcsec());
-  if (profile.mean.empty()) throw InputError(who, "the intensity map has no positive gas profile");
-
-  CalibrationSummary s;
-  s.galaxy = who;
-  s.n_mocks = opt.n_mocks;
-  s.seed = opt.seed;
-  s.target_asymmetry = in.measured_asymmetry;
-
-  // Tune e so that the noise-free mock has the measured A (secant steps;
-  // A(e) is close to linear, A ~ (2/pi) e for a pure cos term on a half).
-  const Image sym_model = mock_intensity_model(in, profile, 0.0);
-  const double a_sym = split_truth(sym_model, in).asymmetry;
+// Tune e so that the noise-free mock has the measured A (secant steps;
+// A(e) is close to linear, A ~ (2/pi) e for a pure cos term on a half).
+double tune_amplitude(const MatchedInputs& in, const RadialProfile& profile, double a_sym, int steps,
+                      CalibrationSummary& s) {
   double e0 = 0.0, f0 = a_sym - in.measured_asymmetry;
   double e1 = std::clamp(0.5 * std::numbers::pi * in.measured_asymmetry, -0.99, 0.99);
   double f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - in.measured_asymmetry;
-  for (int it = 0; it < opt.secant_steps && std::abs(f1) > 1e-9 && f1 != f0; ++it) {
+  for (int it = 0; it < steps && std::abs(f1) > 1e-9 && f1 != f0; ++it) {
     double e2 = std::clamp(e1 - f1 * (e1 - e0) / (f1 - f0), -0.999, 0.999);
     e0 = e1, f0 = f1, e1 = e2;
     f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - in.measured_asymmetry;
     s.tuning_steps = it + 1;
   }
-  s.lopsided_amplitude = e1;
-  const Image lop_model = mock_intensity_model(in, profile, e1);
-  s.achieved_asymmetry = split_truth(lop_model, in).asymmetry;
-  // The step bound (or the amplitude limit |e| < 1) can stop the tuning short
-  // of the measured A: the statement says so below.
-  s.tuning_converged = std::abs(s.achieved_asymmetry - s.target_asymmetry) <= kTuningTolerance;
-  const double a_lop = s.achieved_asymmetry;
+  return e1;
+}
 
-  PixelOffsets off(real, in.centre);
-  const Eigen::Matrix2d jac = off.jacobian();
-  const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
-  // Velocity model (noise-free), on the velocity grid.
-  std::optional<Image> vel_model;
-  std::optional<PixelOffsets> voff;
-  if (refit) {
-    const Image& v = *in.velocity;
-    vel_model = v.like(0.0);
-    voff.emplace(v, in.centre);
-    for (int y = 0; y < v.ny; ++y)
-      for (int x = 0; x < v.nx; ++x) {
-        DiscPoint d = disc_coordinates(voff->at(x, y), SkyOffset{0, 0}, pa, inc);
-        vel_model->at(x, y) = in.vsys_kms + interp_vrot(in, d.radius_arcsec) * std::sin(inc.rad()) * d.cos_theta;
+void mean_err(double sum, double sum2, std::size_t n, double* m, double* e) {
+  if (n == 0) {
+    *m = *e = std::nan("");
+    return;
+  }
+  *m = sum / static_cast<double>(n);
+  const double var = n > 1 ? (sum2 - static_cast<double>(n) * *m * *m) / static_cast<double>(n - 1) : 0.0;
+  *e = std::sqrt(std::max(0.0, var) / static_cast<double>(n));
+}
+
+// Rates, biases and coverages over the valid mocks (serial, in mock order).
+void summarise(CalibrationSummary& s) {
+  std::size_t fr = 0, rec = 0, nsym = 0, nlop = 0, c68 = 0, c95 = 0, nint = 0, cc = 0, ncc = 0;
+  double sum[2] = {0, 0}, sum2[2] = {0, 0};
+  std::size_t nb[2] = {0, 0};
+  for (int set = 0; set < 2; ++set)
+    for (const auto& o : set == 0 ? s.symmetric : s.lopsided) {
+      if (o.centre_refitted && !o.centre_fit_ok) ++s.centre_fit_failures;
+      if (mock_failed(o)) {
+        ++(set == 0 ? s.symmetric_failures : s.lopsided_failures);
+        continue;
       }
+      if (set == 0) ++nsym, fr += o.verdict == "robust" || o.verdict == "reversed";
+      else ++nlop, rec += o.verdict == "robust";
+      ++nint;
+      c68 += o.lo68 <= o.true_asymmetry && o.true_asymmetry <= o.hi68;
+      c95 += o.lo95 <= o.true_asymmetry && o.true_asymmetry <= o.hi95;
+      if (o.centre_refitted) ++ncc, cc += o.centre_mahalanobis <= 2.0;
+      const double d = o.measured_asymmetry - o.true_asymmetry;
+      sum[set] += d, sum2[set] += d * d, ++nb[set];
+    }
+  s.false_robust = make_rate(fr, nsym);
+  s.recovery = make_rate(rec, nlop);
+  mean_err(sum[1], sum2[1], nb[1], &s.bias, &s.bias_err);
+  mean_err(sum[0], sum2[0], nb[0], &s.bias_symmetric, &s.bias_symmetric_err);
+  s.coverage68 = make_rate(c68, nint);
+  s.coverage95 = make_rate(c95, nint);
+  s.centre_coverage = make_rate(cc, ncc);
+  s.centre_coverage_expected = 1.0 - std::exp(-2.0);
+}
+
+std::string calibration_statement(const CalibrationSummary& s, const CalibrationOptions& opt) {
+  char buf[512];
+  std::snprintf(buf, sizeof buf,
+                "a symmetric disc with these data is called robust or reversed in %.1f%% (+- %.1f%%) of %zu "
+                "matched mocks, and a disc with the measured A = %.3f is called robust in %.1f%% of %zu",
+                100.0 * s.false_robust.rate, 100.0 * s.false_robust.err, s.false_robust.n, s.achieved_asymmetry,
+                100.0 * s.recovery.rate, s.recovery.n);
+  std::string st = buf;
+  if (s.symmetric_failures + s.lopsided_failures > 0) {
+    std::snprintf(buf, sizeof buf, "; %zu symmetric and %zu lopsided mocks failed (centre re-fit or analysis) "
+                  "and are not counted", s.symmetric_failures, s.lopsided_failures);
+    st += buf;
+  }
+  if (!s.tuning_converged) {
+    std::snprintf(buf, sizeof buf,
+                  "; warning: the lopsided mocks reach A = %.3f, not the measured %.3f (amplitude tuning "
+                  "stopped after %d of at most %d secant steps at e = %.3f)",
+                  s.achieved_asymmetry, s.target_asymmetry, s.tuning_steps, opt.secant_steps, s.lopsided_amplitude);
+    st += buf;
+  }
+  return st;
+}
+
+}  // namespace
+
+CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& opt) {
+  const auto t0 = std::chrono::steady_clock::now();
+  check_inputs(in, opt);
+  const Image& real = *in.intensity;
+  const RadialProfile profile =
+      gas_profile(real, in.centre, in.pa_deg, in.inc_deg, opt.profile_bin_beams * real.beam->fwhm_arcsec());
+  if (profile.mean.empty()) throw InputError(in.galaxy, "the intensity map has no positive gas profile");
+
+  CalibrationSummary s;
+  s.galaxy = in.galaxy;
+  s.n_mocks = opt.n_mocks;
+  s.seed = opt.seed;
+  s.target_asymmetry = in.measured_asymmetry;
+  MockSetup m{in, opt, real, PixelOffsets(real, in.centre).jacobian(), {}, {}, false, {}, {}};
+  m.model[0] = mock_intensity_model(in, profile, 0.0);
+  m.truth[0] = split_truth(m.model[0], in).asymmetry;
+  s.lopsided_amplitude = tune_amplitude(in, profile, m.truth[0], opt.secant_steps, s);
+  m.model[1] = mock_intensity_model(in, profile, s.lopsided_amplitude);
+  m.truth[1] = s.achieved_asymmetry = split_truth(m.model[1], in).asymmetry;
+  // The step bound (or the amplitude limit |e| < 1) can stop the tuning short
+  // of the measured A: the statement says so.
+  s.tuning_converged = std::abs(s.achieved_asymmetry - s.target_asymmetry) <= kTuningTolerance;
+  m.refit = opt.refit_centre && in.velocity != nullptr;
+  if (m.refit) {
+    m.vjac = PixelOffsets(*in.velocity, in.centre).jacobian();
+    m.velocity[0] = smeared_velocity(m, profile, 0.0);
+    m.velocity[1] = smeared_velocity(m, profile, s.lopsided_amplitude);
   }
 
   const std::size_t N = opt.n_mocks;
@@ -215,170 +449,23 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
   s.lopsided.assign(N, {});
   Progress progress("calibration mocks", 2 * N);
   const long total = static_cast<long>(2 * N);
-
 #pragma omp parallel for schedule(dynamic, 1)
   for (long task = 0; task < total; ++task) {
     const int set = task < static_cast<long>(N) ? 0 : 1;
     const std::size_t k = static_cast<std::size_t>(set == 0 ? task : task - static_cast<long>(N));
-    MockOutcome& out = set == 0 ? s.symmetric[k] : s.lopsided[k];
-    out.seed = mock_seed(opt.seed, set, k);
-    out.true_asymmetry = set == 0 ? a_sym : a_lop;
-    try {
-      robustness::Generator g(out.seed);
-      // Line map: model + beam-correlated noise.
-      Image map = set == 0 ? sym_model : lop_model;
-      std::vector<double> n = correlated_noise(real, jac, g);
-      for (std::size_t i = 0; i < map.size(); ++i) {
-        if (!std::isfinite(map.data[i])) continue;
-        const double sig = in.intensity_error ? in.intensity_error->data[i] : in.rms;
-        map.data[i] += (std::isfinite(sig) ? sig : 0.0) * n[i];
-      }
-      // The kinematic centre.
-      robustness::AnalysisOptions ao;
-      ao.galaxy = in.galaxy + " mock";
-      ao.adopted.name = "kinematic-rings";
-      ao.adopted.position = in.centre;
-      ao.adopted.covariance = in.centre_covariance;
-      const bool do_refit = refit && (opt.refit_every <= 1 || k % opt.refit_every == 0);
-      out.centre_refitted = do_refit;
-      out.centre_fit_ok = true;
-      if (do_refit) {
-        Image vel = *vel_model;
-        for (std::size_t i = 0; i < vel.size(); ++i) {
-          if (!std::isfinite(in.velocity->data[i])) {
-            vel.data[i] = std::nan("");
-            continue;
-          }
-          double sig = in.velocity_error ? in.velocity_error->data[i] : in.velocity_noise_kms;
-          if (!std::isfinite(sig)) sig = in.velocity_noise_kms;
-          vel.data[i] += sig * g.normal();
-        }
-        kinematics::KinematicOptions ko;
-        ko.method = kinematics::Method::rings;
-        ko.ring_by_ring = false;
-        ko.pa_guess_deg = in.pa_deg;
-        ko.inc_guess_deg = in.inc_deg;
-        ko.vsys_guess_kms = in.vsys_kms;
-        // These mock velocity maps are the intrinsic (unsmeared) model plus
-        // noise, so there is no beam smearing to correct.
-        ko.correct_beam_smearing = false;
-        auto fit = kinematics::fit_kinematics(vel, in.velocity_error, ko);
-        if (fit.status == "ok" && fit.centre) {
-          ao.adopted.position = fit.centre->world;
-          ao.adopted.covariance = fit.centre->covariance;
-          const SkyOffset d = OffsetFrame(fit.centre->world).to_offset(in.centre);
-          Eigen::Vector2d dv(d.east, d.north);
-          const Eigen::Matrix2d& C = fit.centre->covariance;
-          out.centre_mahalanobis = C.determinant() > 0 ? std::sqrt(dv.dot(C.inverse() * dv)) : INFINITY;
-        } else {
-          out.centre_fit_ok = false;
-          ao.failures.push_back("the kinematic fit " + fit.status + " (" + fit.reason + ")");
-        }
-      }
-      // Photometric centres: truth + their real offsets, scattered by their own errors.
-      const OffsetFrame truth(in.centre);
-      for (const auto& p : in.photometric) {
-        Eigen::Matrix2d C = p.covariance;
-        Eigen::Vector2d z(g.normal(), g.normal());
-        Eigen::Vector2d dz = Eigen::Vector2d::Zero();
-        if (C.determinant() > 0) dz = Eigen::Matrix2d(C.llt().matrixL()) * z;
-        robustness::WorldCentre w;
-        w.name = p.name;
-        w.position = truth.to_world(SkyOffset{p.offset.east + dz(0), p.offset.north + dz(1)});
-        w.covariance = C;
-        w.weight = p.weight;
-        ao.estimates.push_back(w);
-      }
-      ao.tail_pa_deg = in.tail_pa_deg;
-      ao.tail_pa_err_deg = in.tail_pa_err_deg;
-      ao.aperture = in.aperture;
-      ao.rms = in.rms;
-      ao.error_map = in.intensity_error;
-      ao.seed = splitmix(out.seed ^ 0x626f6f74ull);
-      ao.n_draws = opt.n_draws;
-      ao.bootstrap_estimates = opt.bootstrap_from_estimates;
-      ao.verdict = opt.verdict;
-      auto a = robustness::analyse(map, ao);
-      out.verdict = robustness::verdict_name(a.verdict.verdict);
-      out.measured_asymmetry = a.split.asymmetry;
-      out.lo68 = a.bootstrap.lo68, out.hi68 = a.bootstrap.hi68;
-      out.lo95 = a.bootstrap.lo95, out.hi95 = a.bootstrap.hi95;
-    } catch (const std::exception& ex) {
-      out.verdict = std::string("error: ") + ex.what();
-      out.measured_asymmetry = std::nan("");
-    }
+    run_mock(m, set, k, set == 0 ? s.symmetric[k] : s.lopsided[k]);
 #pragma omp critical(calibration_progress)
     progress.advance();
   }
   progress.finish();
-
-  // Summaries (serial, in mock order).
-  std::size_t fr = 0, rec = 0, c68 = 0, c95 = 0, nint = 0, cc = 0, ncc = 0;
-  double sb = 0, sbb = 0, ss = 0, sss = 0;
-  std::size_t nb = 0, ns = 0;
-  auto tally = [&](const MockOutcome& o) {
-    if (!std::isfinite(o.measured_asymmetry)) return;
-    ++nint;
-    if (o.lo68 <= o.true_asymmetry && o.true_asymmetry <= o.hi68) ++c68;
-    if (o.lo95 <= o.true_asymmetry && o.true_asymmetry <= o.hi95) ++c95;
-    if (o.centre_refitted) {
-      if (!o.centre_fit_ok) {
-        ++s.centre_fit_failures;
-      } else {
-        ++ncc;
-        if (o.centre_mahalanobis <= 2.0) ++cc;
-      }
-    }
-  };
-  for (const auto& o : s.symmetric) {
-    if (o.verdict == "robust" || o.verdict == "reversed") ++fr;
-    tally(o);
-    if (std::isfinite(o.measured_asymmetry)) {
-      double d = o.measured_asymmetry - o.true_asymmetry;
-      ss += d, sss += d * d, ++ns;
-    }
-  }
-  for (const auto& o : s.lopsided) {
-    if (o.verdict == "robust") ++rec;
-    tally(o);
-    if (std::isfinite(o.measured_asymmetry)) {
-      double d = o.measured_asymmetry - o.true_asymmetry;
-      sb += d, sbb += d * d, ++nb;
-    }
-  }
-  auto mean_err = [](double sum, double sum2, std::size_t n, double* m, double* e) {
-    if (n == 0) {
-      *m = *e = std::nan("");
-      return;
-    }
-    *m = sum / static_cast<double>(n);
-    const double var = n > 1 ? (sum2 - static_cast<double>(n) * *m * *m) / static_cast<double>(n - 1) : 0.0;
-    *e = std::sqrt(std::max(0.0, var) / static_cast<double>(n));
-  };
-  s.false_robust = make_rate(fr, N);
-  s.recovery = make_rate(rec, N);
-  mean_err(sb, sbb, nb, &s.bias, &s.bias_err);
-  mean_err(ss, sss, ns, &s.bias_symmetric, &s.bias_symmetric_err);
-  s.coverage68 = make_rate(c68, nint);
-  s.coverage95 = make_rate(c95, nint);
-  s.centre_coverage = make_rate(cc, ncc);
-  s.centre_coverage_expected = 1.0 - std::exp(-2.0);
-  char buf[256];
-  std::snprintf(buf, sizeof buf,
-                "a symmetric disc with these data is called robust or reversed in %.1f%% (+- %.1f%%) of %zu "
-                "matched mocks, and a disc with the measured A = %.3f is called robust in %.1f%%",
-                100.0 * s.false_robust.rate, 100.0 * s.false_robust.err, N, a_lop, 100.0 * s.recovery.rate);
-  s.statement = buf;
-  if (!s.tuning_converged) {
-    std::snprintf(buf, sizeof buf,
-                  "; warning: the lopsided mocks reach A = %.3f, not the measured %.3f (amplitude tuning "
-                  "stopped after %d of at most %d secant steps at e = %.3f)",
-                  s.achieved_asymmetry, s.target_asymmetry, s.tuning_steps, opt.secant_steps,
-                  s.lopsided_amplitude);
-    s.statement += buf;
-  }
+  summarise(s);
+  s.statement = calibration_statement(s, opt);
   s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
   return s;
+}
+
+robustness::CalibrationEvidence verdict_evidence(const CalibrationSummary& s) {
+  return {s.false_robust.k, s.false_robust.n, s.symmetric_failures};
 }
 
 namespace {
@@ -407,6 +494,8 @@ json to_json(const CalibrationSummary& s, bool per_mock) {
             {"centre_coverage_2sigma", rate_json(s.centre_coverage)},
             {"centre_coverage_expected", s.centre_coverage_expected},
             {"centre_fit_failures", s.centre_fit_failures},
+            {"symmetric_failures", s.symmetric_failures},
+            {"lopsided_failures", s.lopsided_failures},
             {"statement", s.statement}};
   if (per_mock) {
     auto list = [](const std::vector<MockOutcome>& v) {

@@ -13,6 +13,8 @@ AnalysisSummary analyse(const Image& map, const AnalysisOptions& o) {
   so.aperture = o.aperture;
   so.rms = o.rms;
   so.error_map = o.error_map;
+  so.clip_snr = o.clip_snr;
+  so.noise_correlation_beams = o.noise_correlation_beams;
   const split::SplitProblem pr = split::prepare_split(map, so);
   const OffsetFrame frame(o.adopted.position);
 

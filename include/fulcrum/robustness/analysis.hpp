@@ -41,6 +41,8 @@ struct AnalysisOptions {
   std::optional<split::ApertureSpec> aperture;  // default: all finite pixels
   double rms = 0.0;
   const Image* error_map = nullptr;
+  double clip_snr = 0.0;                   // > 0: the map was clipped at this S/N (split/clipped_noise.hpp)
+  double noise_correlation_beams = 2.0;    // integral of the noise correlation in beam areas (half_split.hpp)
   std::uint64_t seed = 1;
   std::size_t n_draws = 10000;
   // Bootstrap centres: false (default, DESIGN.md section 5) draws them about
