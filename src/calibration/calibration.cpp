@@ -53,14 +53,18 @@ double interp_vrot(const MatchedInputs& in, double r) {
   return V[j - 1] + t * (V[j] - V[j - 1]);
 }
 
-// Unit-variance Gaussian noise correlated over the beam.
-std::vector<double> correlated_noise(const Image& grid, const Eigen::Matrix2d& jac,
+// Unit-variance Gaussian noise correlated over the beam: white noise
+// convolved with a Gaussian of the beam's shape and FWHM beam x sqrt(k / 2)
+// has a Gaussian correlation function of FWHM beam x sqrt(k), whose integral
+// is k beam areas (k = noise_correlation_beams; k = 1: the correlation is
+// the beam itself).
+std::vector<double> correlated_noise(const Image& grid, const Eigen::Matrix2d& jac, double k_beams,
                                      robustness::Generator& g) {
   std::vector<double> w(grid.size());
   for (double& v : w) v = g.normal();
   if (!grid.beam) return w;
-  Beam k{grid.beam->bmaj_arcsec / std::numbers::sqrt2, grid.beam->bmin_arcsec / std::numbers::sqrt2,
-         grid.beam->bpa_deg};
+  const double f = std::sqrt(0.5 * k_beams);
+  Beam k{grid.beam->bmaj_arcsec * f, grid.beam->bmin_arcsec * f, grid.beam->bpa_deg};
   std::vector<double> s = convolve_gaussian(w, grid.nx, grid.ny, pixel_covariance(k, jac));
   double ss = 0.0;
   for (double v : s) ss += v * v;
@@ -126,16 +130,18 @@ RadialProfile gas_profile(const Image& intensity, WorldCoord centre, double pa_d
   return p;
 }
 
-Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile, double e) {
-  const Image& real = *in.intensity;
-  Image m = real.like(0.0);
-  m.path = "mock of " + (real.path.empty() ? in.galaxy : real.path);
-  PixelOffsets off(real, in.centre.position);
+namespace {
+// The noise-free lopsided disc on any grid (blank where `blanks` is blank,
+// when given on the same grid).
+Image model_on_grid(const Image& grid, const MatchedInputs& in, const RadialProfile& profile, double e) {
+  Image m = grid.like(0.0);
+  m.path = "mock of " + (grid.path.empty() ? in.galaxy : grid.path);
+  PixelOffsets off(grid, in.centre.position);
   const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
   const double phi_lead = (in.tail_pa_deg + 180.0) * kDeg;
-  for (int y = 0; y < real.ny; ++y)
-    for (int x = 0; x < real.nx; ++x) {
-      if (!std::isfinite(real.at(x, y))) {
+  for (int y = 0; y < grid.ny; ++y)
+    for (int x = 0; x < grid.nx; ++x) {
+      if (!std::isfinite(grid.at(x, y))) {
         m.at(x, y) = std::nan("");
         continue;
       }
@@ -146,104 +152,122 @@ Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile
     }
   return m;
 }
+}  // namespace
+
+Image mock_intensity_model(const MatchedInputs& in, const RadialProfile& profile, double e) {
+  return model_on_grid(*in.intensity, in, profile, e);
+}
+
+// The per-mock step (see the header): the one robustness chain on a mock map.
+robustness::AnalysisSummary analyse_mock(const Image& map, const MatchedInputs& in, const MockCentres& centres,
+                                         const CalibrationOptions& opt, std::uint64_t chain_seed) {
+  robustness::AnalysisOptions ao;
+  ao.galaxy = in.galaxy + " mock";
+  ao.adopted = centres.adopted;
+  ao.estimates = centres.estimates;
+  ao.failures = centres.failures;
+  ao.tail_pa_deg = in.tail_pa_deg;
+  ao.tail_pa_err_deg = in.tail_pa_err_deg;
+  ao.aperture = in.aperture;
+  ao.rms = in.rms;
+  ao.error_map = in.intensity_error;
+  ao.clip_snr = in.clip_snr;  // the same clip-aware errors as the real analysis
+  ao.noise_correlation_beams = in.noise_correlation_beams;
+  ao.settings = opt.chain;
+  ao.settings.seed = chain_seed;
+  ao.settings.n_draws = opt.n_draws;
+  ao.settings.figure_data = false;
+  return robustness::analyse(map, ao);
+}
 
 namespace {
 
-void check_inputs(const MatchedInputs& in, const CalibrationOptions& opt) {
-  const std::string& who = in.galaxy;
-  if (!in.intensity) throw InputError(who, "calibration needs the intensity map");
-  const Image& real = *in.intensity;
-  if (!real.beam) throw InputError(real.path.empty() ? who : real.path, "calibration needs the beam (BMAJ/BMIN)");
-  if (!in.intensity_error && !(in.rms > 0))
-    throw InputError(who, "calibration needs the map noise (an error map or an rms)");
-  if (in.ring_radius_arcsec.empty() || in.ring_radius_arcsec.size() != in.ring_vrot_kms.size())
-    throw InputError(who, "calibration needs the rotation curve (ring radii and velocities)");
-  if (opt.n_mocks == 0) throw InputError(who, "the number of mocks must be positive");
-  if (in.intensity_error && (in.intensity_error->nx != real.nx || in.intensity_error->ny != real.ny))
-    throw InputError(in.intensity_error->path, "is not on the grid of the intensity map");
-}
-
-// Tune e so that the noise-free mock has the measured A (secant steps;
-// A(e) is close to linear, A ~ (2/pi) e for a pure cos term on a half).
-// Fills the tuning fields of `s`; returns e.
-double tune_amplitude(const MatchedInputs& in, const RadialProfile& profile, double a_sym, int max_steps,
-                      CalibrationSummary& s) {
-  const double target = in.measured_asymmetry;
-  double e0 = 0.0, f0 = a_sym - target;
-  double e1 = std::clamp(0.5 * std::numbers::pi * target, -0.99, 0.99);
-  double f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - target;
-  for (int it = 0; it < max_steps && std::abs(f1) > 1e-9 && f1 != f0; ++it) {
-    double e2 = std::clamp(e1 - f1 * (e1 - e0) / (f1 - f0), -0.999, 0.999);
-    e0 = e1, f0 = f1, e1 = e2;
-    f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - target;
-    s.tuning_steps = it + 1;
-  }
-  return e1;
-}
-
-// The noise-free velocity model vsys + vrot(R) sin i cos theta on the real
-// velocity grid.
-Image velocity_model(const MatchedInputs& in) {
-  const Image& v = *in.velocity;
-  Image m = v.like(0.0);
-  PixelOffsets voff(v, in.centre.position);
-  const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
-  for (int y = 0; y < v.ny; ++y)
-    for (int x = 0; x < v.nx; ++x) {
-      DiscPoint d = disc_coordinates(voff.at(x, y), SkyOffset{0, 0}, pa, inc);
-      m.at(x, y) = in.vsys_kms + interp_vrot(in, d.radius_arcsec) * std::sin(inc.rad()) * d.cos_theta;
-    }
-  return m;
-}
-
-// What every mock shares: the models, the profile, the noise geometry.
+// Everything the mocks of one calibration share.
 struct MockSetup {
-  Image sym_model, lop_model;
-  double a_sym = 0.0, a_lop = 0.0;
-  Eigen::Matrix2d jacobian = Eigen::Matrix2d::Identity();
-  std::optional<Image> vel_model;  // when the centre is re-fitted
+  const MatchedInputs& in;
+  const CalibrationOptions& opt;
+  const Image& real;
+  Eigen::Matrix2d jac;
+  Image model[2];                   // noise-free line maps: symmetric, lopsided
+  double truth[2] = {0.0, 0.0};     // their A at the true centre
+  bool refit = false;
+  std::optional<Image> velocity[2];  // noise-free moment-1-like velocity maps
+  Eigen::Matrix2d vjac = Eigen::Matrix2d::Identity();
 };
 
-// The mock line map: model + beam-correlated noise scaled by the error map or rms.
-Image noisy_line_map(const MatchedInputs& in, const MockSetup& setup, int set, robustness::Generator& g) {
-  Image map = set == 0 ? setup.sym_model : setup.lop_model;
-  const std::vector<double> n = correlated_noise(*in.intensity, setup.jacobian, g);
+// The moment-1-like velocity of a beam-convolved cube: (I v) * B / (I * B),
+// I the noise-free line model on the velocity grid, v the tilted-ring model.
+Image smeared_velocity(const MockSetup& m, const RadialProfile& profile, double e) {
+  const Image& vgrid = *m.in.velocity;
+  const PixelOffsets voff(vgrid, m.in.centre.position);
+  const Image I = model_on_grid(vgrid.like(0.0), m.in, profile, e);
+  const Angle pa = m.in.pa_deg * degrees, inc = m.in.inc_deg * degrees;
+  Image v = vgrid.like(0.0);
+  std::vector<double> iv(v.size()), ii(v.size());
+  for (int y = 0; y < v.ny; ++y)
+    for (int x = 0; x < v.nx; ++x) {
+      const DiscPoint d = disc_coordinates(voff.at(x, y), SkyOffset{0, 0}, pa, inc);
+      const std::size_t i = static_cast<std::size_t>(x) + static_cast<std::size_t>(v.nx) * y;
+      v.data[i] = m.in.vsys_kms + interp_vrot(m.in, d.radius_arcsec) * std::sin(inc.rad()) * d.cos_theta;
+      ii[i] = std::max(0.0, I.data[i]);
+      iv[i] = ii[i] * v.data[i];
+    }
+  const Beam beam = vgrid.beam ? *vgrid.beam : *m.real.beam;
+  const Eigen::Matrix2d K = pixel_covariance(beam, voff.jacobian());
+  const auto num = convolve_gaussian(iv, v.nx, v.ny, K), den = convolve_gaussian(ii, v.nx, v.ny, K);
+  double peak = 0.0;
+  for (double d : den) peak = std::max(peak, d);
+  for (std::size_t i = 0; i < v.size(); ++i)
+    if (den[i] > 1e-9 * peak) v.data[i] = num[i] / den[i];
+  return v;
+}
+
+// Line map of one mock: model + beam-correlated noise, clipped like the data.
+Image noisy_line_map(const MockSetup& m, int set, robustness::Generator& g) {
+  Image map = m.model[set];
+  const std::vector<double> n = correlated_noise(m.real, m.jac, m.in.noise_correlation_beams, g);
   for (std::size_t i = 0; i < map.size(); ++i) {
     if (!std::isfinite(map.data[i])) continue;
-    const double sig = in.intensity_error ? in.intensity_error->data[i] : in.rms;
-    map.data[i] += (std::isfinite(sig) ? sig : 0.0) * n[i];
+    double sig = m.in.intensity_error ? m.in.intensity_error->data[i] : m.in.rms;
+    if (!std::isfinite(sig)) sig = 0.0;
+    map.data[i] += sig * n[i];
+    if (m.in.clip_snr > 0.0 && map.data[i] < m.in.clip_snr * sig)
+      map.data[i] = m.in.clip_blank ? std::nan("") : 0.0;
   }
   return map;
 }
 
-// Re-fit the kinematic centre on a noisy mock velocity map; on success the
-// adopted centre becomes the fit, otherwise the failure is recorded.
-void refit_centre(const MatchedInputs& in, const Image& vel_model, robustness::Generator& g, MockCentres& mc,
-                  MockOutcome& out) {
-  Image vel = vel_model;
+// Velocity map of one mock: smeared model + noise with the beam correlation.
+Image noisy_velocity(const MockSetup& m, int set, robustness::Generator& g) {
+  Image vel = *m.velocity[set];
+  const std::vector<double> n = correlated_noise(*m.in.velocity, m.vjac, m.in.noise_correlation_beams, g);
   for (std::size_t i = 0; i < vel.size(); ++i) {
-    if (!std::isfinite(in.velocity->data[i])) {
+    if (!std::isfinite(m.in.velocity->data[i])) {
       vel.data[i] = std::nan("");
       continue;
     }
-    double sig = in.velocity_error ? in.velocity_error->data[i] : in.velocity_noise_kms;
-    if (!std::isfinite(sig)) sig = in.velocity_noise_kms;
-    vel.data[i] += sig * g.normal();
+    double sig = m.in.velocity_error ? m.in.velocity_error->data[i] : m.in.velocity_noise_kms;
+    if (!std::isfinite(sig)) sig = m.in.velocity_noise_kms;
+    vel.data[i] += sig * n[i];
   }
+  return vel;
+}
+
+// Re-fit the kinematic centre of one mock; on success the adopted centre
+// becomes the fit, otherwise the failure is recorded.
+void refit_centre(const MockSetup& m, const Image& vel, MockCentres& mc, MockOutcome& out) {
   kinematics::KinematicOptions ko;
   ko.method = kinematics::Method::rings;
   ko.ring_by_ring = false;
-  ko.pa_guess_deg = in.pa_deg;
-  ko.inc_guess_deg = in.inc_deg;
-  ko.vsys_guess_kms = in.vsys_kms;
-  // These mock velocity maps are the intrinsic (unsmeared) model plus
-  // noise, so there is no beam smearing to correct.
-  ko.correct_beam_smearing = false;
-  auto fit = kinematics::fit_kinematics(vel, in.velocity_error, ko);
+  ko.pa_guess_deg = m.in.pa_deg;
+  ko.inc_guess_deg = m.in.inc_deg;
+  ko.vsys_guess_kms = m.in.vsys_kms;
+  ko.correct_beam_smearing = m.opt.correct_beam_smearing;  // the mock velocities are smeared like the data
+  auto fit = kinematics::fit_kinematics(vel, m.in.velocity_error, ko);
   if (fit.status == "ok" && fit.centre) {
     mc.adopted.position = fit.centre->world;
     mc.adopted.covariance = fit.centre->covariance;
-    const SkyOffset d = OffsetFrame(fit.centre->world).to_offset(in.centre.position);
+    const SkyOffset d = OffsetFrame(fit.centre->world).to_offset(m.in.centre.position);
     Eigen::Vector2d dv(d.east, d.north);
     const Eigen::Matrix2d& C = fit.centre->covariance;
     out.centre_mahalanobis = C.determinant() > 0 ? std::sqrt(dv.dot(C.inverse() * dv)) : INFINITY;
@@ -269,22 +293,21 @@ void place_estimates(const MatchedInputs& in, robustness::Generator& g, MockCent
   }
 }
 
-// One mock, start to end.
-void run_mock(const MatchedInputs& in, const CalibrationOptions& opt, const MockSetup& setup, int set,
-              std::size_t k, MockOutcome& out) {
-  out.seed = mock_seed(opt.seed, set, k);
-  out.true_asymmetry = set == 0 ? setup.a_sym : setup.a_lop;
+void run_mock(const MockSetup& m, int set, std::size_t k, MockOutcome& out) {
+  const MatchedInputs& in = m.in;
+  out.seed = mock_seed(m.opt.seed, set, k);
+  out.true_asymmetry = m.truth[set];
   try {
     robustness::Generator g(out.seed);
-    const Image map = noisy_line_map(in, setup, set, g);
+    const Image map = noisy_line_map(m, set, g);
     MockCentres mc;
     mc.adopted = in.centre;
-    const bool do_refit = setup.vel_model && (opt.refit_every <= 1 || k % opt.refit_every == 0);
+    const bool do_refit = m.refit && (m.opt.refit_every <= 1 || k % m.opt.refit_every == 0);
     out.centre_refitted = do_refit;
     out.centre_fit_ok = true;
-    if (do_refit) refit_centre(in, *setup.vel_model, g, mc, out);
+    if (do_refit) refit_centre(m, noisy_velocity(m, set, g), mc, out);
     place_estimates(in, g, mc);
-    const auto a = analyse_mock(map, in, mc, opt, splitmix(out.seed ^ 0x626f6f74ull));
+    const auto a = analyse_mock(map, in, mc, m.opt, splitmix(out.seed ^ 0x626f6f74ull));
     out.verdict = robustness::verdict_name(a.verdict.verdict);
     out.measured_asymmetry = a.split.asymmetry;
     out.lo68 = a.bootstrap.lo68, out.hi68 = a.bootstrap.hi68;
@@ -295,7 +318,46 @@ void run_mock(const MatchedInputs& in, const CalibrationOptions& opt, const Mock
   }
 }
 
-void mean_and_error(double sum, double sum2, std::size_t n, double* m, double* e) {
+// A mock whose centre re-fit failed or whose analysis threw says nothing
+// about how often these data fake a result: counted apart.
+bool mock_failed(const MockOutcome& o) {
+  return !std::isfinite(o.measured_asymmetry) || (o.centre_refitted && !o.centre_fit_ok);
+}
+
+void check_inputs(const MatchedInputs& in, const CalibrationOptions& opt) {
+  const std::string who = in.galaxy;
+  if (!in.intensity) throw InputError(who, "calibration needs the intensity map");
+  const Image& real = *in.intensity;
+  if (!real.beam) throw InputError(real.path.empty() ? who : real.path, "calibration needs the beam (BMAJ/BMIN)");
+  if (!in.intensity_error && !(in.rms > 0))
+    throw InputError(who, "calibration needs the map noise (an error map or an rms)");
+  if (in.ring_radius_arcsec.empty() || in.ring_radius_arcsec.size() != in.ring_vrot_kms.size())
+    throw InputError(who, "calibration needs the rotation curve (ring radii and velocities)");
+  if (opt.n_mocks == 0) throw InputError(who, "the number of mocks must be positive");
+  if (in.intensity_error && (in.intensity_error->nx != real.nx || in.intensity_error->ny != real.ny))
+    throw InputError(in.intensity_error->path, "is not on the grid of the intensity map");
+  if (!(in.clip_snr >= 0.0)) throw InputError(who, "the clipping threshold (clip_snr) must not be negative");
+  if (!(in.noise_correlation_beams > 0.0))
+    throw InputError(who, "the noise correlation area (noise_correlation_beams) must be positive");
+}
+
+// Tune e so that the noise-free mock has the measured A (secant steps;
+// A(e) is close to linear, A ~ (2/pi) e for a pure cos term on a half).
+double tune_amplitude(const MatchedInputs& in, const RadialProfile& profile, double a_sym, int steps,
+                      CalibrationSummary& s) {
+  double e0 = 0.0, f0 = a_sym - in.measured_asymmetry;
+  double e1 = std::clamp(0.5 * std::numbers::pi * in.measured_asymmetry, -0.99, 0.99);
+  double f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - in.measured_asymmetry;
+  for (int it = 0; it < steps && std::abs(f1) > 1e-9 && f1 != f0; ++it) {
+    double e2 = std::clamp(e1 - f1 * (e1 - e0) / (f1 - f0), -0.999, 0.999);
+    e0 = e1, f0 = f1, e1 = e2;
+    f1 = split_truth(mock_intensity_model(in, profile, e1), in).asymmetry - in.measured_asymmetry;
+    s.tuning_steps = it + 1;
+  }
+  return e1;
+}
+
+void mean_err(double sum, double sum2, std::size_t n, double* m, double* e) {
   if (n == 0) {
     *m = *e = std::nan("");
     return;
@@ -305,95 +367,68 @@ void mean_and_error(double sum, double sum2, std::size_t n, double* m, double* e
   *e = std::sqrt(std::max(0.0, var) / static_cast<double>(n));
 }
 
-// Rates, bias and coverage over the stored mocks (serial, in mock order).
-void summarise_mocks(CalibrationSummary& s) {
-  std::size_t fr = 0, rec = 0, c68 = 0, c95 = 0, nint = 0, cc = 0, ncc = 0;
-  auto tally = [&](const MockOutcome& o) {
-    if (!std::isfinite(o.measured_asymmetry)) return;
-    ++nint;
-    if (o.lo68 <= o.true_asymmetry && o.true_asymmetry <= o.hi68) ++c68;
-    if (o.lo95 <= o.true_asymmetry && o.true_asymmetry <= o.hi95) ++c95;
-    if (!o.centre_refitted) return;
-    if (!o.centre_fit_ok) {
-      ++s.centre_fit_failures;
-    } else {
-      ++ncc;
-      if (o.centre_mahalanobis <= 2.0) ++cc;
-    }
-  };
-  auto bias = [&](const std::vector<MockOutcome>& v, double* m, double* e) {
-    double sum = 0, sum2 = 0;
-    std::size_t n = 0;
-    for (const auto& o : v)
-      if (std::isfinite(o.measured_asymmetry)) {
-        const double d = o.measured_asymmetry - o.true_asymmetry;
-        sum += d, sum2 += d * d, ++n;
+// Rates, biases and coverages over the valid mocks (serial, in mock order).
+void summarise(CalibrationSummary& s) {
+  std::size_t fr = 0, rec = 0, nsym = 0, nlop = 0, c68 = 0, c95 = 0, nint = 0, cc = 0, ncc = 0;
+  double sum[2] = {0, 0}, sum2[2] = {0, 0};
+  std::size_t nb[2] = {0, 0};
+  for (int set = 0; set < 2; ++set)
+    for (const auto& o : set == 0 ? s.symmetric : s.lopsided) {
+      if (o.centre_refitted && !o.centre_fit_ok) ++s.centre_fit_failures;
+      if (mock_failed(o)) {
+        ++(set == 0 ? s.symmetric_failures : s.lopsided_failures);
+        continue;
       }
-    mean_and_error(sum, sum2, n, m, e);
-  };
-  for (const auto& o : s.symmetric) {
-    if (o.verdict == "robust" || o.verdict == "reversed") ++fr;
-    tally(o);
-  }
-  for (const auto& o : s.lopsided) {
-    if (o.verdict == "robust") ++rec;
-    tally(o);
-  }
-  s.false_robust = make_rate(fr, s.n_mocks);
-  s.recovery = make_rate(rec, s.n_mocks);
-  bias(s.lopsided, &s.bias, &s.bias_err);
-  bias(s.symmetric, &s.bias_symmetric, &s.bias_symmetric_err);
+      if (set == 0) ++nsym, fr += o.verdict == "robust" || o.verdict == "reversed";
+      else ++nlop, rec += o.verdict == "robust";
+      ++nint;
+      c68 += o.lo68 <= o.true_asymmetry && o.true_asymmetry <= o.hi68;
+      c95 += o.lo95 <= o.true_asymmetry && o.true_asymmetry <= o.hi95;
+      if (o.centre_refitted) ++ncc, cc += o.centre_mahalanobis <= 2.0;
+      const double d = o.measured_asymmetry - o.true_asymmetry;
+      sum[set] += d, sum2[set] += d * d, ++nb[set];
+    }
+  s.false_robust = make_rate(fr, nsym);
+  s.recovery = make_rate(rec, nlop);
+  mean_err(sum[1], sum2[1], nb[1], &s.bias, &s.bias_err);
+  mean_err(sum[0], sum2[0], nb[0], &s.bias_symmetric, &s.bias_symmetric_err);
   s.coverage68 = make_rate(c68, nint);
   s.coverage95 = make_rate(c95, nint);
   s.centre_coverage = make_rate(cc, ncc);
   s.centre_coverage_expected = 1.0 - std::exp(-2.0);
 }
 
-std::string calibration_statement(const CalibrationSummary& s, int secant_steps) {
-  char buf[256];
+std::string calibration_statement(const CalibrationSummary& s, const CalibrationOptions& opt) {
+  char buf[512];
   std::snprintf(buf, sizeof buf,
                 "a symmetric disc with these data is called robust or reversed in %.1f%% (+- %.1f%%) of %zu "
-                "matched mocks, and a disc with the measured A = %.3f is called robust in %.1f%%",
-                100.0 * s.false_robust.rate, 100.0 * s.false_robust.err, s.n_mocks, s.achieved_asymmetry,
-                100.0 * s.recovery.rate);
-  std::string out = buf;
+                "matched mocks, and a disc with the measured A = %.3f is called robust in %.1f%% of %zu",
+                100.0 * s.false_robust.rate, 100.0 * s.false_robust.err, s.false_robust.n, s.achieved_asymmetry,
+                100.0 * s.recovery.rate, s.recovery.n);
+  std::string st = buf;
+  if (s.symmetric_failures + s.lopsided_failures > 0) {
+    std::snprintf(buf, sizeof buf, "; %zu symmetric and %zu lopsided mocks failed (centre re-fit or analysis) "
+                  "and are not counted", s.symmetric_failures, s.lopsided_failures);
+    st += buf;
+  }
   if (!s.tuning_converged) {
     std::snprintf(buf, sizeof buf,
                   "; warning: the lopsided mocks reach A = %.3f, not the measured %.3f (amplitude tuning "
                   "stopped after %d of at most %d secant steps at e = %.3f)",
-                  s.achieved_asymmetry, s.target_asymmetry, s.tuning_steps, secant_steps, s.lopsided_amplitude);
-    out += buf;
+                  s.achieved_asymmetry, s.target_asymmetry, s.tuning_steps, opt.secant_steps, s.lopsided_amplitude);
+    st += buf;
   }
-  return out;
+  return st;
 }
 
 }  // namespace
-
-robustness::AnalysisSummary analyse_mock(const Image& map, const MatchedInputs& in, const MockCentres& centres,
-                                         const CalibrationOptions& opt, std::uint64_t chain_seed) {
-  robustness::AnalysisOptions ao;
-  ao.galaxy = in.galaxy + " mock";
-  ao.adopted = centres.adopted;
-  ao.estimates = centres.estimates;
-  ao.failures = centres.failures;
-  ao.tail_pa_deg = in.tail_pa_deg;
-  ao.tail_pa_err_deg = in.tail_pa_err_deg;
-  ao.aperture = in.aperture;
-  ao.rms = in.rms;
-  ao.error_map = in.intensity_error;
-  ao.settings = opt.chain;
-  ao.settings.seed = chain_seed;
-  ao.settings.n_draws = opt.n_draws;
-  ao.settings.figure_data = false;
-  return robustness::analyse(map, ao);
-}
 
 CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& opt) {
   const auto t0 = std::chrono::steady_clock::now();
   check_inputs(in, opt);
   const Image& real = *in.intensity;
-  const RadialProfile profile = gas_profile(real, in.centre.position, in.pa_deg, in.inc_deg,
-                                            opt.profile_bin_beams * real.beam->fwhm_arcsec());
+  const RadialProfile profile =
+      gas_profile(real, in.centre.position, in.pa_deg, in.inc_deg, opt.profile_bin_beams * real.beam->fwhm_arcsec());
   if (profile.mean.empty()) throw InputError(in.galaxy, "the intensity map has no positive gas profile");
 
   CalibrationSummary s;
@@ -401,18 +436,21 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
   s.n_mocks = opt.n_mocks;
   s.seed = opt.seed;
   s.target_asymmetry = in.measured_asymmetry;
-  MockSetup setup;
-  setup.sym_model = mock_intensity_model(in, profile, 0.0);
-  setup.a_sym = split_truth(setup.sym_model, in).asymmetry;
-  s.lopsided_amplitude = tune_amplitude(in, profile, setup.a_sym, opt.secant_steps, s);
-  setup.lop_model = mock_intensity_model(in, profile, s.lopsided_amplitude);
-  s.achieved_asymmetry = split_truth(setup.lop_model, in).asymmetry;
+  MockSetup m{in, opt, real, PixelOffsets(real, in.centre.position).jacobian(), {}, {}, false, {}, {}};
+  m.model[0] = mock_intensity_model(in, profile, 0.0);
+  m.truth[0] = split_truth(m.model[0], in).asymmetry;
+  s.lopsided_amplitude = tune_amplitude(in, profile, m.truth[0], opt.secant_steps, s);
+  m.model[1] = mock_intensity_model(in, profile, s.lopsided_amplitude);
+  m.truth[1] = s.achieved_asymmetry = split_truth(m.model[1], in).asymmetry;
   // The step bound (or the amplitude limit |e| < 1) can stop the tuning short
-  // of the measured A: the statement says so below.
+  // of the measured A: the statement says so.
   s.tuning_converged = std::abs(s.achieved_asymmetry - s.target_asymmetry) <= kTuningTolerance;
-  setup.a_lop = s.achieved_asymmetry;
-  setup.jacobian = PixelOffsets(real, in.centre.position).jacobian();
-  if (opt.refit_centre && in.velocity != nullptr) setup.vel_model = velocity_model(in);
+  m.refit = opt.refit_centre && in.velocity != nullptr;
+  if (m.refit) {
+    m.vjac = PixelOffsets(*in.velocity, in.centre.position).jacobian();
+    m.velocity[0] = smeared_velocity(m, profile, 0.0);
+    m.velocity[1] = smeared_velocity(m, profile, s.lopsided_amplitude);
+  }
 
   const std::size_t N = opt.n_mocks;
   s.symmetric.assign(N, {});
@@ -423,15 +461,19 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
   for (long task = 0; task < total; ++task) {
     const int set = task < static_cast<long>(N) ? 0 : 1;
     const std::size_t k = static_cast<std::size_t>(set == 0 ? task : task - static_cast<long>(N));
-    run_mock(in, opt, setup, set, k, set == 0 ? s.symmetric[k] : s.lopsided[k]);
+    run_mock(m, set, k, set == 0 ? s.symmetric[k] : s.lopsided[k]);
 #pragma omp critical(calibration_progress)
     progress.advance();
   }
   progress.finish();
-  summarise_mocks(s);
-  s.statement = calibration_statement(s, opt.secant_steps);
+  summarise(s);
+  s.statement = calibration_statement(s, opt);
   s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
   return s;
+}
+
+robustness::CalibrationEvidence verdict_evidence(const CalibrationSummary& s) {
+  return {s.false_robust.k, s.false_robust.n, s.symmetric_failures};
 }
 
 namespace {
@@ -460,6 +502,8 @@ json to_json(const CalibrationSummary& s, bool per_mock) {
             {"centre_coverage_2sigma", rate_json(s.centre_coverage)},
             {"centre_coverage_expected", s.centre_coverage_expected},
             {"centre_fit_failures", s.centre_fit_failures},
+            {"symmetric_failures", s.symmetric_failures},
+            {"lopsided_failures", s.lopsided_failures},
             {"statement", s.statement}};
   if (per_mock) {
     auto list = [](const std::vector<MockOutcome>& v) {

@@ -119,6 +119,15 @@ void verdict_statement_step(GalaxySummary& s) {
 void calibration_step(const GalaxyMaps& maps, const AnalysisOptions& opt, GalaxySummary& s) {
   if (opt.calibrate <= 0 || s.verdict == robustness::Verdict::undetermined) return;
   s.calibration = calibrate_verdict(s, maps, opt);
+  if (s.calibration->summary && s.robustness) {
+    // The matched mocks' false-robust rate enters the verdict
+    // (robustness::apply_calibration, docs/robustness.md).
+    auto& v = s.robustness->verdict;
+    v = robustness::apply_calibration(v, calibration::verdict_evidence(*s.calibration->summary),
+                                      s.robustness->settings.verdict);
+    s.verdict = v.verdict;
+    s.statement = v.statement;
+  }
   if (s.calibration->summary) {
     if (!s.statement.empty() && s.statement.back() == '.') s.statement.pop_back();
     s.statement += "; " + s.calibration->summary->statement + ".";

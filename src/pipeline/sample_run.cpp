@@ -295,6 +295,8 @@ json sample_statistics(const std::vector<GalaxySummary>& galaxies) {
     o.determined = v != "undetermined" && std::isfinite(a) && std::isfinite(p);
     o.asymmetry = std::isfinite(a) ? a : 0.0;
     o.p_leading = std::isfinite(p) ? p : 0.5;
+    const double nd = get_num(r, "robustness.draws");
+    o.n_draws = std::isfinite(nd) && nd > 0 ? static_cast<std::size_t>(nd) : 0;
     o.robust = v == "robust";
     o.reversed = v == "reversed";
     g.push_back(o);
@@ -305,7 +307,7 @@ json sample_statistics(const std::vector<GalaxySummary>& galaxies) {
   j["method"] = {
       {"p_null_sign_test", "P(K >= k) for K ~ Binomial(n, 1/2): no preferred side (one-sided sign test)"},
       {"p_at_least_k_given_p", "P(K' >= k) for K' Poisson-binomial with each galaxy's own P(A > 0)"},
-      {"p_null_marginal", "sign-test p-value averaged over the Poisson-binomial distribution of the true count"},
+      {"p_stouffer", "one-sided Stouffer's Z of the P(A > 0) values: no galaxy has a true asymmetry"},
       {"secure_only", "the same restricted to galaxies whose verdict is robust or reversed"}};
   return j;
 }
@@ -399,7 +401,7 @@ void write_sample_html(const fs::path& dir, const std::string& sample_name, cons
       {"galaxies measured", std::to_string(a.value("n", 0)) + " of " + std::to_string(galaxies.size())},
       {"leading excess (A > 0)", std::to_string(a.value("n_leading", 0)) + " of " + std::to_string(a.value("n", 0))},
       {"P(at least that many | no preferred side)", p(a["p_null_sign_test"]) + " (sign test)"},
-      {"same, with each galaxy's own P folded in", p(a["p_null_marginal"])},
+      {"P(this much leading excess | no galaxy asymmetric)", p(a["p_stouffer"]) + " (Stouffer's Z)"},
       {"expected leading count from the P values", p(a["expected_leading"])},
       {"robust among robust + reversed", std::to_string(s.value("n_leading", 0)) + " of " + std::to_string(s.value("n", 0)) +
                                              ", P(null) = " + p(s["p_null_sign_test"])},

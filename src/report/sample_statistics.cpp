@@ -5,6 +5,8 @@
 #include <cmath>
 #include <string>
 
+#include "fulcrum/report/normal_distribution.hpp"
+
 namespace fulcrum::report {
 
 // Convolution recursion: after galaxy i, pmf[j] = P(j leading among the
@@ -34,22 +36,34 @@ double sign_test_tail(std::size_t n, std::size_t k) {
   return poisson_binomial_tail(std::vector<double>(n, 0.5), k);
 }
 
+double stouffer_z(const std::vector<double>& p, const std::vector<std::size_t>& draws) {
+  if (p.empty()) return 0.0;
+  double sum = 0.0;
+  for (std::size_t i = 0; i < p.size(); ++i) {
+    const std::size_t B = i < draws.size() ? draws[i] : 0;
+    // A finite bootstrap cannot say P = 0 or 1: half a draw from either end.
+    const double lo = B > 0 ? 0.5 / double(B) : 1e-12;
+    sum += normal_quantile(std::clamp(p[i], lo, 1.0 - lo));
+  }
+  return sum / std::sqrt(double(p.size()));
+}
+
 SubsetStatistics subset_statistics(const std::vector<GalaxyOutcome>& galaxies) {
   SubsetStatistics s;
   std::vector<double> p;
+  std::vector<std::size_t> draws;
   for (const auto& g : galaxies) {
     if (!g.determined) continue;
     ++s.n;
     if (g.asymmetry > 0) ++s.k;
     p.push_back(g.p_leading);
+    draws.push_back(g.n_draws);
     s.expected_leading += g.p_leading;
   }
   s.p_null_sign_test = sign_test_tail(s.n, s.k);
   s.p_at_least_k_given_p = poisson_binomial_tail(p, s.k);
-  auto pmf = poisson_binomial_pmf(p);
-  double m = 0.0;
-  for (std::size_t j = 0; j < pmf.size(); ++j) m += pmf[j] * sign_test_tail(s.n, j);
-  s.p_null_marginal = std::min(1.0, m);
+  s.stouffer_z = stouffer_z(p, draws);
+  s.p_stouffer = s.n > 0 ? 1.0 - normal_cdf(s.stouffer_z) : 1.0;
   return s;
 }
 
@@ -59,7 +73,8 @@ nlohmann::json SubsetStatistics::to_json() const {
           {"expected_leading", expected_leading},
           {"p_null_sign_test", p_null_sign_test},
           {"p_at_least_k_given_p", p_at_least_k_given_p},
-          {"p_null_marginal", p_null_marginal}};
+          {"stouffer_z", stouffer_z},
+          {"p_stouffer", p_stouffer}};
 }
 
 SampleSummary summarise_sample(const std::vector<GalaxyOutcome>& galaxies,

@@ -81,6 +81,8 @@ AnalysisSummary analyse(const Image& map, const AnalysisOptions& o) {
   so.aperture = o.aperture;
   so.rms = o.rms;
   so.error_map = o.error_map;
+  so.clip_snr = o.clip_snr;
+  so.noise_correlation_beams = o.noise_correlation_beams;
   a.problem = split::prepare_split(map, so);
   const split::SplitProblem& pr = a.problem;
   place_tail(pr, o, a);

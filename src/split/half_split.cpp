@@ -9,6 +9,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/split/clipped_noise.hpp"
 
 namespace fulcrum::split {
 
@@ -90,17 +91,37 @@ SplitProblem prepare_split(const Image& map, const SplitOptions& opt) {
   NoiseSpec noise;
   noise.error_map = opt.error_map;
   noise.rms = opt.rms;
-  pr.pixels = collect_pixels(map, offsets, pr.aperture, noise);
+  if (!(opt.clip_snr >= 0.0)) throw InputError(map.path, "the clipping threshold must not be negative");
+  if (!(opt.noise_correlation_beams > 0.0))
+    throw InputError(map.path, "the noise correlation area must be positive (in beam areas)");
+  // A clipped map: blank pixels where the noise is known were clipped (value
+  // 0, but they could have been kept: they carry the clipped variance too).
+  std::optional<Image> filled, clip_errors;
+  if (opt.clip_snr > 0.0 && (opt.error_map || opt.rms > 0.0)) {
+    if (opt.error_map && (opt.error_map->nx != map.nx || opt.error_map->ny != map.ny))
+      throw InputError(opt.error_map->path, "is not on the grid of the map " + map.path);
+    filled = map;
+    for (std::size_t i = 0; i < map.size(); ++i) {
+      const double sig = opt.error_map ? opt.error_map->data[i] : opt.rms;
+      if (!std::isfinite(map.data[i]) && std::isfinite(sig) && sig > 0.0) filled->data[i] = 0.0;
+    }
+    clip_errors = clipped_error_map(*filled, opt.error_map, opt.rms, opt.clip_snr);
+    noise.error_map = &*clip_errors;
+    pr.clip_snr = opt.clip_snr;
+  }
+  pr.pixels = collect_pixels(filled ? *filled : map, offsets, pr.aperture, noise);
   pr.scale = flux_scale(map, pr.pixels.pixel_area_arcsec2());
   pr.beam = map.beam;
   if (map.beam && map.beam->bmaj_arcsec > 0.0 && map.beam->bmin_arcsec > 0.0)
-    pr.pixels_per_beam = std::max(1.0, map.beam->pixels_per_beam(pr.pixels.pixel_area_arcsec2()));
+    pr.pixels_per_beam = std::max(1.0, opt.noise_correlation_beams *
+                                            map.beam->pixels_per_beam(pr.pixels.pixel_area_arcsec2()));
   if (opt.error_map)
     pr.noise_source = "error map " + opt.error_map->path;
   else if (opt.rms > 0.0)
     pr.noise_source = "rms " + fmt(opt.rms) + " " + map.unit;
   else
     pr.noise_source = "none";
+  if (pr.clip_snr > 0.0) pr.noise_source += ", clip-aware (map clipped at " + fmt(pr.clip_snr) + " sigma)";
   return pr;
 }
 

@@ -11,16 +11,27 @@
 // with intensity I(R, phi) = P(R) (1 + e cos(phi - phi_lead)) (P the measured,
 // already beam-smeared profile; phi the PA on the sky about the centre,
 // phi_lead = tail PA + 180), plus beam-correlated Gaussian noise (white noise
-// smoothed by the beam divided by sqrt 2 in FWHM, so that its correlation
-// function is the beam; rescaled to unit variance, times the error map or rms),
-// and a velocity map vsys + vrot(R) sin i cos theta (tilted-ring model of
-// Begeman 1989, vrot interpolated linearly in the ring table) plus Gaussian
-// noise from the velocity error map. Each mock's kinematic centre is re-fitted
-// with the kinematics library (on every mock, or every `refit_every`-th one,
-// the others using the true centre with the real fit's covariance); the
-// photometric centres are placed at truth + their real offsets from the
-// dynamical centre, each scattered by its own covariance. Then the same
-// robustness::analyse runs on the mock.
+// smoothed by the beam times sqrt(k/2) in FWHM, k = noise_correlation_beams,
+// so that its correlation function integrates to k beam areas — for k = 1 it
+// is the beam; rescaled to unit variance, times the error map or rms)
+// and, when the data were clipped (clip_snr > 0), the same clipping: pixels
+// below clip_snr x their 1-sigma error set to 0 (or blanked, clip_blank).
+// The velocity map is what a moment-1 map of a beam-convolved cube shows:
+// the intensity-weighted beam average of vsys + vrot(R) sin i cos theta
+// (tilted-ring model of Begeman 1989, vrot interpolated linearly in the ring
+// table), (I v) * B / (I * B) with I the mock's line map, plus noise from the
+// velocity error map with the SAME beam correlation as the line map (not
+// white). Blank pixels of the real maps are blank in the mocks. Each mock's
+// kinematic centre is re-fitted with the kinematics library, with the
+// beam-smearing correction of the real analysis (on every mock, or every
+// `refit_every`-th one, the others using the true centre with the real fit's
+// covariance); the other centre estimates are placed at truth + their real
+// offsets from the dynamical centre, each scattered by its own covariance.
+// Then the same robustness::analyse runs on the mock.
+//
+// Failed re-fits (and mocks whose analysis threw) are counted per set and
+// reported separately; the rates (false secure, recovery) are over the mocks
+// whose analysis ran, so a failure is never counted as "not robust".
 //
 // Determinism: mock k of set s (0 symmetric, 1 lopsided) uses the seed
 // mix(seed, s, k) (splitmix64), and results are stored per mock, so the
@@ -63,6 +74,14 @@ struct MatchedInputs {
   // Every other successful centre estimate: placed in the mocks at its real
   // (east, north) offset from `centre`, scattered by its own covariance.
   std::vector<Centre> estimates;
+  // How the real line map was clipped (0: not clipped): pixels below
+  // clip_snr x 1-sigma were set to 0, or blanked when clip_blank.
+  double clip_snr = 0.0;
+  bool clip_blank = false;
+  // Integral of the noise correlation function in beam areas (half_split.hpp):
+  // the mocks' line and velocity noise are drawn with it, and their analysis
+  // uses it, as the real analysis does.
+  double noise_correlation_beams = 2.0;
 };
 
 // How close the noise-free lopsided mock's A must come to the measured A for
@@ -80,6 +99,7 @@ struct CalibrationOptions {
   // The settings of the analysis being calibrated (bootstrap centres,
   // verdict thresholds); chain.seed and chain.n_draws are replaced per mock.
   robustness::ChainSettings chain;
+  bool correct_beam_smearing = true;      // in the mock centre re-fits, as in the real analysis
   bool progress = true;
 };
 
@@ -108,8 +128,9 @@ struct CalibrationSummary {
   double target_asymmetry = 0.0, achieved_asymmetry = 0.0;
   int tuning_steps = 0;             // secant steps taken (at most secant_steps)
   bool tuning_converged = true;     // |achieved - target| <= kTuningTolerance
-  Rate false_robust;                // symmetric mocks called robust or reversed
-  Rate recovery;                    // lopsided mocks called robust
+  Rate false_robust;                // valid symmetric mocks called robust or reversed
+  Rate recovery;                    // valid lopsided mocks called robust
+  std::size_t symmetric_failures = 0, lopsided_failures = 0;  // re-fit failed or analysis threw
   double bias = 0.0, bias_err = 0.0;          // lopsided set: mean(measured - true)
   double bias_symmetric = 0.0, bias_symmetric_err = 0.0;
   Rate coverage68, coverage95;      // both sets: truth inside the interval
@@ -159,5 +180,8 @@ robustness::AnalysisSummary analyse_mock(const Image& map, const MatchedInputs& 
 CalibrationSummary calibrate(const MatchedInputs& inputs, const CalibrationOptions& options);
 
 nlohmann::json to_json(const CalibrationSummary& s, bool per_mock = false);
+
+// What the verdict needs from a calibration (robustness::apply_calibration).
+robustness::CalibrationEvidence verdict_evidence(const CalibrationSummary& s);
 
 }  // namespace fulcrum::calibration

@@ -55,6 +55,8 @@ struct AnalysisOptions {
   std::optional<split::ApertureSpec> aperture;  // default: all finite pixels
   double rms = 0.0;
   const Image* error_map = nullptr;
+  double clip_snr = 0.0;                   // > 0: the map was clipped at this S/N (split/clipped_noise.hpp)
+  double noise_correlation_beams = 2.0;    // integral of the noise correlation in beam areas (half_split.hpp)
   std::vector<std::string> failures;       // known problems (e.g. "kinematic fit failed")
   ChainSettings settings;
 };

@@ -13,11 +13,21 @@
 // white-noise variance of a half is sum_i a_i e_i^2 (a_i the exact fraction of
 // pixel i in that half; a cut pixel's noise is shared in proportion to area,
 // which keeps the variance linear in a_i and lets it go through the same
-// projection engine). Map noise is correlated over a beam, so the variance is
-// multiplied by the number of pixels per beam, N_beam = Omega_beam/Omega_pix
-// (when N_beam > 1; the usual correction for sums over regions much larger
-// than a beam, common practice). Then, treating L and T as independent,
+// projection engine). Map noise is correlated: with correlation function rho
+// (rho(0) = 1), the variance of a sum over a region much larger than the
+// correlation length is sum_i e_i^2 x (integral of rho over the sky) /
+// Omega_pix. That factor is noise_correlation_beams x N_beam, N_beam =
+// Omega_beam/Omega_pix: 1 x N_beam when the noise correlation has the beam's
+// shape (interferometric image noise, common practice), 2 x N_beam when the
+// noise is white noise convolved with the beam (its correlation is the
+// beam's autocorrelation, FWHM sqrt 2 larger); floored at 1. Then, treating
+// L and T as independent,
 //   sigma_A^2 = 4 (T^2 sigma_L^2 + L^2 sigma_T^2) / (L + T)^4.
+// A clipped map (SplitOptions::clip_snr > 0: pixels below clip_snr sigma were
+// set to 0 or blanked) is not linear in its noise: each pixel's sigma^2 is
+// replaced by the variance of a clipped pixel (clipped_noise.hpp) before
+// anything else, and blank pixels whose error is known count as clipped
+// pixels of value 0 (they could have been kept, so they carry noise too).
 #pragma once
 
 #include <nlohmann/json.hpp>
@@ -53,7 +63,8 @@ struct SplitProblem {
   PixelSet pixels;            // offsets about `reference`
   WorldCoord reference;       // the frame origin: the nominal centre
   FluxScale scale;
-  double pixels_per_beam = 1.0;   // noise-correlation factor (>= 1)
+  double pixels_per_beam = 1.0;   // noise-correlation factor (>= 1): noise_correlation_beams x N_beam
+  double clip_snr = 0.0;          // > 0: the map was clipped at this S/N (clip-aware variances)
   std::optional<Beam> beam;
   std::optional<SkyEllipse> aperture;  // in the reference frame
   std::string noise_source;   // "error map <path>", "rms X", or "none"
@@ -67,6 +78,11 @@ struct SplitOptions {
   std::optional<ApertureSpec> aperture;
   double rms = 0.0;                   // used when no error map is given
   const Image* error_map = nullptr;   // same grid as the map
+  double clip_snr = 0.0;              // > 0: pixels below clip_snr sigma were set to 0 or blanked
+  // Integral of the noise correlation in beam areas: 2 (default) for noise
+  // white before the beam ("smoothed", the project's one noise model,
+  // docs/uncertainties.md), 1 for noise correlated like the beam itself.
+  double noise_correlation_beams = 2.0;
 };
 
 // Build the problem: offsets about options.centre, aperture, noise, units.
