@@ -41,7 +41,10 @@ install_missing() {
 # build [TARGET]: configure and build everything, or only TARGET (the demo
 # needs only the `fulcrum` executable, not the test suite).
 build() {
-  cmake -S . -B "$build_dir" -DCMAKE_BUILD_TYPE=Release >/dev/null
+  # ccache, when the machine has it, makes rebuilds of unchanged files free.
+  local launcher=()
+  command -v ccache >/dev/null 2>&1 && launcher=(-DCMAKE_CXX_COMPILER_LAUNCHER=ccache)
+  cmake -S . -B "$build_dir" -DCMAKE_BUILD_TYPE=Release "${launcher[@]}" >/dev/null
   cmake --build "$build_dir" -j"$(nproc)" ${1:+--target "$1"}
 }
 
