@@ -10,6 +10,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/photometry/point_source_fit.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
 
 namespace fulcrum::photometry {
@@ -68,6 +69,26 @@ int largest_group_at_or_above(const Image& im, const std::vector<std::uint8_t>& 
     best = std::max(best, count);
   }
   return best;
+}
+
+// A star near the galaxy's centre (central_star.hpp) is subtracted rather
+// than masked, so the nucleus next to it stays usable: a circular Gaussian
+// plus a plane refitted at it (point_source_fit.hpp), its Gaussian part
+// taken away out to 5 FWHM.
+void subtract_point_source(PreparedImage& p, const MaskedSource& m) {
+  const double fwhm_px = p.psf_fwhm_arcsec / p.pixel_scale_arcsec;
+  PointSourceFitOptions fo;
+  fo.radius_pixels = std::max(2.5, fwhm_px + 1.0);
+  fo.start_fwhm_arcsec = m.fwhm_arcsec > 0 ? m.fwhm_arcsec : p.psf_fwhm_arcsec;
+  fo.fit_plane = true;
+  const PointSourceFit f = fit_point_source(p.data, p.nx, p.ny, p.jacobian, m.centre, p.background.rms, fo);
+  if (!f.ok) return;
+  const double s = f.fwhm_arcsec / 2.3548200450309493, r = 5.0 * f.fwhm_arcsec / p.pixel_scale_arcsec;
+  for (int y = std::max(0, static_cast<int>(f.centre.y - r)); y <= std::min(p.ny - 1, static_cast<int>(f.centre.y + r) + 1); ++y)
+    for (int x = std::max(0, static_cast<int>(f.centre.x - r)); x <= std::min(p.nx - 1, static_cast<int>(f.centre.x + r) + 1); ++x) {
+      const Eigen::Vector2d d = p.to_sky(x - f.centre.x, y - f.centre.y);
+      p.data[x + p.nx * y] -= f.amplitude * std::exp(-d.squaredNorm() / (2.0 * s * s));
+    }
 }
 
 }  // namespace
@@ -163,6 +184,9 @@ PreparedImage prepare_image(const Image& image, const Image* mask, const Prepara
     }
   }
   p.galaxy = p.sources.galaxy;
+  if (o.automatic_masking)
+    for (const auto& m : p.sources.sources)
+      if (m.near_centre) subtract_point_source(p, m);
   if (o.automatic_masking) p.auto_masked = p.sources.masked;
   for (std::size_t i = 0; i < n; ++i)
     if (p.auto_masked[i] && !p.user_masked[i]) p.data[i] = kNaN;

@@ -183,15 +183,39 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
   if (gal < 0) return out;
   out.galaxy_area_pixels = static_cast<int>(segs[gal].pixels.size());
 
+  const double pixel_rms = estimate_background(data, {}).rms;
+  // Point sources near the centre that are not the nucleus: masked first,
+  // and left out of everything below.
+  std::vector<double> kept = data;
+  if (o.mask_stars_on_galaxy && o.mask_central_stars) {
+    const CentralStars cs = find_central_stars(data, nx, ny, jac, psf_fwhm_arcsec, out.galaxy, pixel_rms, o.central);
+    out.outer_centre = cs.outer_centre;
+    for (const auto& st : cs.stars) {
+      std::vector<std::uint8_t> disc(n, 0);
+      mark_disc(disc, nx, ny, st.centre.x, st.centre.y, st.mask_radius_pixels);
+      for (std::size_t i = 0; i < n; ++i)
+        if (disc[i]) {
+          out.masked[i] = 1;
+          kept[i] = std::numeric_limits<double>::quiet_NaN();
+        }
+      MaskedSource m{st.centre, st.mask_radius_pixels, 0, true};
+      m.near_centre = true;
+      m.fwhm_arcsec = st.fwhm_arcsec;
+      m.peak_snr = st.peak_snr;
+      m.offset_arcsec = st.offset_arcsec;
+      out.sources.push_back(m);
+    }
+  }
+
   // The galaxy's core: the brightest point of the image smoothed with the
   // wide kernel, where a star's peak is diluted by 1/(1 + w^2) and an
   // extended core much less, so a bright star on the segment is not taken
   // for the nucleus.
   const std::vector<double> sw =
-      smooth_to_fwhm(data, nx, ny, jac, psf_fwhm_arcsec * o.wide_factor);
+      smooth_to_fwhm(kept, nx, ny, jac, psf_fwhm_arcsec * o.wide_factor);
   int ib = -1;
   for (int i : segs[gal].pixels)
-    if (std::isfinite(sw[i]) && (ib < 0 || sw[i] > sw[ib])) ib = i;
+    if (std::isfinite(sw[i]) && !out.masked[i] && (ib < 0 || sw[i] > sw[ib])) ib = i;
   if (ib < 0) ib = segs[gal].pixels.front();
   out.brightest = {static_cast<double>(ib % nx), static_cast<double>(ib / nx)};
   double smax = -1e300;
@@ -208,12 +232,11 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
       if (std::isfinite(s[i]) && std::isfinite(sw[i])) band[i] = s[i] - sw[i];
     const BackgroundSummary bb = estimate_background(band, {});
     const double band_gain = 0.5 - 1.0 / (1.0 + o.wide_factor * o.wide_factor);
-    const double pixel_rms = estimate_background(data, {}).rms;
     const double core_r = o.core_exclusion_fwhm * fwhm_px;
     if (bb.rms > 0.0) {
       for (int i : segs[gal].pixels) {
         const int x = i % nx, y = i / nx;
-        if (x == 0 || y == 0 || x == nx - 1 || y == ny - 1) continue;
+        if (x == 0 || y == 0 || x == nx - 1 || y == ny - 1 || out.masked[i]) continue;
         const double b = band[i];
         if (!(b > o.star_sigma * bb.rms) || !(b > o.star_fraction * s[i])) continue;
         if (std::hypot(x - out.brightest.x, y - out.brightest.y) < core_r) continue;

@@ -22,6 +22,7 @@
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/imaging/noise_estimate.hpp"
 #include "fulcrum/pipeline/sky_grid.hpp"
 #include "fulcrum/report/galaxy_figures.hpp"
 #include "fulcrum/report/molecular_gas.hpp"
@@ -399,7 +400,14 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
       } else {
         r.notes.push_back("No kinematic disc geometry: the halves use every finite pixel of the line map.");
       }
-      if (in.rms) so.rms = *in.rms;
+      std::optional<double> map_rms = in.rms;
+      if (!map_rms && !intensity_error) {  // no noise given: estimate it from emission-free pixels, or refuse
+        const NoiseEstimate ne = estimate_map_noise(*intensity);
+        if (!ne.ok) throw InputError(in.intensity, "no intensity error map or rms given, and the noise cannot be estimated: " + ne.reason);
+        map_rms = ne.rms;
+        r.notes.push_back(ne.sentence(intensity->unit) + (ne.check.empty() ? "" : "; " + ne.check));
+      }
+      if (map_rms) so.rms = *map_rms;
       if (intensity_error) so.error_map = &*intensity_error;
       const split::SplitProblem pr = split::prepare_split(*intensity, so);
 
@@ -410,7 +418,7 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
         robustness::TailDirectionOptions t;
         t.centre = adopted->world;
         t.disc = *pr.aperture;
-        if (in.rms) t.rms = *in.rms;
+        if (map_rms) t.rms = *map_rms;
         t.seed = opt.seed ^ 0x7461696cull;
         auto td = robustness::tail_direction(*tail_image, t);
         tail_pa = td.tail_pa_deg;
