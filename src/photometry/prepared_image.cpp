@@ -91,6 +91,44 @@ void subtract_point_source(PreparedImage& p, const MaskedSource& m) {
     }
 }
 
+// Saturation of the galaxy: at or above a known level, or a clipped core
+// (a plateau of equal maxima); sets p.saturated and p.reason.
+void check_saturation(const Image& image, const PreparationOptions& o, PreparedImage& p) {
+  const std::size_t n = image.size();
+  double sat = kNaN;
+  if (o.saturation_level) sat = *o.saturation_level;
+  else if (auto h = header_value(image.header, "SATURATE")) {
+    try {
+      sat = std::stod(*h);
+    } catch (...) {
+      sat = kNaN;
+    }
+  }
+  if (std::isfinite(sat)) {
+    int count = 0;
+    for (std::size_t i = 0; i < n; ++i)
+      if (p.galaxy[i] && image.data[i] >= sat) ++count;
+    if (count > 0) {
+      p.saturated = true;
+      p.saturated_pixels = count;
+      p.reason = "saturated: " + std::to_string(count) +
+                 " galaxy pixel(s) at or above the saturation level " + fmt(sat);
+    }
+  } else {
+    double gmax = -std::numeric_limits<double>::infinity();
+    for (std::size_t i = 0; i < n; ++i)
+      if (p.galaxy[i] && std::isfinite(image.data[i])) gmax = std::max(gmax, image.data[i]);
+    const int plateau = largest_group_at_or_above(image, p.galaxy, gmax);
+    if (plateau >= o.plateau_pixels) {
+      p.saturated = true;
+      p.saturated_pixels = plateau;
+      p.reason = "saturated: " + std::to_string(plateau) +
+                 " connected galaxy pixels sit at the same maximum value " + fmt(gmax) +
+                 " (a clipped core)";
+    }
+  }
+}
+
 }  // namespace
 
 PreparedImage prepare_image(const Image& image, const Image* mask, const PreparationOptions& o) {
@@ -195,39 +233,7 @@ PreparedImage prepare_image(const Image& image, const Image* mask, const Prepara
     return p;
   }
 
-  // Saturation.
-  double sat = kNaN;
-  if (o.saturation_level) sat = *o.saturation_level;
-  else if (auto h = header_value(image.header, "SATURATE")) {
-    try {
-      sat = std::stod(*h);
-    } catch (...) {
-      sat = kNaN;
-    }
-  }
-  if (std::isfinite(sat)) {
-    int count = 0;
-    for (std::size_t i = 0; i < n; ++i)
-      if (p.galaxy[i] && image.data[i] >= sat) ++count;
-    if (count > 0) {
-      p.saturated = true;
-      p.saturated_pixels = count;
-      p.reason = "saturated: " + std::to_string(count) +
-                 " galaxy pixel(s) at or above the saturation level " + fmt(sat);
-    }
-  } else {
-    double gmax = -std::numeric_limits<double>::infinity();
-    for (std::size_t i = 0; i < n; ++i)
-      if (p.galaxy[i] && std::isfinite(image.data[i])) gmax = std::max(gmax, image.data[i]);
-    const int plateau = largest_group_at_or_above(image, p.galaxy, gmax);
-    if (plateau >= o.plateau_pixels) {
-      p.saturated = true;
-      p.saturated_pixels = plateau;
-      p.reason = "saturated: " + std::to_string(plateau) +
-                 " connected galaxy pixels sit at the same maximum value " + fmt(gmax) +
-                 " (a clipped core)";
-    }
-  }
+  check_saturation(image, o, p);
   if (p.saturated) return p;
 
   // First guesses from the segment's light-weighted moments.

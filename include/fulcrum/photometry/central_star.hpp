@@ -6,12 +6,15 @@
 // Two properties tell such a star from the galaxy's own nucleus:
 //   * it is a point source: a circular Gaussian plus a local plane fitted
 //     at it (point_source_fit.hpp) has the PSF's FWHM within
-//     `fwhm_tolerance` (fractional), while a resolved nucleus is broader;
+//     min(`fwhm_tolerance`, 15%), while a resolved nucleus is broader (an
+//     n = 4 cusp seen through the PSF fits 20-25% broader);
 //   * it is off the centre of the galaxy's outer isophotes: the centre of
 //     the region where the PSF-smoothed galaxy is brighter than the level
 //     enclosing half of its detection segment's area (the unweighted
-//     centroid of that region's pixels, which a star inside the region
-//     does not move), by at least `min_offset_fwhm` PSF FWHMs.
+//     centroid of that region's pixels, leaving out a disc of 1.5 FWHM
+//     about every point source, so a star does not drag it and a nucleus
+//     at the centre leaves a symmetric hole), by at least
+//     `min_offset_fwhm` PSF FWHMs.
 // Candidates are the local maxima (3x3) of a difference-of-Gaussians band
 // pass (the image smoothed with the PSF minus smoothed with `wide_factor`
 // times the PSF; structure of the PSF's size survives, the galaxy's smooth
@@ -19,9 +22,9 @@
 // within `search_radius_fwhm` PSF FWHMs of the outer centre. An unresolved
 // nucleus that is itself off-centre by more than `min_offset_fwhm` would be
 // taken for a star; every masked star is reported, so the user can see it.
-// Each star is masked out to the radius where a PSF of its fitted amplitude
-// falls to the pixel noise, sigma_psf sqrt(2 ln(A / rms)) + 1 pixel, at most
-// 5 FWHM.
+// Each star is subtracted by prepare_image (a Gaussian plus plane refitted
+// there) and only its core, max(1 pixel, 0.6 FWHM), is masked: masking it
+// out to its noise level would take the nucleus next to it too.
 //
 // Pixels 0-based, arrays nx*ny with x fastest, NaN = unusable; sizes on the
 // sky through the Jacobian J = d(east, north)/d(x, y) (arcsec/pixel).

@@ -26,7 +26,8 @@
 // max(3 x 1.4826 MAD, 10%) from it are dropped, and the estimate is the
 // median of the rest. Its error is the standard error of the median,
 // sqrt(pi/2) s / sqrt(N), with s the standard deviation of the kept FWHMs
-// (N >= 3), or the fit errors combined (N < 3), whichever is larger.
+// (N >= 3), or the fit errors combined (N = 2). At least two agreeing
+// stars are needed: one compact source alone may be a galaxy's nucleus.
 // All sizes in arcsec on the sky; pixel positions 0-based.
 #pragma once
 

@@ -13,8 +13,11 @@
 // `grow_fwhm` PSF FWHMs so that its wings go too.
 //
 // Stars near the galaxy's centre are found first (central_star.hpp: point
-// sources off the centre of the outer isophotes), masked, and left out of
-// the search for the core below.
+// sources off the centre of the outer isophotes); those within
+// `core_exclusion_fwhm` FWHMs of that centre are listed (near_centre), their
+// core masked (prepare_image subtracts the rest of the star), and left out
+// of the search for the core below; farther ones are left to the search for
+// stars on the galaxy.
 //
 // Stars projected on the galaxy itself are found as compact peaks of the
 // difference between the image smoothed with the PSF and smoothed with
