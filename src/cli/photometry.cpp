@@ -61,6 +61,8 @@ void run_photometry(const PhotometryArgs& a) {
   using namespace fulcrum::photometry;
   if (std::filesystem::exists(a.json) && !cli::global_flags().force)
     throw InputError(a.json, "the output file exists (use --force to overwrite it)");
+  if (a.psf_fwhm < 0 || !std::isfinite(a.psf_fwhm))
+    throw InputError("", "--psf-fwhm must be a positive number of arcsec");
   if (a.bootstrap < 3) throw InputError("", "--bootstrap must be at least 3");
 
   std::optional<DynamicalCentre> dyn;
@@ -97,6 +99,13 @@ void run_photometry(const PhotometryArgs& a) {
   o.bootstrap.seed = a.seed;
   if (a.isophote_level > 0) o.isophote.level = a.isophote_level;
   const PhotometrySummary s = measure_photometric_centres(image, mask ? &*mask : nullptr, o);
+  if (s.psf.known && s.psf.source != "given")
+    note("photometry: PSF FWHM " + std::to_string(s.psf.fwhm_arcsec) + " arcsec (" + s.psf.source + ": " +
+         s.psf.detail + ")");
+  for (const auto& st : s.stars_near_centre)
+    note("photometry: masked a point source " + std::to_string(st.offset_arcsec) +
+         " arcsec from the centre of the outer isophotes (FITS pixel " + std::to_string(st.pixel_fits.x) + ", " +
+         std::to_string(st.pixel_fits.y) + ")");
   if (!s.ok) warn(a.image + ": no photometric centre: " + s.reason);
   for (const auto& c : s.centres)
     if (s.ok && !c.ok) warn(a.image + ": " + c.id + " failed: " + c.reason);
@@ -129,7 +138,8 @@ FULCRUM_SUBCOMMAND(photometry, 60, [](CLI::App& app) {
   cmd->add_option("--image", a->image, "Optical image (FITS with a celestial WCS)")->required();
   cmd->add_option("--mask", a->mask, "Mask on the image's grid: non-zero or NaN pixels are left out");
   cmd->add_option("--psf-fwhm", a->psf_fwhm,
-                  "PSF (seeing) FWHM in arcsec; default: the header's BMAJ/BMIN");
+                  "PSF (seeing) FWHM in arcsec; default: the header's BMAJ/BMIN, a seeing card "
+                  "(PSF_FWHM, SEEING, FWHM), or measured from the image's stars");
   cmd->add_option("--dynamical-centre", a->dynamical_centre,
                   "Dynamical centre RA_DEG,DEC_DEG to compare with");
   cmd->add_option("--dynamical-cov", a->dynamical_cov,

@@ -112,5 +112,15 @@ FULCRUM_SUBCOMMAND(synth, 20, [](CLI::App& app) {
                        [](MockGalaxy& g) -> GridSpec& { return g.optical.grid; }, "Optical grid");
   add_fields<CubeSpec>(cmd, *cli, "cube-", cube_fields(), [](MockGalaxy& g) -> CubeSpec& { return g.cube; },
                        "Cube");
+  add_fields<DeliveredSpec>(cmd, *cli, "delivered-", delivered_fields(),
+                            [](MockGalaxy& g) -> DeliveredSpec& { return g.delivered; }, "As delivered");
+  {
+    CLI::Option* opt = cmd->add_flag("--as-delivered", cli->values.delivered.enabled,
+                                     "Same as --delivered-enabled: line maps with BLANK = -999 on floats, +inf and "
+                                     "1e38 errors, scattered single pixels and long HISTORY (docs/synth.md)");
+    opt->group("As delivered");
+    SynthCli* c = cli.get();
+    cli->setters.emplace_back(opt, [c](MockGalaxy& g) { g.delivered.enabled = c->values.delivered.enabled; });
+  }
   cmd->callback([cli] { run_synth(*cli); });
 });

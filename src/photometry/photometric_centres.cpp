@@ -50,6 +50,38 @@ void attach_bootstrap(PhotometricCentre& c, const PreparedImage& p, const Estima
   c.cov_arcsec2 = p.jacobian * b.cov_pixels * p.jacobian.transpose();
 }
 
+// Every estimator failed with `why`: the image was fine but not measurable.
+PhotometrySummary refused_summary(const Image& optical, const PsfSize& psf, const std::string& why,
+                                  const PhotometryOptions& o) {
+  PhotometrySummary s;
+  s.image = optical.path;
+  s.psf = psf;
+  s.reason = why;
+  const std::pair<const char*, bool> ids[] = {{"photometric-peak", o.peak_enabled},
+                                              {"photometric-centroid", o.centroid_enabled},
+                                              {"photometric-profile", o.profile_enabled},
+                                              {"photometric-isophote", o.isophote_enabled},
+                                              {"photometric-symmetry", o.symmetry_enabled}};
+  for (const auto& [id, on] : ids)
+    if (on) {
+      PhotometricCentre c;
+      c.id = id;
+      c.reason = why;
+      s.centres.push_back(c);
+    }
+  return s;
+}
+
+// An image or mask fulcrum cannot use at all: prepare_image throws the
+// InputError that names the problem (checked before any PSF search).
+[[noreturn]] void throw_unusable(const Image& optical, const Image* mask, const PhotometryOptions& o) {
+  PreparationOptions po = o.preparation;
+  po.psf_fwhm_arcsec = 1.0;
+  prepare_image(optical, mask, po);
+  throw InputError(optical.path.empty() ? std::string("optical image") : optical.path,
+                   "the optical image cannot be used");
+}
+
 }  // namespace
 
 CentreSpread centre_spread(const std::vector<PhotometricCentre>& centres) {
@@ -91,19 +123,25 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
                                               const PhotometryOptions& options) {
   PhotometryOptions o = options;
   const std::string src = optical.path.empty() ? std::string("optical image") : optical.path;
-  if (!(o.psf_fwhm_arcsec > 0.0)) {
-    if (optical.beam && optical.beam->bmaj_arcsec > 0.0)
-      o.psf_fwhm_arcsec = optical.beam->fwhm_arcsec();
-    else
-      throw InputError(src, "the PSF size is unknown: give --psf-fwhm ARCSEC (the header has no "
-                            "BMAJ/BMIN)");
-  }
+  if (!optical.wcs.valid()) throw InputError(src, "the optical image has no celestial WCS");
+  if ((mask && (mask->nx != optical.nx || mask->ny != optical.ny)) || optical.nx < 8 || optical.ny < 8 ||
+      optical.data.size() != optical.size() ||
+      static_cast<int>(optical.finite_count()) < o.preparation.min_finite_pixels)
+    throw_unusable(optical, mask, o);  // prepare_image names the problem
+  std::vector<std::uint8_t> user_mask;
+  if (mask)
+    for (double m : mask->data) user_mask.push_back((!std::isfinite(m) || m != 0.0) ? 1 : 0);
+  const PsfSize psf = determine_psf_size(optical, o.psf_fwhm_arcsec, mask ? &user_mask : nullptr, o.psf_estimate);
+  if (!psf.known) return refused_summary(optical, psf, "the PSF size is unknown: " + psf.detail +
+                                                           "; give --psf-fwhm ARCSEC", o);
+  o.psf_fwhm_arcsec = psf.fwhm_arcsec;
   o.preparation.psf_fwhm_arcsec = o.psf_fwhm_arcsec;
   const PreparedImage p = prepare_image(optical, mask, o.preparation);
 
   PhotometrySummary s;
   s.image = optical.path;
   s.psf_fwhm_arcsec = o.psf_fwhm_arcsec;
+  s.psf = psf;
   s.pixel_scale_arcsec = p.pixel_scale_arcsec;
   s.background = p.background;
   for (std::size_t i = 0; i < p.user_masked.size(); ++i) {
@@ -113,6 +151,10 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
   for (const auto& m : p.sources.sources) {
     ++s.masked_sources;
     s.masked_sources_on_galaxy += m.on_galaxy ? 1 : 0;
+    if (m.near_centre)
+      s.stars_near_centre.push_back({optical.wcs.pixel_to_world(m.centre),
+                                     {fits_pixel(m.centre.x), fits_pixel(m.centre.y)},
+                                     m.offset_arcsec, m.fwhm_arcsec, m.peak_snr});
   }
   s.galaxy_peak_snr = p.sources.galaxy_peak_snr;
   s.ok = p.ok;
@@ -207,7 +249,8 @@ nlohmann::json to_json(const PhotometrySummary& s) {
   j["image"] = s.image;
   j["status"] = s.status();
   if (!s.ok) j["reason"] = s.reason;
-  j["psf_fwhm_arcsec"] = s.psf_fwhm_arcsec;
+  j["psf_fwhm_arcsec"] = s.psf.known ? nlohmann::json(s.psf_fwhm_arcsec) : nlohmann::json(nullptr);
+  j["psf"] = to_json(s.psf);
   j["pixel_scale_arcsec"] = s.pixel_scale_arcsec;
   j["background"] = {{"level", s.background.level},
                      {"rms", s.background.rms},
@@ -218,7 +261,16 @@ nlohmann::json to_json(const PhotometrySummary& s) {
   j["masking"] = {{"user_masked_pixels", s.user_masked_pixels},
                   {"auto_masked_pixels", s.auto_masked_pixels},
                   {"masked_sources", s.masked_sources},
-                  {"masked_sources_on_galaxy", s.masked_sources_on_galaxy}};
+                  {"masked_sources_on_galaxy", s.masked_sources_on_galaxy},
+                  {"stars_near_centre", nlohmann::json::array()}};
+  for (const auto& st : s.stars_near_centre)
+    j["masking"]["stars_near_centre"].push_back({{"ra_deg", st.world.ra_deg},
+                                                 {"dec_deg", st.world.dec_deg},
+                                                 {"x_fits", st.pixel_fits.x},
+                                                 {"y_fits", st.pixel_fits.y},
+                                                 {"offset_from_outer_isophotes_arcsec", st.offset_arcsec},
+                                                 {"fwhm_arcsec", st.fwhm_arcsec},
+                                                 {"peak_snr", st.peak_snr}});
   j["galaxy_peak_snr"] = s.galaxy_peak_snr;
   j["centres"] = nlohmann::json::array();
   for (const auto& c : s.centres) j["centres"].push_back(to_json(c));

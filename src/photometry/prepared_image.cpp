@@ -10,6 +10,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/fits_image.hpp"
+#include "fulcrum/photometry/point_source_fit.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
 
 namespace fulcrum::photometry {
@@ -68,6 +69,64 @@ int largest_group_at_or_above(const Image& im, const std::vector<std::uint8_t>& 
     best = std::max(best, count);
   }
   return best;
+}
+
+// A star near the galaxy's centre (central_star.hpp) is subtracted rather
+// than masked, so the nucleus next to it stays usable: a circular Gaussian
+// plus a plane refitted at it (point_source_fit.hpp), its Gaussian part
+// taken away out to 5 FWHM.
+void subtract_point_source(PreparedImage& p, const MaskedSource& m) {
+  const double fwhm_px = p.psf_fwhm_arcsec / p.pixel_scale_arcsec;
+  PointSourceFitOptions fo;
+  fo.radius_pixels = std::max(2.5, fwhm_px + 1.0);
+  fo.start_fwhm_arcsec = m.fwhm_arcsec > 0 ? m.fwhm_arcsec : p.psf_fwhm_arcsec;
+  fo.fit_plane = true;
+  const PointSourceFit f = fit_point_source(p.data, p.nx, p.ny, p.jacobian, m.centre, p.background.rms, fo);
+  if (!f.ok) return;
+  const double s = f.fwhm_arcsec / 2.3548200450309493, r = 5.0 * f.fwhm_arcsec / p.pixel_scale_arcsec;
+  for (int y = std::max(0, static_cast<int>(f.centre.y - r)); y <= std::min(p.ny - 1, static_cast<int>(f.centre.y + r) + 1); ++y)
+    for (int x = std::max(0, static_cast<int>(f.centre.x - r)); x <= std::min(p.nx - 1, static_cast<int>(f.centre.x + r) + 1); ++x) {
+      const Eigen::Vector2d d = p.to_sky(x - f.centre.x, y - f.centre.y);
+      p.data[x + p.nx * y] -= f.amplitude * std::exp(-d.squaredNorm() / (2.0 * s * s));
+    }
+}
+
+// Saturation of the galaxy: at or above a known level, or a clipped core
+// (a plateau of equal maxima); sets p.saturated and p.reason.
+void check_saturation(const Image& image, const PreparationOptions& o, PreparedImage& p) {
+  const std::size_t n = image.size();
+  double sat = kNaN;
+  if (o.saturation_level) sat = *o.saturation_level;
+  else if (auto h = header_value(image.header, "SATURATE")) {
+    try {
+      sat = std::stod(*h);
+    } catch (...) {
+      sat = kNaN;
+    }
+  }
+  if (std::isfinite(sat)) {
+    int count = 0;
+    for (std::size_t i = 0; i < n; ++i)
+      if (p.galaxy[i] && image.data[i] >= sat) ++count;
+    if (count > 0) {
+      p.saturated = true;
+      p.saturated_pixels = count;
+      p.reason = "saturated: " + std::to_string(count) +
+                 " galaxy pixel(s) at or above the saturation level " + fmt(sat);
+    }
+  } else {
+    double gmax = -std::numeric_limits<double>::infinity();
+    for (std::size_t i = 0; i < n; ++i)
+      if (p.galaxy[i] && std::isfinite(image.data[i])) gmax = std::max(gmax, image.data[i]);
+    const int plateau = largest_group_at_or_above(image, p.galaxy, gmax);
+    if (plateau >= o.plateau_pixels) {
+      p.saturated = true;
+      p.saturated_pixels = plateau;
+      p.reason = "saturated: " + std::to_string(plateau) +
+                 " connected galaxy pixels sit at the same maximum value " + fmt(gmax) +
+                 " (a clipped core)";
+    }
+  }
 }
 
 }  // namespace
@@ -163,6 +222,9 @@ PreparedImage prepare_image(const Image& image, const Image* mask, const Prepara
     }
   }
   p.galaxy = p.sources.galaxy;
+  if (o.automatic_masking)
+    for (const auto& m : p.sources.sources)
+      if (m.near_centre) subtract_point_source(p, m);
   if (o.automatic_masking) p.auto_masked = p.sources.masked;
   for (std::size_t i = 0; i < n; ++i)
     if (p.auto_masked[i] && !p.user_masked[i]) p.data[i] = kNaN;
@@ -171,39 +233,7 @@ PreparedImage prepare_image(const Image& image, const Image* mask, const Prepara
     return p;
   }
 
-  // Saturation.
-  double sat = kNaN;
-  if (o.saturation_level) sat = *o.saturation_level;
-  else if (auto h = header_value(image.header, "SATURATE")) {
-    try {
-      sat = std::stod(*h);
-    } catch (...) {
-      sat = kNaN;
-    }
-  }
-  if (std::isfinite(sat)) {
-    int count = 0;
-    for (std::size_t i = 0; i < n; ++i)
-      if (p.galaxy[i] && image.data[i] >= sat) ++count;
-    if (count > 0) {
-      p.saturated = true;
-      p.saturated_pixels = count;
-      p.reason = "saturated: " + std::to_string(count) +
-                 " galaxy pixel(s) at or above the saturation level " + fmt(sat);
-    }
-  } else {
-    double gmax = -std::numeric_limits<double>::infinity();
-    for (std::size_t i = 0; i < n; ++i)
-      if (p.galaxy[i] && std::isfinite(image.data[i])) gmax = std::max(gmax, image.data[i]);
-    const int plateau = largest_group_at_or_above(image, p.galaxy, gmax);
-    if (plateau >= o.plateau_pixels) {
-      p.saturated = true;
-      p.saturated_pixels = plateau;
-      p.reason = "saturated: " + std::to_string(plateau) +
-                 " connected galaxy pixels sit at the same maximum value " + fmt(gmax) +
-                 " (a clipped core)";
-    }
-  }
+  check_saturation(image, o, p);
   if (p.saturated) return p;
 
   // First guesses from the segment's light-weighted moments.

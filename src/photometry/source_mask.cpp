@@ -74,6 +74,83 @@ void mark_disc(std::vector<std::uint8_t>& m, int nx, int ny, double cx, double c
       if ((x - cx) * (x - cx) + (y - cy) * (y - cy) <= r * r) m[x + nx * y] = 1;
 }
 
+// Point sources near the centre that are not the nucleus
+// (central_star.hpp): masked in `out`, listed in its sources; returns the
+// data with them blanked, for the search of the galaxy's core.
+std::vector<double> mask_central_stars(const std::vector<double>& data, int nx, int ny, const Eigen::Matrix2d& jac,
+                                       double psf_fwhm_arcsec, double pixel_rms, const SourceMaskOptions& o,
+                                       SourceMaskSummary& out) {
+  std::vector<double> kept = data;
+  if (!o.mask_stars_on_galaxy || !o.mask_central_stars) return kept;
+  const CentralStars cs = find_central_stars(data, nx, ny, jac, psf_fwhm_arcsec, out.galaxy, pixel_rms, o.central);
+  out.outer_centre = cs.outer_centre;
+  const double fwhm_px = psf_fwhm_arcsec / std::sqrt(std::abs(jac.determinant()));
+  for (const auto& st : cs.stars) {
+    // Farther out the star is masked whole by the search for stars on the
+    // galaxy, which costs the nucleus nothing.
+    if (std::hypot(st.centre.x - cs.outer_centre.x, st.centre.y - cs.outer_centre.y) > o.core_exclusion_fwhm * fwhm_px)
+      continue;
+    std::vector<std::uint8_t> disc(data.size(), 0);
+    mark_disc(disc, nx, ny, st.centre.x, st.centre.y, st.mask_radius_pixels);
+    for (std::size_t i = 0; i < data.size(); ++i)
+      if (disc[i]) {
+        out.masked[i] = 1;
+        kept[i] = std::numeric_limits<double>::quiet_NaN();
+      }
+    MaskedSource m{st.centre, st.mask_radius_pixels, 0, true};
+    m.near_centre = true;
+    m.fwhm_arcsec = st.fwhm_arcsec;
+    m.peak_snr = st.peak_snr;
+    m.offset_arcsec = st.offset_arcsec;
+    out.sources.push_back(m);
+  }
+  return kept;
+}
+
+// Stars projected on the galaxy away from its core: compact peaks of the
+// band pass, each masked out to where a PSF of its amplitude meets the noise.
+void mask_stars_on_galaxy(const std::vector<double>& data, const std::vector<double>& s,
+                          const std::vector<double>& sw, int nx, int ny, const std::vector<int>& galaxy_pixels,
+                          double sigma_px, double fwhm_px, double pixel_rms, const SourceMaskOptions& o,
+                          SourceMaskSummary& out) {
+  const std::size_t n = data.size();
+  // Band pass: structure of the PSF's size survives, the galaxy's smooth
+  // light mostly cancels. A PSF-shaped star of amplitude A gives a band
+  // peak of A (1/2 - 1/(1 + w^2)) for circular Gaussians (w = wide factor).
+  std::vector<double> band(n, std::numeric_limits<double>::quiet_NaN());
+  for (std::size_t i = 0; i < n; ++i)
+    if (std::isfinite(s[i]) && std::isfinite(sw[i])) band[i] = s[i] - sw[i];
+  const BackgroundSummary bb = estimate_background(band, {});
+  const double band_gain = 0.5 - 1.0 / (1.0 + o.wide_factor * o.wide_factor);
+  const double core_r = o.core_exclusion_fwhm * fwhm_px;
+  if (bb.rms > 0.0) {
+    for (int i : galaxy_pixels) {
+      const int x = i % nx, y = i / nx;
+      if (x == 0 || y == 0 || x == nx - 1 || y == ny - 1 || out.masked[i]) continue;
+      const double b = band[i];
+      if (!(b > o.star_sigma * bb.rms) || !(b > o.star_fraction * s[i])) continue;
+      if (std::hypot(x - out.brightest.x, y - out.brightest.y) < core_r) continue;
+      bool is_max = true;
+      for (int dy = -1; dy <= 1 && is_max; ++dy)
+        for (int dx = -1; dx <= 1; ++dx) {
+          if (dx == 0 && dy == 0) continue;
+          const double nb = band[(x + dx) + nx * (y + dy)];
+          if (std::isfinite(nb) && nb >= b) {
+            is_max = false;
+            break;
+          }
+        }
+      if (!is_max) continue;
+      const double amp = b / band_gain;
+      const double ratio = pixel_rms > 0.0 ? std::max(amp / pixel_rms, 2.0) : 2.0;
+      const double r = std::min(sigma_px * std::sqrt(2.0 * std::log(ratio)) + 1.0,
+                                5.0 * fwhm_px);
+      mark_disc(out.masked, nx, ny, x, y, r);
+      out.sources.push_back({{static_cast<double>(x), static_cast<double>(y)}, r, 0, true});
+    }
+  }
+}
+
 }  // namespace
 
 SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx, int ny,
@@ -183,15 +260,20 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
   if (gal < 0) return out;
   out.galaxy_area_pixels = static_cast<int>(segs[gal].pixels.size());
 
+  const double pixel_rms = estimate_background(data, {}).rms;
+  // Point sources near the centre that are not the nucleus: masked first,
+  // and left out of everything below.
+  const std::vector<double> kept = mask_central_stars(data, nx, ny, jac, psf_fwhm_arcsec, pixel_rms, o, out);
+
   // The galaxy's core: the brightest point of the image smoothed with the
   // wide kernel, where a star's peak is diluted by 1/(1 + w^2) and an
   // extended core much less, so a bright star on the segment is not taken
   // for the nucleus.
   const std::vector<double> sw =
-      smooth_to_fwhm(data, nx, ny, jac, psf_fwhm_arcsec * o.wide_factor);
+      smooth_to_fwhm(kept, nx, ny, jac, psf_fwhm_arcsec * o.wide_factor);
   int ib = -1;
   for (int i : segs[gal].pixels)
-    if (std::isfinite(sw[i]) && (ib < 0 || sw[i] > sw[ib])) ib = i;
+    if (std::isfinite(sw[i]) && !out.masked[i] && (ib < 0 || sw[i] > sw[ib])) ib = i;
   if (ib < 0) ib = segs[gal].pixels.front();
   out.brightest = {static_cast<double>(ib % nx), static_cast<double>(ib / nx)};
   double smax = -1e300;
@@ -199,44 +281,8 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
     if (std::isfinite(s[i])) smax = std::max(smax, s[i]);
   out.galaxy_peak_snr = (smax - sb.level) / sb.rms;
 
-  if (o.mask_stars_on_galaxy) {
-    // Band pass: structure of the PSF's size survives, the galaxy's smooth
-    // light mostly cancels. A PSF-shaped star of amplitude A gives a band
-    // peak of A (1/2 - 1/(1 + w^2)) for circular Gaussians (w = wide factor).
-    std::vector<double> band(n, std::numeric_limits<double>::quiet_NaN());
-    for (std::size_t i = 0; i < n; ++i)
-      if (std::isfinite(s[i]) && std::isfinite(sw[i])) band[i] = s[i] - sw[i];
-    const BackgroundSummary bb = estimate_background(band, {});
-    const double band_gain = 0.5 - 1.0 / (1.0 + o.wide_factor * o.wide_factor);
-    const double pixel_rms = estimate_background(data, {}).rms;
-    const double core_r = o.core_exclusion_fwhm * fwhm_px;
-    if (bb.rms > 0.0) {
-      for (int i : segs[gal].pixels) {
-        const int x = i % nx, y = i / nx;
-        if (x == 0 || y == 0 || x == nx - 1 || y == ny - 1) continue;
-        const double b = band[i];
-        if (!(b > o.star_sigma * bb.rms) || !(b > o.star_fraction * s[i])) continue;
-        if (std::hypot(x - out.brightest.x, y - out.brightest.y) < core_r) continue;
-        bool is_max = true;
-        for (int dy = -1; dy <= 1 && is_max; ++dy)
-          for (int dx = -1; dx <= 1; ++dx) {
-            if (dx == 0 && dy == 0) continue;
-            const double nb = band[(x + dx) + nx * (y + dy)];
-            if (std::isfinite(nb) && nb >= b) {
-              is_max = false;
-              break;
-            }
-          }
-        if (!is_max) continue;
-        const double amp = b / band_gain;
-        const double ratio = pixel_rms > 0.0 ? std::max(amp / pixel_rms, 2.0) : 2.0;
-        const double r = std::min(sigma_px * std::sqrt(2.0 * std::log(ratio)) + 1.0,
-                                  5.0 * fwhm_px);
-        mark_disc(out.masked, nx, ny, x, y, r);
-        out.sources.push_back({{static_cast<double>(x), static_cast<double>(y)}, r, 0, true});
-      }
-    }
-  }
+  if (o.mask_stars_on_galaxy)
+    mask_stars_on_galaxy(data, s, sw, nx, ny, segs[gal].pixels, sigma_px, fwhm_px, pixel_rms, o, out);
   return out;
 }
 

@@ -6,6 +6,7 @@
 #include <filesystem>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/imaging/noise_estimate.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/pipeline/adopted_centre.hpp"
 #include "fulcrum/pipeline/galaxy_stages.hpp"
@@ -89,6 +90,20 @@ void robustness_step(const GalaxyMaps& maps, const AnalysisOptions& opt, GalaxyS
     record(s, "split", StageStatus::skipped, why);
     record(s, "robustness", StageStatus::skipped, why);
     return;
+  }
+  if (!s.input.rms && !maps.intensity_error) {
+    // No noise given: estimate it from the emission-free pixels, or refuse
+    // (never a significance-free analysis; imaging/noise_estimate.hpp).
+    const NoiseEstimate ne = estimate_map_noise(*maps.intensity);
+    if (!ne.ok) {
+      const std::string why = s.input.intensity + ": no intensity error map or rms given, and the noise cannot be "
+                              "estimated: " + ne.reason;
+      record(s, "split", StageStatus::failed, why);
+      s.undetermined_reason = "the split could not be measured: " + why;
+      return;
+    }
+    s.input.rms = ne.rms;  // used by the split, the bootstrap and the calibration alike
+    s.notes.push_back(ne.sentence(maps.intensity->unit) + (ne.check.empty() ? "" : "; " + ne.check));
   }
   s.aperture = disc_aperture(s.kinematics ? &*s.kinematics : nullptr, s.beam);
   if (!s.aperture) s.notes.push_back("No kinematic disc geometry: the halves use every finite pixel of the line map.");

@@ -92,4 +92,23 @@ const std::vector<Field<CubeSpec>>& cube_fields() {
   return f;
 }
 
+const std::vector<Field<DeliveredSpec>>& delivered_fields() {
+  using S = DeliveredSpec;
+  static const std::vector<Field<S>> f = {
+      {"enabled", &S::enabled, "write the line maps as delivered: BLANK on floats, bad errors, scattered pixels"},
+      {"blank_value", &S::blank_value, "value of missing pixels, declared by a BLANK card"},
+      {"field_radius_fraction", &S::field_radius_fraction,
+       "observed field radius over the smaller grid half-size; blank beyond"},
+      {"failed_fit_fraction", &S::failed_fit_fraction,
+       "fraction of the galaxy's velocity pixels whose error is +inf or 1e38"},
+      {"failed_fit_pixels_outside", &S::failed_fit_pixels_outside,
+       "pixels outside the galaxy with a blank velocity and an error of +inf or 1e38"},
+      {"scattered_pixels", &S::scattered_pixels, "isolated single pixels with wild velocities outside the galaxy"},
+      {"scattered_velocity_range_kms", &S::scattered_velocity_range_kms,
+       "their velocities: uniform within vsys +- this, km/s"},
+      {"history_cards", &S::history_cards, "number of HISTORY cards"},
+  };
+  return f;
+}
+
 }  // namespace fulcrum::synth

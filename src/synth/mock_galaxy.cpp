@@ -310,6 +310,18 @@ void validate_mock(const MockGalaxy& g) {
     require(o.n_stars >= 0 && o.n_stars <= 200, "optical.n_stars must be in [0, 200]");
     require(o.star_counts >= 0.0, "optical.star_counts must be >= 0");
   }
+  if (g.delivered.enabled) {
+    const auto& d = g.delivered;
+    require(std::isfinite(d.blank_value), "delivered.blank_value must be a finite number");
+    require(d.field_radius_fraction > 0.0 && d.field_radius_fraction <= 1.5,
+            "delivered.field_radius_fraction must be in (0, 1.5]");
+    require(d.failed_fit_fraction >= 0.0 && d.failed_fit_fraction <= 0.5,
+            "delivered.failed_fit_fraction must be in [0, 0.5]");
+    require(d.failed_fit_pixels_outside >= 0 && d.scattered_pixels >= 0 && d.history_cards >= 0 &&
+                d.history_cards <= 10000,
+            "delivered pixel counts must be >= 0 and history_cards at most 10000");
+    require(d.scattered_velocity_range_kms >= 0.0, "delivered.scattered_velocity_range_kms must be >= 0");
+  }
   if (g.cube.enabled) {
     const auto& c = g.cube;
     require(c.n_channels >= 4 && c.n_channels <= 4096, "cube.n_channels must be 4-4096");
@@ -743,6 +755,11 @@ MockProducts make_mock(const MockGalaxy& g) {
   truth["truth"] = d;
   truth["generator"] = {{"program", "fulcrum synth"}, {"seed", g.seed},
                         {"random", "mt19937_64 with SplitMix64 sub-streams and Box-Muller normals"}};
+  if (g.delivered.enabled) {
+    out.delivered = make_delivered(out.velocity, out.velocity_error, out.intensity, out.intensity_error, g.vsys_kms,
+                                   g.delivered, g.seed);
+    truth["delivered"] = out.delivered->summary;
+  }
   out.truth = std::move(truth);
   return out;
 }

@@ -100,7 +100,7 @@ nlohmann::json write_fields(const S& obj, const std::vector<Field<S>>& fields) {
 void mock_apply_toml(const toml::table& root, MockGalaxy& g, const std::string& path);
 
 void mock_apply_toml(const toml::table& root, MockGalaxy& g, const std::string& path) {
-  read_fields(root, g, galaxy_fields(), path, "galaxy", {"grid", "optical", "cube"});
+  read_fields(root, g, galaxy_fields(), path, "galaxy", {"grid", "optical", "cube", "delivered"});
   if (auto* t = subtable(root, "grid", path))
     read_fields(*t, g.grid, grid_fields(), path, "galaxy.grid", {});
   if (auto* t = subtable(root, "optical", path)) {
@@ -110,6 +110,8 @@ void mock_apply_toml(const toml::table& root, MockGalaxy& g, const std::string& 
   }
   if (auto* t = subtable(root, "cube", path))
     read_fields(*t, g.cube, cube_fields(), path, "galaxy.cube", {});
+  if (auto* t = subtable(root, "delivered", path))
+    read_fields(*t, g.delivered, delivered_fields(), path, "galaxy.delivered", {});
 }
 
 MockGalaxy mock_from_toml(const std::string& path) {
@@ -143,6 +145,7 @@ nlohmann::json mock_to_json(const MockGalaxy& g) {
   j["optical"] = write_fields(g.optical, optical_fields());
   j["optical"]["grid"] = write_fields(g.optical.grid, grid_fields());
   j["cube"] = write_fields(g.cube, cube_fields());
+  j["delivered"] = write_fields(g.delivered, delivered_fields());
   return j;
 }
 
@@ -160,11 +163,26 @@ std::vector<std::string> write_mock(const std::string& dir, const MockProducts& 
     write_image((std::filesystem::path(dir) / file).string(), im, cards);
     written.push_back(file);
   };
-  img("vel.fits", p.velocity, "velocity");
-  img("vel_err.fits", p.velocity_error, "velocity error");
+  if (p.delivered) {
+    auto as_delivered = [&](const std::string& file, const Image& im, const std::string& what) {
+      std::vector<TextCard> cards;
+      for (const auto& c : extra) cards.push_back({c.name, c.value, c.comment, c.numeric});
+      cards.push_back({"BTYPE", what, "", false});
+      write_delivered_image((std::filesystem::path(dir) / file).string(), im,
+                            p.delivered->summary.value("blank_value", -999.0), cards, p.delivered->history);
+      written.push_back(file);
+    };
+    as_delivered("vel.fits", p.delivered->velocity, "velocity");
+    as_delivered("vel_err.fits", p.delivered->velocity_error, "velocity error");
+    as_delivered("mom0.fits", p.delivered->intensity, "integrated intensity");
+    as_delivered("mom0_err.fits", p.delivered->intensity_error, "integrated intensity error");
+  } else {
+    img("vel.fits", p.velocity, "velocity");
+    img("vel_err.fits", p.velocity_error, "velocity error");
+    img("mom0.fits", p.intensity, "integrated intensity");
+    img("mom0_err.fits", p.intensity_error, "integrated intensity error");
+  }
   img("vel_model.fits", p.velocity_model, "velocity model (noise-free)");
-  img("mom0.fits", p.intensity, "integrated intensity");
-  img("mom0_err.fits", p.intensity_error, "integrated intensity error");
   img("mom0_model.fits", p.intensity_model, "integrated intensity model (noise-free)");
   if (p.optical) img("opt.fits", *p.optical, "optical");
   if (p.cube) {

@@ -87,11 +87,23 @@ TEST_CASE("fulcrum photometry refuses bad input with one line", "[cli][photometr
   r = test::run_fulcrum(base + " --dynamical-centre 150,20 --dynamical-cov 1,2,1");
   CHECK(r.exit_code == 2);
   CHECK(r.err.find("not a covariance") != std::string::npos);
-  r = test::run_fulcrum("photometry --image " + (dir / "opt.fits").string() + " --json " +
+  r = test::run_fulcrum("photometry --image " + (dir / "opt.fits").string() + " --psf-fwhm=-1 --json " +
                         (dir / "o.json").string());
   CHECK(r.exit_code == 2);
-  CHECK(r.err.find("--psf-fwhm") != std::string::npos);
+  CHECK(r.err.find("--psf-fwhm must be a positive") != std::string::npos);
   CHECK(!std::filesystem::exists(dir / "o.json"));
+  // No PSF size anywhere and no star to measure it: a refused measurement
+  // that says so (not an error), with a warning line.
+  r = test::run_fulcrum("photometry --image " + (dir / "opt.fits").string() + " --json " +
+                        (dir / "o.json").string());
+  CHECK(r.exit_code == 0);
+  CHECK(r.err.find("--psf-fwhm") != std::string::npos);
+  {
+    nlohmann::json j;
+    std::ifstream(dir / "o.json") >> j;
+    CHECK(j["status"] == "refused");
+    CHECK(j["psf"]["source"] == "not-available");
+  }
   // A flat image: refused measurement, written as failed statuses.
   Image flat = test::make_test_image(g);
   std::fill(flat.data.begin(), flat.data.end(), 5.0);

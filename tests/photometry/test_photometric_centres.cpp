@@ -205,8 +205,11 @@ TEST_CASE("an unusable image is an InputError", "[photometry][refusal]") {
   small_mask.nx = small_mask.ny = 10;
   small_mask.data.assign(100, 0.0);
   CHECK_THROWS_AS(measure_photometric_centres(im, &small_mask, quick_options(1.0)), InputError);
-  // No PSF size and no beam in the header.
-  CHECK_THROWS_AS(measure_photometric_centres(im, nullptr, quick_options(0.0)), InputError);
+  // No PSF size, no beam, no seeing card and no star: refused with the reason.
+  const PhotometrySummary no_psf = measure_photometric_centres(im, nullptr, quick_options(0.0));
+  CHECK_FALSE(no_psf.ok);
+  CHECK(no_psf.psf.source == "not-available");
+  CHECK(no_psf.reason.find("--psf-fwhm") != std::string::npos);
   Image with_beam = im;
   with_beam.beam = Beam{1.0, 1.0, 0.0};
   CHECK(measure_photometric_centres(with_beam, nullptr, quick_options(0.0)).psf_fwhm_arcsec == 1.0);

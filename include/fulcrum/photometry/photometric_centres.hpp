@@ -14,9 +14,9 @@
 // ("ok" or "failed") with a reason when it failed. The profile, isophote and
 // symmetry estimators start from the centroid when it succeeded.
 //
-// The whole image being unusable (no WCS, too small, a mask on another grid,
-// no PSF size) is an InputError; a flat image, no galaxy or a saturated core
-// is a status: the summary's `status` is "refused", with the reason, and
+// The whole image being unusable (no WCS, too small, a mask on another grid)
+// is an InputError; an unknown PSF size, a flat image, no galaxy or a
+// saturated core is a status: the summary's `status` is "refused", with the reason, and
 // every estimator failed with it.
 //
 // The spread among the successful estimators (their scatter about their
@@ -36,14 +36,17 @@
 #include "fulcrum/photometry/peak.hpp"
 #include "fulcrum/photometry/prepared_image.hpp"
 #include "fulcrum/photometry/profile_fit.hpp"
+#include "fulcrum/photometry/psf_size.hpp"
 #include "fulcrum/photometry/symmetry.hpp"
 
 namespace fulcrum::photometry {
 
 struct PhotometryOptions {
-  // PSF FWHM (arcsec); <= 0: the image's beam (BMAJ/BMIN) when it has one,
-  // otherwise the call throws InputError asking for it.
+  // PSF FWHM (arcsec); <= 0: the image's beam (BMAJ/BMIN), a seeing card,
+  // or measured from the image's stars (psf_size.hpp); when none works the
+  // summary is "refused" with the reason.
   double psf_fwhm_arcsec = 0.0;
+  PsfEstimateOptions psf_estimate;
   PreparationOptions preparation;  // its psf_fwhm_arcsec is set from the above
   PeakOptions peak;
   CentroidOptions centroid;
@@ -77,17 +80,28 @@ struct CentreSpread {
   std::string farthest_pair[2];
 };
 
+// A point source near the galaxy's centre that was masked (central_star.hpp).
+struct StarNearCentre {
+  WorldCoord world;
+  PixelCoord pixel_fits;          // 1-based
+  double offset_arcsec = 0.0;     // from the centre of the outer isophotes
+  double fwhm_arcsec = 0.0;       // fitted
+  double peak_snr = 0.0;
+};
+
 struct PhotometrySummary {
   bool ok = false;               // the galaxy was measurable at all
   std::string reason;            // when !ok
   std::string image;             // path, for the report
   double psf_fwhm_arcsec = 0.0;
+  PsfSize psf;                   // where the PSF size came from
   double pixel_scale_arcsec = 0.0;
   BackgroundSummary background;
   int user_masked_pixels = 0;
   int auto_masked_pixels = 0;
   int masked_sources = 0;
   int masked_sources_on_galaxy = 0;
+  std::vector<StarNearCentre> stars_near_centre;
   double galaxy_peak_snr = 0.0;
   std::vector<PhotometricCentre> centres;
   CentreSpread spread;

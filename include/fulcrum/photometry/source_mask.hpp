@@ -12,6 +12,13 @@
 // other segment (foreground stars, neighbours) is masked, grown by
 // `grow_fwhm` PSF FWHMs so that its wings go too.
 //
+// Stars near the galaxy's centre are found first (central_star.hpp: point
+// sources off the centre of the outer isophotes); those within
+// `core_exclusion_fwhm` FWHMs of that centre are listed (near_centre), their
+// core masked (prepare_image subtracts the rest of the star), and left out
+// of the search for the core below; farther ones are left to the search for
+// stars on the galaxy.
+//
 // Stars projected on the galaxy itself are found as compact peaks of the
 // difference between the image smoothed with the PSF and smoothed with
 // `wide_factor` times the PSF (a difference-of-Gaussians band pass that
@@ -35,6 +42,7 @@
 #include <vector>
 
 #include "fulcrum/io/wcs.hpp"
+#include "fulcrum/photometry/central_star.hpp"
 
 namespace fulcrum::photometry {
 
@@ -49,6 +57,8 @@ struct SourceMaskOptions {
   double star_sigma = 8.0;
   double star_fraction = 0.1;
   double core_exclusion_fwhm = 2.5;
+  bool mask_central_stars = true;
+  CentralStarOptions central;
   std::optional<PixelCoord> galaxy_hint;  // 0-based pixel inside the galaxy
 };
 
@@ -57,6 +67,10 @@ struct MaskedSource {
   double radius_pixels = 0.0;  // of the masked disc (on-galaxy stars), or 0 (segment)
   int area_pixels = 0;
   bool on_galaxy = false;
+  bool near_centre = false;    // a point source near the centre (central_star.hpp)
+  double fwhm_arcsec = 0.0;    // fitted, for near-centre stars
+  double peak_snr = 0.0;       // fitted amplitude / pixel rms, for near-centre stars
+  double offset_arcsec = 0.0;  // from the outer-isophote centre, for near-centre stars
 };
 
 struct SourceMaskSummary {
@@ -69,6 +83,7 @@ struct SourceMaskSummary {
   double smoothed_rms = 0.0;           // rms of the PSF-smoothed image
   double galaxy_peak_snr = 0.0;        // peak of the smoothed galaxy / smoothed rms
   PixelCoord brightest;                // brightest smoothed pixel of the galaxy
+  PixelCoord outer_centre;             // centre of the outer isophotes (central_star.hpp)
 };
 
 // `data`: background-subtracted image, NaN where unusable. `jacobian`:

@@ -24,5 +24,6 @@ const std::vector<Field<MockGalaxy>>& galaxy_fields();
 const std::vector<Field<GridSpec>>& grid_fields();
 const std::vector<Field<OpticalSpec>>& optical_fields();
 const std::vector<Field<CubeSpec>>& cube_fields();
+const std::vector<Field<DeliveredSpec>>& delivered_fields();
 
 }  // namespace fulcrum::synth

@@ -26,6 +26,7 @@
 #include <nlohmann/json.hpp>
 
 #include "fulcrum/io/image.hpp"
+#include "fulcrum/synth/delivered_style.hpp"
 
 namespace fulcrum::synth {
 
@@ -111,6 +112,7 @@ struct MockGalaxy {
 
   OpticalSpec optical;
   CubeSpec cube;
+  DeliveredSpec delivered;  // make the line maps look delivered (delivered_style.hpp)
 
   // Free text: what this mock is meant to show, and the verdict expected
   // for it by the whole analysis (empty when none).
@@ -128,6 +130,7 @@ struct MockProducts {
   Image intensity_model;   // Jy/beam km/s, noise-free
   std::optional<Image> optical;
   std::optional<Image> optical_model;
+  std::optional<DeliveredMaps> delivered;  // when galaxy.delivered.enabled: written instead
   std::optional<Cube> cube;  // header holds celestial + spectral cards, as if read from a file
   std::string cube_spectral_cards;  // spectral-axis header cards for write_cube
   nlohmann::json truth;    // every parameter plus derived truths
@@ -145,7 +148,8 @@ void validate_mock(const MockGalaxy& galaxy);
 MockProducts make_mock(const MockGalaxy& galaxy);
 
 // Read mock parameters from a TOML file (one [galaxy] table with the field
-// names above, optional [galaxy.grid], [galaxy.optical], [galaxy.cube]).
+// names above, optional [galaxy.grid], [galaxy.optical], [galaxy.cube],
+// [galaxy.delivered]).
 MockGalaxy mock_from_toml(const std::string& path);
 // The parameters as JSON (the "parameters" block of the truth file).
 nlohmann::json mock_to_json(const MockGalaxy& galaxy);
