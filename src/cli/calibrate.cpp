@@ -16,6 +16,8 @@
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 #include "galaxy_args.hpp"
 #include "subcommand.hpp"
 
@@ -23,9 +25,7 @@ namespace {
 
 struct CalibrateArgs {
   fulcrum::cli::GalaxyArgs galaxy;
-  std::uint64_t seed = 1;
-  int draws = 20000;
-  std::size_t mocks = 100, mock_draws = 2000, refit_every = 1;
+  std::int64_t seed = 1, draws = 20000, mocks = 100, mock_draws = 2000, refit_every = 1;
   bool no_refit = false, per_mock = false;
   std::string from, out;
 };
@@ -36,8 +36,11 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
   set_quiet(cli::global_flags().quiet);
   a.galaxy.finish(cmd, a.from.empty());
   auto& in = a.galaxy.in;
-  if (a.mocks < 1) throw InputError("", "--mocks must be at least 1");
-  if (a.mock_draws < 100) throw InputError("", "--mock-draws must be at least 100");
+  const std::uint64_t seed = pipeline::setting::seed(a.seed);
+  const int draws = pipeline::setting::draws(a.draws);
+  const auto mocks = static_cast<std::size_t>(check_integer_in_range("mocks", a.mocks, 1, 100000, "mocks per set"));
+  const auto mock_draws = static_cast<std::size_t>(check_integer_in_range("mock_draws", a.mock_draws, 100, 100000000));
+  const auto refit_every = static_cast<std::size_t>(check_integer_in_range("refit_every", a.refit_every, 1, 100000));
   const fs::path out_file = fs::path(a.out) / "calibration.json";
   if (fs::exists(out_file) && !cli::global_flags().force)
     throw InputError(a.out, "already holds a calibration.json (use --force to overwrite)");
@@ -60,8 +63,8 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
     }
   } else {
     pipeline::AnalysisOptions o;
-    o.seed = a.seed;
-    o.draws = a.draws;
+    o.seed = seed;
+    o.draws = draws;
     o.figures = false;
     note("analysing " + in.name);
     report = pipeline::analyse_galaxy(in, o).report;
@@ -70,14 +73,14 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
   auto maps = calibration::load_maps(in);
   auto mi = calibration::matched_inputs_from_report(report, in, maps, where);
   calibration::CalibrationOptions co;
-  co.n_mocks = a.mocks;
+  co.n_mocks = mocks;
   co.seed = report.contains("robustness") && report["robustness"].contains("seed") &&
                     report["robustness"]["seed"].is_number_unsigned() && !cmd->count("--seed")
                 ? report["robustness"]["seed"].get<std::uint64_t>()
-                : a.seed;
-  co.n_draws = a.mock_draws;
+                : seed;
+  co.n_draws = mock_draws;
   co.refit_centre = !a.no_refit;
-  co.refit_every = a.refit_every;
+  co.refit_every = refit_every;
   co.bootstrap_from_estimates = report.contains("robustness") && report["robustness"].is_object() &&
                                 report["robustness"].value("centre_draws", "adopted") == "all-estimates";
   auto s = calibration::calibrate(mi, co);

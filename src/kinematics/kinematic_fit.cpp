@@ -86,7 +86,7 @@ Method parse_method(const std::string& name) {
   if (name == "rings") return Method::rings;
   if (name == "harmonic") return Method::harmonic;
   if (name == "both") return Method::both;
-  throw InputError("", "--method must be rings, harmonic or both (got '" + name + "')");
+  throw InputError("", "method must be rings, harmonic or both (got '" + name + "')");
 }
 
 std::string method_name(Method m) {
@@ -212,7 +212,7 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   if (!opt.inc_guess_deg && g.axis_ratio > std::cos(opt.min_inc_deg * std::numbers::pi / 180.0)) {
     refuse(fit, "the disc is nearly face-on (footprint axis ratio " + fmt(g.axis_ratio, 3) +
                     ", rounder than a disc inclined by " + fmt(opt.min_inc_deg, 1) +
-                    " deg; give --inc to override)");
+                    " deg; give a first-guess inclination to override)");
     return fit;
   }
   if (opt.inc_guess_deg && *opt.inc_guess_deg < opt.min_inc_deg) {
