@@ -9,7 +9,7 @@ Every file is small and invented: a mock disc galaxy at an invented position
 beam 2.0 x 1.6 arcsec (BMAJ/BMIN in degrees as FITS wants). Velocities are
 km/s, line maps Jy/beam km/s, optical images counts. Nothing here is a real
 observation. The list of cases, with the command line that reads each file,
-the expected exit status and the message, is tests/bad_inputs/catalogue.json;
+the expected exit status and the message, is fixtures/bad_inputs/catalogue.json;
 tests/reliability/test_bad_inputs.cpp runs it.
 
 Files are written with astropy.io.fits (python3-astropy) where the damage is
@@ -276,6 +276,10 @@ def make_bad_inputs(d):
     manifest("manifest_missing_file.toml", {"extra": 'optical = "no_such_image.fits"'})
     manifest("manifest_path_is_folder.toml", {"extra": 'optical = "a_folder.fits"'})
     manifest("manifest_tail_pa_out_of_range.toml", {"tail": "720.0"})
+    manifest("manifest_tail_pa_huge.toml", {"tail": "1e300"})
+    manifest("manifest_psf_negative.toml", {"extra": "psf_fwhm_arcsec = -1.0"})
+    manifest("manifest_seed_negative.toml", {}, header=head.replace("seed = 7", "seed = -1"))
+    manifest("manifest_rms_zero.toml", {"extra": "rms = 0.0"})
     manifest("manifest_no_name.toml", {"name": ""})
     manifest("manifest_no_galaxies.toml")
     # A galaxy given as a line cube: the run makes its maps (issue 7).

@@ -7,7 +7,7 @@
 # SECONDS_PER_TARGET defaults to 60 (the reliability check used 600). Targets:
 # fuzz_fits_image (FITS header + data from memory through CFITSIO and wcslib)
 # and fuzz_toml_manifest (the TOML path of manifests and mock files). Seeds come
-# from tests/fuzz/corpus/<kind>/; new inputs the fuzzer finds go to
+# from fixtures/fuzz_corpus/<kind>/; new inputs the fuzzer finds go to
 # build-fuzz/corpus-<target>/ (not committed); crashes to build-fuzz/findings/.
 # Exit status is non-zero when a target found a crash, leak or timeout.
 set -eu
@@ -26,8 +26,8 @@ mkdir -p "$build/findings"
 status=0
 for t in $targets; do
   case $t in
-    fuzz_fits_image) seeds="$here/tests/fuzz/corpus/fits"; dict="-dict=$here/tests/fuzz/fits.dict" ;;
-    fuzz_toml_manifest) seeds="$here/tests/fuzz/corpus/toml"; dict="" ;;
+    fuzz_fits_image) seeds="$here/fixtures/fuzz_corpus/fits"; dict="-dict=$here/tests/fuzz/fits.dict" ;;
+    fuzz_toml_manifest) seeds="$here/fixtures/fuzz_corpus/toml"; dict="" ;;
     *) echo "run_fuzzers: unknown target $t" >&2; exit 2 ;;
   esac
   work="$build/corpus-$t"

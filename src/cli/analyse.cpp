@@ -13,6 +13,7 @@
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
 #include "fulcrum/pipeline/report_reader.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 #include "fulcrum/pipeline/sample_run.hpp"
 #include "galaxy_args.hpp"
 #include "subcommand.hpp"
@@ -23,9 +24,7 @@ struct AnalyseArgs {
   fulcrum::cli::GalaxyArgs galaxy;
   double distance = 0, alpha_co = 0, ratio21 = 0, redshift = -1;
   std::string co_line;
-  std::uint64_t seed = 1;
-  int draws = 20000;
-  int calibrate = 0;
+  std::int64_t seed = 1, draws = 20000, calibrate = 0;
   std::string bootstrap_centres = "adopted";
   bool no_figures = false;
   std::string out;
@@ -36,19 +35,15 @@ void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
   set_quiet(cli::global_flags().quiet);
   a.galaxy.finish(cmd, true);
   auto& in = a.galaxy.in;
-  if (cmd->count("--distance-mpc")) {
-    if (!(a.distance > 0)) throw InputError("", "--distance-mpc must be positive");
-    in.distance_mpc = a.distance;
-  }
-  if (!a.co_line.empty()) {
-    if (a.co_line != "1-0" && a.co_line != "2-1") throw InputError("", "--co-line must be 1-0 or 2-1");
-    in.molecular.co_line = a.co_line;
-  }
-  if (cmd->count("--alpha-co")) in.molecular.alpha_co = a.alpha_co;
-  if (cmd->count("--co-ratio-21")) in.molecular.co_ratio_21 = a.ratio21;
-  if (cmd->count("--redshift")) in.molecular.redshift = a.redshift;
-  if (a.draws < 100) throw InputError("", "--draws must be at least 100");
-  if (a.calibrate < 0) throw InputError("", "--calibrate must be 0 or more mocks");
+  namespace setting = pipeline::setting;
+  if (cmd->count("--distance-mpc")) in.distance_mpc = setting::distance_mpc(a.distance);
+  if (!a.co_line.empty()) in.molecular.co_line = setting::co_line(a.co_line);
+  if (cmd->count("--alpha-co")) in.molecular.alpha_co = setting::alpha_co(a.alpha_co);
+  if (cmd->count("--co-ratio-21")) in.molecular.co_ratio_21 = setting::co_ratio_21(a.ratio21);
+  if (cmd->count("--redshift")) in.molecular.redshift = setting::redshift(a.redshift);
+  const int draws = setting::draws(a.draws);
+  const int calibrate = setting::calibrate(a.calibrate);
+  const std::uint64_t seed = setting::seed(a.seed);
   namespace fs = std::filesystem;
   if (fs::exists(fs::path(a.out) / "report.json") && !cli::global_flags().force)
     throw InputError(a.out, "already holds a report.json (use --force to overwrite)");
@@ -61,10 +56,10 @@ void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
   }
 
   pipeline::AnalysisOptions o;
-  o.seed = a.seed;
-  o.draws = a.draws;
+  o.seed = seed;
+  o.draws = draws;
   o.figures = !a.no_figures;
-  o.calibrate = a.calibrate;
+  o.calibrate = calibrate;
   o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a.bootstrap_centres);
   note("analysing " + in.name);
   auto r = pipeline::analyse_galaxy(in, o);

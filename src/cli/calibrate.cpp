@@ -19,6 +19,8 @@
 #include "fulcrum/pipeline/galaxy_stages.hpp"
 #include "fulcrum/pipeline/report_json.hpp"
 #include "fulcrum/pipeline/report_reader.hpp"
+#include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 #include "galaxy_args.hpp"
 #include "subcommand.hpp"
 
@@ -26,9 +28,7 @@ namespace {
 
 struct CalibrateArgs {
   fulcrum::cli::GalaxyArgs galaxy;
-  std::uint64_t seed = 1;
-  int draws = 20000;
-  std::size_t mocks = 100, mock_draws = 2000, refit_every = 1;
+  std::int64_t seed = 1, draws = 20000, mocks = 100, mock_draws = 2000, refit_every = 1;
   bool no_refit = false, per_mock = false;
   std::string from, out;
 };
@@ -39,8 +39,11 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
   set_quiet(cli::global_flags().quiet);
   a.galaxy.finish(cmd, a.from.empty());
   auto& in = a.galaxy.in;
-  if (a.mocks < 1) throw InputError("", "--mocks must be at least 1");
-  if (a.mock_draws < 100) throw InputError("", "--mock-draws must be at least 100");
+  const std::uint64_t seed = pipeline::setting::seed(a.seed);
+  const int draws = pipeline::setting::draws(a.draws);
+  const auto mocks = static_cast<std::size_t>(check_integer_in_range("mocks", a.mocks, 1, 100000, "mocks per set"));
+  const auto mock_draws = static_cast<std::size_t>(check_integer_in_range("mock_draws", a.mock_draws, 100, 100000000));
+  const auto refit_every = static_cast<std::size_t>(check_integer_in_range("refit_every", a.refit_every, 1, 100000));
   const fs::path out_file = fs::path(a.out) / "calibration.json";
   if (fs::exists(out_file) && !cli::global_flags().force)
     throw InputError(a.out, "already holds a calibration.json (use --force to overwrite)");
@@ -58,8 +61,8 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
     summary = pipeline::read_report_file(report_path);
   } else {
     pipeline::AnalysisOptions o;
-    o.seed = a.seed;
-    o.draws = a.draws;
+    o.seed = seed;
+    o.draws = draws;
     o.figures = false;
     note("analysing " + in.name);
     summary = pipeline::analyse_galaxy(in, o).summary;
@@ -73,12 +76,12 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
     throw InputError(report_path, e.problem());  // name the report the summary came from
   }
   calibration::CalibrationOptions co;
-  co.n_mocks = a.mocks;
+  co.n_mocks = mocks;
   // The galaxy seed of the analysis unless --seed is given.
-  co.seed = summary.robustness && !cmd->count("--seed") ? summary.seed : a.seed;
-  co.n_draws = a.mock_draws;
+  co.seed = summary.robustness && !cmd->count("--seed") ? summary.seed : seed;
+  co.n_draws = mock_draws;
   co.refit_centre = !a.no_refit;
-  co.refit_every = a.refit_every;
+  co.refit_every = refit_every;
   co.chain.bootstrap_estimates = summary.bootstrap_from_estimates;
   auto s = calibration::calibrate(mi, co);
   nlohmann::json j = calibration::to_json(s, a.per_mock);

@@ -16,6 +16,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/moments/moment_settings.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 #include "fulcrum/pipeline/manifest.hpp"
 #include "kinematic_args.hpp"
 #include "subcommand.hpp"
@@ -49,7 +50,7 @@ inline std::vector<CLI::Option*> add_moment_options(CLI::App* cmd, MomentSetting
 // The inputs of one galaxy, as `analyse` and `calibrate` take them.
 struct GalaxyArgs {
   pipeline::GalaxyInput in;
-  double rms = 0.0, tail_pa = 0.0, psf = 0.0;
+  double rms = 0.0, tail_pa = 0.0, tail_pa_err = 10.0, psf = 0.0;
   std::vector<CLI::Option*> moment_options;
 
   void add(CLI::App* cmd) {
@@ -68,7 +69,7 @@ struct GalaxyArgs {
         ->check(CLI::ExistingFile);
     cmd->add_option("--psf-fwhm", psf, "Optical PSF FWHM in arcsec (default: from the image header)");
     auto* tp = cmd->add_option("--tail-pa", tail_pa, "Direction of the gas tail from the centre, deg north through east");
-    cmd->add_option("--tail-pa-err", in.tail_pa_err_deg, "Error of the tail direction, deg (default 10)");
+    cmd->add_option("--tail-pa-err", tail_pa_err, "Error of the tail direction, deg (default 10)");
     cmd->add_option("--tail-image", in.tail_image, "Image of the tail to measure its direction from")
         ->check(CLI::ExistingFile)->excludes(tp);
     cmd->add_option("--name", in.name, "Galaxy name for the report (default: the folder of the cube or intensity map)");
@@ -93,19 +94,10 @@ struct GalaxyArgs {
     if (in.name.empty())
       in.name = std::filesystem::path(in.cube.empty() ? in.intensity : in.cube).parent_path().filename().string();
     if (in.name.empty() || in.name == "." || in.name == "..") in.name = "galaxy";
-    if (cmd->count("--rms")) {
-      if (!(rms > 0) || !std::isfinite(rms)) throw InputError("", "--rms must be positive");
-      in.rms = rms;
-    }
-    if (cmd->count("--psf-fwhm")) {
-      if (!(psf > 0) || !std::isfinite(psf)) throw InputError("", "--psf-fwhm must be positive (arcsec)");
-      in.psf_fwhm_arcsec = psf;
-    }
-    if (cmd->count("--tail-pa")) {
-      if (!std::isfinite(tail_pa))
-        throw InputError("", "--tail-pa must be a finite angle in degrees (got " + std::to_string(tail_pa) + ")");
-      in.tail_pa_deg = tail_pa;
-    }
+    if (cmd->count("--rms")) in.rms = pipeline::setting::rms(rms);
+    if (cmd->count("--psf-fwhm")) in.psf_fwhm_arcsec = pipeline::setting::psf_fwhm_arcsec(psf);
+    if (cmd->count("--tail-pa")) in.tail_pa_deg = pipeline::setting::tail_pa_deg(tail_pa);
+    if (cmd->count("--tail-pa-err")) in.tail_pa_err_deg = pipeline::setting::tail_pa_err_deg(tail_pa_err);
     if (need_tail && !in.tail_pa_deg && in.tail_image.empty())
       throw InputError("", "give --tail-pa DEG or --tail-image IMG.fits");
     if (!in.cube.empty()) {

@@ -31,6 +31,7 @@
 #include "fulcrum/kinematics/kinematic_fit.hpp"
 #include "fulcrum/kinematics/ring_table.hpp"
 #include "kinematic_args.hpp"
+#include "fulcrum/report/ring_table.hpp"
 #include "subcommand.hpp"
 
 namespace {
@@ -127,7 +128,7 @@ void run(const KinematicsArgs& a) {
       cards[0].value = "beam-smeared tilted-ring model velocity";
       write_image(smeared_path, smeared_model_velocity_map(fit, model), cards);
     }
-    write_ring_table_ecsv(ecsv_path, fit);
+    report::write_ecsv(ecsv_path, report::ring_table(fit));
     write_ring_table_csv(csv_path, fit);
     j["outputs"] = {{"model", model_path}, {"residual", resid_path}, {"rings_ecsv", ecsv_path},
                     {"rings_csv", csv_path}};

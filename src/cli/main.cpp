@@ -9,9 +9,11 @@
 #include <glog/logging.h>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/io/fits_image.hpp"
+#include "setting_flags.hpp"
 #include "subcommand.hpp"
 
 namespace fulcrum::cli {
@@ -92,6 +94,10 @@ int main(int argc, char** argv) {
     // A usage error is bad input too: one line, status 2.
     if (e.get_exit_code() == 0) return app.exit(e);
     std::cerr << "fulcrum: " << e.what() << " (see `fulcrum --help`)\n";
+    return 2;
+  } catch (const SettingError& e) {
+    // A setting given on the command line: name its flag, not its manifest key.
+    std::cerr << "fulcrum: " << e.message_as(cli::setting_flag(e.setting())) << "\n";
     return 2;
   } catch (const InputError& e) {
     std::cerr << "fulcrum: " << e.what() << "\n";

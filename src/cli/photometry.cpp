@@ -20,6 +20,8 @@
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/photometry/dynamical_comparison.hpp"
 #include "fulcrum/photometry/photometric_centres.hpp"
+#include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 #include "subcommand.hpp"
 
 namespace {
@@ -29,8 +31,7 @@ struct PhotometryArgs {
   double psf_fwhm = 0.0;
   std::string dynamical_centre, dynamical_cov, beam;
   double distance_mpc = 0.0;
-  int bootstrap = 100;
-  std::uint64_t seed = 1;
+  std::int64_t bootstrap = 100, seed = 1;
   double isophote_level = 0.0;
 };
 
@@ -56,14 +57,15 @@ std::vector<double> parse_list(const std::string& text, std::size_t count, const
   return v;
 }
 
-void run_photometry(const PhotometryArgs& a) {
+void run_photometry(const PhotometryArgs& a, CLI::App* cmd) {
   using namespace fulcrum;
   using namespace fulcrum::photometry;
   if (std::filesystem::exists(a.json) && !cli::global_flags().force)
     throw InputError(a.json, "the output file exists (use --force to overwrite it)");
-  if (a.psf_fwhm < 0 || !std::isfinite(a.psf_fwhm))
-    throw InputError("", "--psf-fwhm must be a positive number of arcsec");
-  if (a.bootstrap < 3) throw InputError("", "--bootstrap must be at least 3");
+  const int bootstrap = static_cast<int>(check_integer_in_range("bootstrap", a.bootstrap, 3, 1000000, "draws"));
+  const std::uint64_t seed = pipeline::setting::seed(a.seed);
+  // Given: must be usable (never silently replaced by the header's beam).
+  if (cmd->count("--psf-fwhm")) pipeline::setting::psf_fwhm_arcsec(a.psf_fwhm);
 
   std::optional<DynamicalCentre> dyn;
   if (!a.dynamical_centre.empty() || !a.dynamical_cov.empty()) {
@@ -86,8 +88,7 @@ void run_photometry(const PhotometryArgs& a) {
     if (!(b[0] > 0 && b[1] > 0)) throw InputError("", "--beam: the axes must be positive");
     copt.beam = Beam{std::max(b[0], b[1]), std::min(b[0], b[1]), b[2]};
   }
-  if (a.distance_mpc < 0) throw InputError("", "--distance-mpc must be positive");
-  if (a.distance_mpc > 0) copt.distance_mpc = a.distance_mpc;
+  if (cmd->count("--distance-mpc")) copt.distance_mpc = pipeline::setting::distance_mpc(a.distance_mpc);
 
   const Image image = read_image(a.image);
   std::optional<Image> mask;
@@ -95,8 +96,8 @@ void run_photometry(const PhotometryArgs& a) {
 
   PhotometryOptions o;
   o.psf_fwhm_arcsec = a.psf_fwhm;
-  o.bootstrap.draws = a.bootstrap;
-  o.bootstrap.seed = a.seed;
+  o.bootstrap.draws = bootstrap;
+  o.bootstrap.seed = seed;
   if (a.isophote_level > 0) o.isophote.level = a.isophote_level;
   const PhotometrySummary s = measure_photometric_centres(image, mask ? &*mask : nullptr, o);
   if (s.psf.known && s.psf.source != "given")
@@ -153,5 +154,5 @@ FULCRUM_SUBCOMMAND(photometry, 60, [](CLI::App& app) {
   cmd->add_option("--isophote-level", a->isophote_level,
                   "Isophote level above the sky, image units (default: at two half-light radii)");
   cmd->add_option("--json", a->json, "Output JSON file")->required();
-  cmd->callback([a] { run_photometry(*a); });
+  cmd->callback([a, cmd] { run_photometry(*a, cmd); });
 });

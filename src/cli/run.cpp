@@ -5,6 +5,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 #include "fulcrum/pipeline/sample_run.hpp"
 #include "subcommand.hpp"
 
@@ -12,8 +13,8 @@ namespace {
 struct RunArgs {
   std::string manifest, out, shard;
   std::vector<std::string> only;
-  int threads = 0, draws = 0;
-  std::uint64_t seed = 0;
+  int threads = 0;
+  std::int64_t draws = 0, seed = 0;
   std::string bootstrap_centres = "adopted";
   bool no_figures = false;
 };
@@ -44,11 +45,8 @@ FULCRUM_SUBCOMMAND(run, 80, [](CLI::App& app) {
     o.threads = a->threads;
     o.figures = !a->no_figures;
     o.overwrite = cli::global_flags().force;
-    if (cmd->count("--draws")) {
-      if (a->draws < 100) throw InputError("", "--draws must be at least 100");
-      o.draws = a->draws;
-    }
-    if (cmd->count("--seed")) o.seed = a->seed;
+    if (cmd->count("--draws")) o.draws = pipeline::setting::draws(a->draws);
+    if (cmd->count("--seed")) o.seed = pipeline::setting::seed(a->seed);
     o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a->bootstrap_centres);
     auto s = pipeline::run_sample(m, o);
     std::cout << pipeline::summary_text(s.galaxies) << "\nreport: " << s.html_path << "\n";

@@ -7,6 +7,7 @@
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/robustness/scan.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 #include "split_args.hpp"
 #include "subcommand.hpp"
 
@@ -23,13 +24,12 @@ void run_scan(const ScanArgs& a) {
   cli::check_output(a.json);
   split::SplitOptions so;
   so.centre = cli::parse_centre(a.centre);
-  cli::check_finite_angle(a.tail_pa, "--tail-pa");
-  so.tail_pa_deg = a.tail_pa;
+  so.tail_pa_deg = pipeline::setting::tail_pa_deg(a.tail_pa);
   so.aperture = a.aperture.spec();
   const Image map = read_image(a.intensity);
   const split::SplitProblem pr = split::prepare_split(map, so);
   robustness::ScanOptions o;
-  o.tail_pa_deg = a.tail_pa;
+  o.tail_pa_deg = so.tail_pa_deg;
   o.half_width_arcsec = a.half_width;
   o.step_arcsec = a.step;
   o.angle_half_width_deg = a.angle_half_width;

@@ -8,6 +8,7 @@
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/split/half_split.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 #include "split_args.hpp"
 #include "subcommand.hpp"
 
@@ -19,15 +20,14 @@ struct SplitArgs {
   fulcrum::cli::ApertureArgs aperture;
 };
 
-void run_split(const SplitArgs& a) {
+void run_split(const SplitArgs& a, CLI::App* cmd) {
   using namespace fulcrum;
   cli::check_output(a.json);
   split::SplitOptions so;
   so.centre = cli::parse_centre(a.centre);
-  so.tail_pa_deg = a.tail_pa;
+  so.tail_pa_deg = pipeline::setting::tail_pa_deg(a.tail_pa);
   so.aperture = a.aperture.spec();
-  so.rms = a.rms;
-  cli::check_finite_angle(a.tail_pa, "--tail-pa");
+  if (cmd->count("--rms")) so.rms = pipeline::setting::rms(a.rms);
   const Image map = read_image(a.intensity);
   cli::check_centre_on_map(map, so.centre, a.centre);
   std::optional<Image> err;
@@ -35,7 +35,6 @@ void run_split(const SplitArgs& a) {
     err = read_image(a.intensity_error);
     so.error_map = &*err;
   }
-  if (a.rms < 0.0) throw InputError("", "--rms must be positive");
   const split::SplitSummary s = split::split_halves(map, so);
   if (!(s.total_flux > 0.0))
     throw InputError(a.intensity, "the total flux in the analysis region is not positive (" +
@@ -72,5 +71,5 @@ FULCRUM_SUBCOMMAND(split, 40, [](CLI::App& app) {
   cmd->add_option("--tail-pa", a->tail_pa, "Tail PA (deg, north through east)")->required();
   a->aperture.add(cmd);
   cmd->add_option("--json", a->json, "Write the result as JSON to this file");
-  cmd->callback([a] { run_split(*a); });
+  cmd->callback([a, cmd] { run_split(*a, cmd); });
 });

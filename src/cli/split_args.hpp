@@ -30,12 +30,6 @@ inline WorldCoord parse_centre(const std::string& s) {
   }
 }
 
-// An angle option must be a finite number of degrees (CLI11 accepts "nan").
-inline void check_finite_angle(double deg, const std::string& option) {
-  if (!std::isfinite(deg))
-    throw InputError("", option + " must be a finite angle in degrees (got " + std::to_string(deg) + ")");
-}
-
 // The centre must fall on the map (within half a pixel of its edge).
 inline void check_centre_on_map(const Image& map, WorldCoord c, const std::string& text) {
   bool on = false;

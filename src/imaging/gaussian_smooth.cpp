@@ -127,7 +127,7 @@ Beam kernel_between(const Beam& from, const Beam& to) {
   Beam k;
   k.bmaj_arcsec = std::sqrt(ev(1)) * kFwhmPerSigma;
   k.bmin_arcsec = std::sqrt(ev(0)) * kFwhmPerSigma;
-  k.bpa_deg = wrap_pa_deg(std::atan2(u(0), u(1)) * 180.0 / std::numbers::pi);
+  k.bpa_deg = wrap_pa_deg(Angle::from_radians(std::atan2(u(0), u(1))).deg());
   if (k.bpa_deg >= 180.0) k.bpa_deg -= 180.0;
   return k;
 }

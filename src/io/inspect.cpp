@@ -6,7 +6,9 @@
 #include <cstdio>
 #include <sstream>
 
+#include "fulcrum/sky/angle.hpp"
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/io/missing_values.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
@@ -178,7 +180,7 @@ nlohmann::json inspect_fits(const std::string& path) {
   const auto& beam = is_cube ? cube.beam : img.beam;
   if (beam) {
     const double pixarea = g.pixel_scale_x_arcsec * g.pixel_scale_y_arcsec *
-                           std::cos(g.skew_deg * std::numbers::pi / 180.0);
+                           Angle::from_degrees(g.skew_deg).cos();
     j["beam"] = {{"bmaj_arcsec", beam->bmaj_arcsec},
                  {"bmin_arcsec", beam->bmin_arcsec},
                  {"bpa_deg", beam->bpa_deg},
@@ -223,27 +225,27 @@ std::string format_inspection(const nlohmann::json& j) {
   line("kind", j["kind"].get<std::string>());
   line("axes", dims);
   line("projection", j["projection"].get<std::string>());
-  line("map centre", "RA " + fmt(j["centre_ra_deg"].get<double>(), 10) + " deg, Dec " +
-                         fmt(j["centre_dec_deg"].get<double>(), 10) + " deg at FITS pixel (" +
-                         fmt(j["centre_pixel_fits"][0].get<double>()) + ", " +
-                         fmt(j["centre_pixel_fits"][1].get<double>()) + ")");
-  line("pixel scale", fmt(j["pixel_scale_arcsec"][0].get<double>()) + " x " +
-                          fmt(j["pixel_scale_arcsec"][1].get<double>()) + " arcsec");
+  line("map centre", "RA " + significant_text(j["centre_ra_deg"].get<double>(), 10) + " deg, Dec " +
+                         significant_text(j["centre_dec_deg"].get<double>(), 10) + " deg at FITS pixel (" +
+                         significant_text(j["centre_pixel_fits"][0].get<double>(), 4) + ", " +
+                         significant_text(j["centre_pixel_fits"][1].get<double>(), 4) + ")");
+  line("pixel scale", significant_text(j["pixel_scale_arcsec"][0].get<double>(), 4) + " x " +
+                          significant_text(j["pixel_scale_arcsec"][1].get<double>(), 4) + " arcsec");
   line("orientation", "+y pixel axis points to PA " + fixed(j["pa_of_plus_y_deg"].get<double>(), 3) +
                           " deg, +x to PA " + fixed(j["pa_of_plus_x_deg"].get<double>(), 3) + " deg (" +
                           (j["east_left_when_north_up"].get<bool>() ? "east left of north, as on the sky"
                                                                    : "mirrored: east right of north") +
                           ")");
   if (std::abs(j["axis_skew_deg"].get<double>()) > 1e-6)
-    line("skew", fmt(j["axis_skew_deg"].get<double>()) + " deg from perpendicular");
+    line("skew", significant_text(j["axis_skew_deg"].get<double>(), 4) + " deg from perpendicular");
   if (j["beam"].is_null()) {
     line("beam", "none in header (BMAJ/BMIN absent)");
   } else {
     const auto& b = j["beam"];
-    line("beam", fmt(b["bmaj_arcsec"].get<double>()) + " x " + fmt(b["bmin_arcsec"].get<double>()) +
+    line("beam", significant_text(b["bmaj_arcsec"].get<double>(), 4) + " x " + significant_text(b["bmin_arcsec"].get<double>(), 4) +
                      " arcsec FWHM, PA " + fixed(b["bpa_deg"].get<double>(), 1) + " deg; " +
-                     fmt(b["solid_angle_arcsec2"].get<double>()) + " arcsec^2 = " +
-                     fmt(b["pixels_per_beam"].get<double>()) + " pixels per beam");
+                     significant_text(b["solid_angle_arcsec2"].get<double>(), 4) + " arcsec^2 = " +
+                     significant_text(b["pixels_per_beam"].get<double>(), 4) + " pixels per beam");
   }
   line("unit", j["unit"].get<std::string>().empty() ? "(no BUNIT)" : j["unit"].get<std::string>());
   if (j.contains("channels")) line("channels", std::to_string(j["channels"].get<int>()));
@@ -261,8 +263,8 @@ std::string format_inspection(const nlohmann::json& j) {
     line("missing pixels", t);
   }
   if (v.contains("min"))
-    line("values", "min " + fmt(v["min"].get<double>()) + ", median " + fmt(v["median"].get<double>()) +
-                       ", max " + fmt(v["max"].get<double>()));
+    line("values", "min " + significant_text(v["min"].get<double>(), 4) + ", median " + significant_text(v["median"].get<double>(), 4) +
+                       ", max " + significant_text(v["max"].get<double>(), 4));
   for (const auto& u : j["uses"]) line("use as", u.get<std::string>());
   return os.str();
 }

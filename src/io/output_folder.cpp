@@ -27,7 +27,7 @@ std::set<std::string> files_in(const fs::path& dir) {
 }  // namespace
 
 PreparedFolder prepare_output_folder(const std::string& path, bool force) {
-  if (path.empty()) throw InputError("", "the output folder (--out) is empty");
+  if (path.empty()) throw InputError("", "the output folder name is empty");
   PreparedFolder out;
   out.path = fs::path(path);
   std::error_code ec;

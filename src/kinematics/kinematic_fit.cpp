@@ -161,7 +161,7 @@ Method parse_method(const std::string& name) {
   if (name == "rings") return Method::rings;
   if (name == "harmonic") return Method::harmonic;
   if (name == "both") return Method::both;
-  throw InputError("", "--method must be rings, harmonic or both (got '" + name + "')");
+  throw InputError("", "method must be rings, harmonic or both (got '" + name + "')");
 }
 
 std::string method_name(Method m) {

@@ -1,6 +1,5 @@
-// Per-ring tables as ECSV and CSV (ring_table.hpp). A small private ECSV
-// writer: the header is the YAML block of the ECSV 1.0 standard
-// (astropy APE 6), the data are space-separated.
+// Per-ring table columns and their CSV (ring_table.hpp). ECSV goes through
+// the project's one table writer (report/ring_table.hpp).
 #include "fulcrum/kinematics/ring_table.hpp"
 
 #include <cmath>
@@ -25,14 +24,6 @@ std::string number(double v, bool integer) {
   return buf;
 }
 
-std::string yaml_quote(const std::string& s) {
-  std::string o = "'";
-  for (char c : s) {
-    if (c == '\'') o += "''";
-    else o += c;
-  }
-  return o + "'";
-}
 }  // namespace
 
 std::vector<RingColumn> ring_table_columns(const KinematicFit& fit) {
@@ -96,40 +87,6 @@ std::vector<RingColumn> ring_table_columns(const KinematicFit& fit) {
     }
   }
   return c;
-}
-
-void write_ring_table_ecsv(const std::string& path, const KinematicFit& fit) {
-  const auto cols = ring_table_columns(fit);
-  std::ostringstream os;
-  os << "# %ECSV 1.0\n# ---\n# datatype:\n";
-  for (const auto& c : cols) {
-    os << "# - {name: " << c.name;
-    if (!c.unit.empty()) os << ", unit: " << yaml_quote(c.unit);
-    os << ", datatype: " << (c.integer ? "int64" : "float64");
-    os << ", description: " << yaml_quote(c.description) << "}\n";
-  }
-  os << "# meta:\n";
-  os << "#   source: " << yaml_quote(fit.source) << "\n";
-  os << "#   method: " << method_name(fit.method) << "\n";
-  os << "#   status: " << fit.status << "\n";
-  char buf[64];
-  std::snprintf(buf, sizeof buf, "%.10f", fit.reference.ra_deg);
-  os << "#   reference_ra_deg: " << buf << "\n";
-  std::snprintf(buf, sizeof buf, "%.10f", fit.reference.dec_deg);
-  os << "#   reference_dec_deg: " << buf << "\n";
-  os << "#   conventions: " << yaml_quote("offsets (east, north) arcsec from the reference; PA north "
-                                          "through east of the receding half")
-     << "\n";
-  os << "# schema: astropy-2.0\n";
-  for (std::size_t i = 0; i < cols.size(); ++i) os << (i ? " " : "") << cols[i].name;
-  os << "\n";
-  const std::size_t n = cols.empty() ? 0 : cols[0].values.size();
-  for (std::size_t r = 0; r < n; ++r) {
-    for (std::size_t i = 0; i < cols.size(); ++i)
-      os << (i ? " " : "") << number(cols[i].values[r], cols[i].integer);
-    os << "\n";
-  }
-  write_text_file(path, os.str());
 }
 
 void write_ring_table_csv(const std::string& path, const KinematicFit& fit) {

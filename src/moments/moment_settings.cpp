@@ -5,6 +5,7 @@
 #include <cmath>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/io/fits_image.hpp"
 
 namespace fulcrum {
@@ -40,6 +41,10 @@ std::string option_name(const std::string& name) {
 std::string moment_settings_problem(const MomentSettings& s,
                                     const std::function<std::string(const std::string&)>& name_of) {
   const auto& o = s.options;
+  // The wording of core/settings_check.hpp, with the caller's name for the setting.
+  auto bad = [&](const std::string& key, const std::string& value, const std::string& rule) {
+    return name_of(key) + " = " + value + " is not allowed: must be " + rule;
+  };
   const bool known_mask =
       s.mask == "smooth-and-mask" || s.mask == "smooth" || s.mask == "moment-masking" || s.mask == "dame" ||
       s.mask == "external" || s.mask == "none";
@@ -51,18 +56,21 @@ std::string moment_settings_problem(const MomentSettings& s,
   if (!s.convention.empty() && s.convention != "radio" && s.convention != "optical")
     return name_of("convention") + " must be radio or optical (got '" + s.convention + "')";
   if (!std::isfinite(s.rest_frequency_hz) || s.rest_frequency_hz < 0.0)
-    return name_of("rest_frequency") + " must be a positive frequency in Hz";
+    return bad("rest_frequency", shortest_text(s.rest_frequency_hz), "a positive frequency in Hz");
   if (!(o.threshold_sigma > 0.0) || !std::isfinite(o.threshold_sigma))
-    return name_of("threshold") + " must be > 0 sigma";
+    return bad("threshold", shortest_text(o.threshold_sigma), "a finite number > 0 sigma");
   if (!(o.dame_threshold_sigma > 0.0) || !std::isfinite(o.dame_threshold_sigma))
-    return name_of("moment_mask_threshold") + " must be > 0 sigma";
-  if (o.grow_channels < 0) return name_of("grow_channels") + " must be 0 or more channels";
-  if (o.grow_pixels < 0) return name_of("grow_pixels") + " must be 0 or more pixels";
-  if (!(o.smooth_factor > 1.0) || !std::isfinite(o.smooth_factor)) return name_of("smooth_factor") + " must be > 1";
+    return bad("moment_mask_threshold", shortest_text(o.dame_threshold_sigma), "a finite number > 0 sigma");
+  if (o.grow_channels < 0) return bad("grow_channels", std::to_string(o.grow_channels), "0 or more channels");
+  if (o.grow_pixels < 0) return bad("grow_pixels", std::to_string(o.grow_pixels), "0 or more pixels");
+  if (!(o.smooth_factor > 1.0) || !std::isfinite(o.smooth_factor)) 
+    return bad("smooth_factor", shortest_text(o.smooth_factor), "a finite number > 1");
   if (o.smooth_channels < 1 || o.smooth_channels % 2 == 0)
-    return name_of("smooth_channels") + " must be an odd number of channels >= 1";
-  if (!(o.noise.clip_sigma > 0.0) || !std::isfinite(o.noise.clip_sigma)) return name_of("clip") + " must be > 0 sigma";
-  if (o.min_channels_velocity < 1) return name_of("min_channels") + " must be at least 1";
+    return bad("smooth_channels", std::to_string(o.smooth_channels), "an odd number of channels >= 1");
+  if (!(o.noise.clip_sigma > 0.0) || !std::isfinite(o.noise.clip_sigma)) 
+    return bad("clip", shortest_text(o.noise.clip_sigma), "a finite number > 0 sigma");
+  if (o.min_channels_velocity < 1)
+    return bad("min_channels", std::to_string(o.min_channels_velocity), "at least 1 channel");
   return "";
 }
 

@@ -126,7 +126,7 @@ SpectralAxis spectral_axis_from_header(const std::string& header, int spectral_a
       throw InputError(source, "converting the " + type4 + " axis to " +
                                    std::string(convention_name(out.convention)) +
                                    " velocity needs a rest frequency (RESTFRQ or RESTFREQ, or "
-                                   "--rest-frequency)");
+                                   "the rest_frequency setting)");
     char want[9];
     std::snprintf(want, sizeof want, "%s-???", target.c_str());
     int i = spec;

@@ -3,23 +3,14 @@
 
 #include <cmath>
 
-#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/core/random.hpp"
 
 namespace fulcrum::photometry {
 
-namespace {
-std::uint64_t splitmix(std::uint64_t z) {
-  z += 0x9E3779B97F4A7C15ull;
-  z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
-  z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
-  return z ^ (z >> 31);
-}
-}  // namespace
-
 std::uint64_t mix_seed(std::uint64_t seed, const std::string& tag, std::uint64_t k) {
-  std::uint64_t h = splitmix(seed);
-  for (unsigned char c : tag) h = splitmix(h ^ c);
-  return splitmix(h ^ splitmix(k));
+  std::uint64_t h = splitmix64(seed);
+  for (unsigned char c : tag) h = splitmix64(h ^ c);
+  return splitmix64(h ^ splitmix64(k));
 }
 
 BootstrapSummary bootstrap_centre(const PreparedImage& p, const Estimator& estimator,
@@ -37,7 +28,7 @@ BootstrapSummary bootstrap_centre(const PreparedImage& p, const Estimator& estim
     // The project's own normal deviates (Box-Muller on mt19937_64), not
     // std::normal_distribution, whose algorithm differs between standard
     // libraries: the same seed gives the same centres everywhere.
-    robustness::Generator rng(mix_seed(o.seed, tag, static_cast<std::uint64_t>(k)));
+    Random rng(mix_seed(o.seed, tag, static_cast<std::uint64_t>(k)));
     std::vector<double> d = p.data;
     for (double& v : d)
       if (std::isfinite(v)) v += noise_rms * rng.normal();

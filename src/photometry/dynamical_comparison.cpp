@@ -1,5 +1,6 @@
 // Offsets of the photometric centres from the dynamical centre and their
 // significance (see dynamical_comparison.hpp).
+#include "fulcrum/sky/physical_scale.hpp"
 #include "fulcrum/photometry/dynamical_comparison.hpp"
 
 #include <Eigen/Dense>
@@ -37,7 +38,7 @@ CentreOffset offset_from_dynamical(const std::string& id, WorldCoord position,
     r.offset_beams = r.offset_arcsec / *r.beam_fwhm_along_arcsec;
   }
   if (o.distance_mpc && *o.distance_mpc > 0)
-    r.offset_kpc = r.offset_arcsec * std::numbers::pi / 648000.0 * (*o.distance_mpc) * 1000.0;
+    r.offset_kpc = r.offset_arcsec * kpc_per_arcsec(*o.distance_mpc);
   const Eigen::Matrix2d c = cov + k.cov_arcsec2;
   const Eigen::Vector2d v(d.east, d.north);
   if (std::abs(c.determinant()) > 0) {

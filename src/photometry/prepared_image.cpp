@@ -139,7 +139,7 @@ PreparedImage prepare_image(const Image& image, const Image* mask, const Prepara
   if (!image.wcs.valid()) throw InputError(src, "the optical image has no celestial WCS");
   if (!(o.psf_fwhm_arcsec > 0.0) || !std::isfinite(o.psf_fwhm_arcsec))
     throw InputError(src, "the PSF FWHM must be a positive number of arcsec (got " +
-                              fmt(o.psf_fwhm_arcsec) + "); give --psf-fwhm");
+                              fmt(o.psf_fwhm_arcsec) + "); give the psf_fwhm_arcsec setting");
   if (mask && (mask->nx != image.nx || mask->ny != image.ny)) {
     const std::string msrc = mask->path.empty() ? std::string("mask") : mask->path;
     throw InputError(msrc, "the mask is " + std::to_string(mask->nx) + "x" +

@@ -12,6 +12,9 @@
 #include <toml++/toml.h>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/random.hpp"
+#include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 
 namespace fulcrum::pipeline {
 
@@ -51,6 +54,22 @@ double get_number(const Ctx& c, const toml::node& n, const std::string& key) {
   return v;
 }
 
+// A number for a setting whose checker (pipeline/input_settings.hpp) decides
+// what is allowed; its SettingError becomes an error at this line.
+template <typename Check>
+auto checked(const Ctx& c, const toml::node& n, Check check) {
+  try {
+    return check();
+  } catch (const SettingError& e) {
+    fail(c, line_of(n), e.problem());
+  }
+}
+
+double get_any_number(const Ctx& c, const toml::node& n, const std::string& key) {
+  if (!n.is_number()) fail(c, line_of(n), "'" + key + "' must be a number");
+  return *n.value<double>();
+}
+
 std::int64_t get_integer(const Ctx& c, const toml::node& n, const std::string& key) {
   if (!n.is_integer()) fail(c, line_of(n), "'" + key + "' must be an integer");
   return *n.value<std::int64_t>();
@@ -66,21 +85,17 @@ const std::set<std::string> kMolecularKeys = {"co_line", "alpha_co", "co_ratio_2
 
 bool read_molecular(const Ctx& c, const std::string& key, const toml::node& n, MolecularGasInput& m) {
   if (key == "co_line") {
-    std::string v = get_string(c, n, key);
-    if (v != "1-0" && v != "2-1") fail(c, line_of(n), "co_line must be \"1-0\" or \"2-1\", not \"" + v + "\"");
-    m.co_line = v;
+    const std::string v = get_string(c, n, key);
+    m.co_line = checked(c, n, [&] { return setting::co_line(v); });
   } else if (key == "alpha_co") {
-    double v = get_number(c, n, key);
-    if (v <= 0) fail(c, line_of(n), "alpha_co must be positive");
-    m.alpha_co = v;
+    const double v = get_any_number(c, n, key);
+    m.alpha_co = checked(c, n, [&] { return setting::alpha_co(v); });
   } else if (key == "co_ratio_21") {
-    double v = get_number(c, n, key);
-    if (v <= 0 || v > 2) fail(c, line_of(n), "co_ratio_21 must be in (0, 2]");
-    m.co_ratio_21 = v;
+    const double v = get_any_number(c, n, key);
+    m.co_ratio_21 = checked(c, n, [&] { return setting::co_ratio_21(v); });
   } else if (key == "redshift") {
-    double v = get_number(c, n, key);
-    if (v < 0 || v > 10) fail(c, line_of(n), "redshift must be in [0, 10]");
-    m.redshift = v;
+    const double v = get_any_number(c, n, key);
+    m.redshift = checked(c, n, [&] { return setting::redshift(v); });
   } else {
     return false;
   }
@@ -178,27 +193,23 @@ GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasIn
     else if (key == "optical_mask") g.optical_mask = resolve(c, get_string(c, node, key));
     else if (key == "tail_image") g.tail_image = resolve(c, get_string(c, node, key));
     else if (key == "rms") {
-      double v = get_number(c, node, key);
-      if (v <= 0) fail(c, line, "rms must be positive");
-      g.rms = v;
+      const double v = get_any_number(c, node, key);
+      g.rms = checked(c, node, [&] { return setting::rms(v); });
     } else if (key == "psf_fwhm_arcsec") {
-      double v = get_number(c, node, key);
-      if (v <= 0) fail(c, line, "psf_fwhm_arcsec must be positive");
-      g.psf_fwhm_arcsec = v;
+      const double v = get_any_number(c, node, key);
+      g.psf_fwhm_arcsec = checked(c, node, [&] { return setting::psf_fwhm_arcsec(v); });
     } else if (key == "tail_pa_deg") {
-      g.tail_pa_deg = get_number(c, node, key);
+      const double v = get_any_number(c, node, key);
+      g.tail_pa_deg = checked(c, node, [&] { return setting::tail_pa_deg(v); });
     } else if (key == "tail_pa_err_deg") {
-      double v = get_number(c, node, key);
-      if (v < 0 || v > 90) fail(c, line, "tail_pa_err_deg must be in [0, 90]");
-      g.tail_pa_err_deg = v;
+      const double v = get_any_number(c, node, key);
+      g.tail_pa_err_deg = checked(c, node, [&] { return setting::tail_pa_err_deg(v); });
     } else if (key == "distance_mpc") {
-      double v = get_number(c, node, key);
-      if (v <= 0) fail(c, line, "distance_mpc must be positive");
-      g.distance_mpc = v;
+      const double v = get_any_number(c, node, key);
+      g.distance_mpc = checked(c, node, [&] { return setting::distance_mpc(v); });
     } else if (key == "seed") {
-      auto v = get_integer(c, node, key);
-      if (v < 0) fail(c, line, "seed must be non-negative");
-      g.seed = static_cast<std::uint64_t>(v);
+      const auto v = get_integer(c, node, key);
+      g.seed = checked(c, node, [&] { return setting::seed(v); });
     } else {
       read_molecular(c, key, node, g.molecular);
     }
@@ -267,17 +278,14 @@ SampleManifest parse_manifest(const std::string& text, const std::string& path) 
         if (skey == "name") m.name = get_string(c, sn, skey);
         else if (skey == "description") get_string(c, sn, skey);
         else if (skey == "seed") {
-          auto v = get_integer(c, sn, skey);
-          if (v < 0) fail(c, line_of(sn), "seed must be non-negative");
-          m.seed = static_cast<std::uint64_t>(v);
+          const auto v = get_integer(c, sn, skey);
+          m.seed = checked(c, sn, [&] { return setting::seed(v); });
         } else if (skey == "draws") {
-          auto v = get_integer(c, sn, skey);
-          if (v < 100 || v > 100000000) fail(c, line_of(sn), "draws must be between 100 and 1e8");
-          m.draws = static_cast<int>(v);
+          const auto v = get_integer(c, sn, skey);
+          m.draws = checked(c, sn, [&] { return setting::draws(v); });
         } else if (skey == "calibrate") {
-          auto v = get_integer(c, sn, skey);
-          if (v < 0 || v > 100000) fail(c, line_of(sn), "calibrate must be between 0 and 100000 mocks");
-          m.calibrate = static_cast<int>(v);
+          const auto v = get_integer(c, sn, skey);
+          m.calibrate = checked(c, sn, [&] { return setting::calibrate(v); });
         } else {
           read_molecular(c, skey, sn, defaults);
         }
@@ -316,11 +324,9 @@ std::uint64_t galaxy_seed(std::uint64_t sample_seed, const GalaxyInput& galaxy) 
   if (galaxy.seed) return *galaxy.seed;
   std::uint64_t h = 1469598103934665603ull;
   for (unsigned char ch : galaxy.name) h = (h ^ ch) * 1099511628211ull;
-  std::uint64_t z = sample_seed + 0x9e3779b97f4a7c15ull * (h | 1);
-  z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9ull;
-  z = (z ^ (z >> 27)) * 0x94d049bb133111ebull;
+  const std::uint64_t z = splitmix64_mix(sample_seed + 0x9e3779b97f4a7c15ull * (h | 1));
   // 53 bits, so that the seed is exact in JSON readers that use doubles.
-  return (z ^ (z >> 31)) & ((1ull << 53) - 1);
+  return z & ((1ull << 53) - 1);
 }
 
 Selection parse_shard(const std::string& text) {
@@ -333,10 +339,10 @@ Selection parse_shard(const std::string& text) {
     s.shard_count = std::stoi(text.substr(slash + 1), &b);
     if (a != slash || b != text.size() - slash - 1) throw std::invalid_argument("junk");
   } catch (const std::exception&) {
-    throw InputError("", "--shard must be I/N with whole numbers, e.g. 2/8 (got '" + text + "')");
+    throw InputError("", "shard must be I/N with whole numbers, e.g. 2/8 (got '" + text + "')");
   }
   if (s.shard_count < 1 || s.shard_index < 1 || s.shard_index > s.shard_count)
-    throw InputError("", "--shard I/N needs 1 <= I <= N (got '" + text + "')");
+    throw InputError("", "shard I/N needs 1 <= I <= N (got '" + text + "')");
   return s;
 }
 
@@ -345,7 +351,7 @@ std::vector<GalaxyInput> select_galaxies(const SampleManifest& manifest, const S
   for (const auto& name : only) {
     bool found = false;
     for (const auto& g : manifest.galaxies) found = found || g.name == name;
-    if (!found) throw InputError(manifest.path, "--only " + name + ": no galaxy of that name in the manifest");
+    if (!found) throw InputError(manifest.path, "only = " + name + ": no galaxy of that name in the manifest");
   }
   std::vector<GalaxyInput> out;
   for (std::size_t p = 0; p < manifest.galaxies.size(); ++p) {

@@ -6,11 +6,12 @@
 #include <map>
 #include <numbers>
 
+#include "fulcrum/sky/angle.hpp"
+#include "fulcrum/core/number_text.hpp"
 namespace fulcrum::report {
 
 namespace {
 
-constexpr double kDeg = std::numbers::pi / 180.0;
 
 double finite_max_abs(const std::vector<double>& v) {
   double m = 0;
@@ -36,7 +37,7 @@ std::pair<double, double> display_range(const std::vector<double>& v, double lo_
 // Canvas rotation (deg, SVG clockwise) of a sky direction at PA phi on a
 // panel with east to the left and north up.
 double canvas_rotation(double pa_deg) {
-  return std::atan2(-std::cos(pa_deg * kDeg), -std::sin(pa_deg * kDeg)) / kDeg;
+  return Angle::from_radians(std::atan2(-(pa_deg * degrees).cos(), -(pa_deg * degrees).sin())).deg();
 }
 
 Point sky_point(const Axes& ax, double east, double north) { return ax.at(east, north); }
@@ -69,7 +70,7 @@ void draw_centre(Svg& svg, const Axes& ax, const CentreMark& c, double nsigma) {
     double ve = c.cov_en, vn = l1 - c.cov_ee;
     if (std::abs(ve) + std::abs(vn) < 1e-300) { ve = l1 - c.cov_nn; vn = c.cov_en; }
     if (std::abs(ve) + std::abs(vn) < 1e-300) { ve = 0; vn = 1; }
-    double pa = std::atan2(ve, vn) / kDeg;
+    double pa = Angle::from_radians(std::atan2(ve, vn)).deg();
     Style s;
     s.stroke = col;
     s.stroke_width = c.adopted ? 2.0 : 1.4;
@@ -93,7 +94,7 @@ void centre_legend(Svg& svg, double x, double y, const std::vector<CentreMark>& 
     svg.text({x + 18, yy}, label, 11, "start", 0, c.ok ? "#111111" : "#888888");
     yy += 16;
   }
-  svg.text({x, yy + 4}, "ellipses: " + fmt(nsigma, 0) + "\u03c3 errors", 10.5, "start", 0, "#444444");
+  svg.text({x, yy + 4}, "ellipses: " + fixed_text(nsigma, 0) + "\u03c3 errors", 10.5, "start", 0, "#444444");
 }
 
 void split_overlay(Svg& svg, const Axes& ax, double tail_pa, std::optional<double> tail_err,
@@ -106,8 +107,8 @@ void split_overlay(Svg& svg, const Axes& ax, double tail_pa, std::optional<doubl
   s.stroke_width = 2.0;
   s.dash = "7 4";
   double L = 1.5 * half;
-  svg.line(sky_point(ax, L * std::sin(pa_line * kDeg), L * std::cos(pa_line * kDeg)),
-           sky_point(ax, -L * std::sin(pa_line * kDeg), -L * std::cos(pa_line * kDeg)), s);
+  svg.line(sky_point(ax, L * (pa_line * degrees).sin(), L * (pa_line * degrees).cos()),
+           sky_point(ax, -L * (pa_line * degrees).sin(), -L * (pa_line * degrees).cos()), s);
   if (tail_err && *tail_err > 0) {
     Style w = s;
     w.stroke_width = 1.0;
@@ -115,18 +116,18 @@ void split_overlay(Svg& svg, const Axes& ax, double tail_pa, std::optional<doubl
     w.opacity = 0.8;
     for (double d : {-*tail_err, *tail_err}) {
       double p = pa_line + d;
-      svg.line(sky_point(ax, L * std::sin(p * kDeg), L * std::cos(p * kDeg)),
-               sky_point(ax, -L * std::sin(p * kDeg), -L * std::cos(p * kDeg)), w);
+      svg.line(sky_point(ax, L * (p * degrees).sin(), L * (p * degrees).cos()),
+               sky_point(ax, -L * (p * degrees).sin(), -L * (p * degrees).cos()), w);
     }
   }
   double r = 0.62 * half;
-  Point from = sky_point(ax, 0.12 * half * std::sin(tail_pa * kDeg), 0.12 * half * std::cos(tail_pa * kDeg));
-  Point to = sky_point(ax, r * std::sin(tail_pa * kDeg), r * std::cos(tail_pa * kDeg));
+  Point from = sky_point(ax, 0.12 * half * (tail_pa * degrees).sin(), 0.12 * half * (tail_pa * degrees).cos());
+  Point to = sky_point(ax, r * (tail_pa * degrees).sin(), r * (tail_pa * degrees).cos());
   svg.arrow(from, to, "#e8552b", 3.0, 12);
-  Point lab = sky_point(ax, (r + 0.1 * half) * std::sin(tail_pa * kDeg), (r + 0.1 * half) * std::cos(tail_pa * kDeg));
+  Point lab = sky_point(ax, (r + 0.1 * half) * (tail_pa * degrees).sin(), (r + 0.1 * half) * (tail_pa * degrees).cos());
   svg.text({lab.x, lab.y + 4}, "tail", 12, "middle", 0, "#e8552b", "bold");
   double lead = tail_pa + 180.0;
-  Point ll = sky_point(ax, 0.72 * half * std::sin(lead * kDeg), 0.72 * half * std::cos(lead * kDeg));
+  Point ll = sky_point(ax, 0.72 * half * (lead * degrees).sin(), 0.72 * half * (lead * degrees).cos());
   svg.text({ll.x, ll.y + 4}, "leading", 12, "middle", 0, line_colour, "bold");
 }
 
@@ -212,8 +213,8 @@ std::string intensity_figure(const IntensityFigure& f) {
   centre_legend(svg, 565, 52, f.centres, f.error_ellipse_sigma);
   double y = 60 + 16.0 * f.centres.size() + 40;
   if (f.tail_pa_deg) {
-    svg.text({565, y}, "tail PA " + fmt(*f.tail_pa_deg, 1) + "\u00b0" +
-                           (f.tail_pa_err_deg ? " \u00b1 " + fmt(*f.tail_pa_err_deg, 1) + "\u00b0" : ""),
+    svg.text({565, y}, "tail PA " + fixed_text(*f.tail_pa_deg, 1) + "\u00b0" +
+                           (f.tail_pa_err_deg ? " \u00b1 " + fixed_text(*f.tail_pa_err_deg, 1) + "\u00b0" : ""),
              11, "start", 0, "#111111");
     svg.text({565, y + 16}, "dashed: split line; dotted: its range", 10.5, "start", 0, "#444444");
     y += 32;
@@ -241,7 +242,7 @@ std::string asymmetry_plane_figure(const AsymmetryPlaneFigure& f) {
   }
   if (f.flip_distance && f.flip_direction_pa_deg && std::isfinite(*f.flip_distance)) {
     double d = *f.flip_distance, pa = *f.flip_direction_pa_deg;
-    svg.arrow(ax.at(0, 0), ax.at(d * std::sin(pa * kDeg), d * std::cos(pa * kDeg)), "#111111", 1.8, 9);
+    svg.arrow(ax.at(0, 0), ax.at(d * (pa * degrees).sin(), d * (pa * degrees).cos()), "#111111", 1.8, 9);
   }
   north_east_compass(svg, ax, "#111111");
   svg.end_clip();
@@ -253,9 +254,9 @@ std::string asymmetry_plane_figure(const AsymmetryPlaneFigure& f) {
   centre_legend(svg, 565, 52, legend, f.error_ellipse_sigma);
   double y = 60 + 16.0 * f.centres.size() + 40;
   svg.text({565, y}, "black line: A = 0", 11, "start", 0, "#111111");
-  svg.text({565, y + 16}, "split angle: tail PA " + fmt(f.tail_pa_deg, 1) + "\u00b0", 11, "start", 0, "#111111");
+  svg.text({565, y + 16}, "split angle: tail PA " + fixed_text(f.tail_pa_deg, 1) + "\u00b0", 11, "start", 0, "#111111");
   if (f.flip_distance && std::isfinite(*f.flip_distance))
-    svg.text({565, y + 32}, "arrow: flip distance " + fmt(*f.flip_distance, 2) + "\u2033", 11, "start", 0, "#111111");
+    svg.text({565, y + 32}, "arrow: flip distance " + fixed_text(*f.flip_distance, 2) + "\u2033", 11, "start", 0, "#111111");
   svg.text({565, y + 52}, "colour: cool-warm (Moreland 2009)", 10.5, "start", 0, "#444444");
   return svg.str();
 }
@@ -360,10 +361,10 @@ std::string bootstrap_figure(const BootstrapFigure& f) {
   a.stroke_width = 2.0;
   svg.line(ax.at(f.asymmetry, 0), ax.at(f.asymmetry, ax.ymax), a);
   ax.draw(svg, "A = (L \u2212 T)/(L + T)", "draws per bin", f.galaxy + ": bootstrap of A");
-  std::string txt = "solid: A at the adopted centre (" + fmt(f.asymmetry, 3) + "); dashed: A = 0; shading: 68% and 95% intervals";
+  std::string txt = "solid: A at the adopted centre (" + fixed_text(f.asymmetry, 3) + "); dashed: A = 0; shading: 68% and 95% intervals";
   svg.text({72, 386}, txt, 10.5, "start", 0, "#444444");
   if (f.p_leading)
-    svg.text({ax.left + ax.width - 8, ax.top + 18}, "P(A > 0) = " + fmt(*f.p_leading, 3), 12, "end", 0, "#111111", "bold");
+    svg.text({ax.left + ax.width - 8, ax.top + 18}, "P(A > 0) = " + fixed_text(*f.p_leading, 3), 12, "end", 0, "#111111", "bold");
   return svg.str();
 }
 
@@ -410,9 +411,9 @@ std::string velocity_figure(const VelocityFigure& f) {
   colour_bar(svg, f.residual ? x - gap + 10 : cbx, 40, 12, size, ColourMapKind::kCoolWarm,
              f.residual ? -rmax : -m, f.residual ? rmax : m,
              f.residual ? "residual (km/s)" : "v \u2212 vsys (km/s)");
-  std::string caption = "velocity about vsys = " + fmt(f.vsys, 1) +
+  std::string caption = "velocity about vsys = " + fixed_text(f.vsys, 1) +
                         " km/s (contours every tick step); cool-warm map (Moreland 2009)";
-  if (f.residual) caption += "; observed/model colour range \u00b1" + fmt(m, 0) + " km/s";
+  if (f.residual) caption += "; observed/model colour range \u00b1" + fixed_text(m, 0) + " km/s";
   svg.text({72, 350}, caption, 10.5, "start", 0, "#444444");
   return svg.str();
 }
@@ -449,7 +450,7 @@ std::string rotation_curve_figure(const RotationCurveFigure& f) {
   dot.stroke_width = 1.6;
   for (const auto& p : pts) svg.circle(p, 3.5, dot);
   std::string xl = "radius (arcsec)";
-  if (f.kpc_per_arcsec) xl += "; 10\u2033 = " + fmt(10 * *f.kpc_per_arcsec, 2) + " kpc";
+  if (f.kpc_per_arcsec) xl += "; 10\u2033 = " + fixed_text(10 * *f.kpc_per_arcsec, 2) + " kpc";
   ax.draw(svg, xl, "rotation velocity (km/s)", f.galaxy + ": rotation curve from the ring fit");
   svg.text({72, 386}, "points: rings of the tilted-ring fit; bars: 1\u03c3", 10.5, "start", 0, "#444444");
   return svg.str();

@@ -5,6 +5,7 @@
 #include <cmath>
 #include <sstream>
 
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/report/svg.hpp"
 
 namespace fulcrum::report {
@@ -56,7 +57,7 @@ std::string cell(const Column& c, std::size_t i) {
   switch (c.values.index()) {
     case 0: {
       double v = std::get<0>(c.values)[i];
-      return std::isfinite(v) ? fmt(v, c.digits) : "\u2013";
+      return std::isfinite(v) ? fixed_text(v, c.digits) : "\u2013";
     }
     case 1: return std::to_string(std::get<1>(c.values)[i]);
     default: return std::get<2>(c.values)[i];

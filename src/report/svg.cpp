@@ -9,21 +9,18 @@
 #include <sstream>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 
 namespace fulcrum::report {
 
-std::string fmt(double v, int decimals) {
-  if (!std::isfinite(v)) return "nan";
-  char buf[64];
-  std::snprintf(buf, sizeof buf, "%.*f", decimals, v);
-  std::string s = buf;
-  if (s[0] == '-' && s.find_first_not_of("-0.") == std::string::npos) s = s.substr(1);
-  return s;
-}
+
+// Kept for the two pipeline call sites that still use this name; new code
+// calls fixed_text (core/number_text.hpp) directly.
+std::string fmt(double v, int decimals) { return fixed_text(v, decimals); }
 
 namespace {
-std::string n2(double v) { return fmt(v, 2); }
+std::string n2(double v) { return fixed_text(v, 2); }
 
 std::string style_attr(const Style& s) {
   std::string a = " stroke=\"" + (s.stroke.empty() ? std::string("none") : s.stroke) + "\"";
@@ -218,7 +215,7 @@ std::string tick_label(double v, double step) {
   int dec = 0;
   if (step > 0 && step < 1) dec = static_cast<int>(std::ceil(-std::log10(step) - 1e-9));
   if (step > 0 && std::abs(step * std::pow(10.0, dec) - std::round(step * std::pow(10.0, dec))) > 1e-6) ++dec;
-  std::string s = fmt(v, std::clamp(dec, 0, 6));
+  std::string s = fixed_text(v, std::clamp(dec, 0, 6));
   if (!s.empty() && s[0] == '-') s = "\u2212" + s.substr(1);  // a real minus sign
   return s;
 }

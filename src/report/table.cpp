@@ -9,6 +9,7 @@
 #include <sstream>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 
 namespace fulcrum::report {
@@ -62,13 +63,7 @@ Column& Table::add_string(std::string n, std::string description, std::vector<st
   return columns.back();
 }
 
-std::string format_double(double v) {
-  if (std::isnan(v)) return "nan";
-  if (std::isinf(v)) return v > 0 ? "inf" : "-inf";
-  char buf[64];
-  auto res = std::to_chars(buf, buf + sizeof buf, v);
-  return std::string(buf, res.ptr);
-}
+std::string format_double(double v) { return shortest_text(v); }
 
 namespace {
 

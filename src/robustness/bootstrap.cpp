@@ -8,7 +8,7 @@
 #include <numeric>
 
 #include "fulcrum/core/error.hpp"
-#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/core/random.hpp"
 
 namespace fulcrum::robustness {
 
@@ -69,7 +69,7 @@ BootstrapSummary bootstrap(const split::SplitProblem& pr, const BootstrapOptions
   if (!(step > 0.0)) step = o.tail_pa_err_deg > 0.0 ? std::min(1.0, o.tail_pa_err_deg / 10.0) : 1.0;
 
   // 1. Generate every deviate in a fixed order from the one generator.
-  Generator g(o.seed);
+  Random g(o.seed);
   std::vector<Draw> draws(o.n_draws);
   for (auto& d : draws) {
     std::size_t k = 0;

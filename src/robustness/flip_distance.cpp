@@ -5,7 +5,9 @@
 #include <cmath>
 #include <limits>
 
+#include "fulcrum/sky/angle.hpp"
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/settings_check.hpp"
 
 namespace fulcrum::robustness {
 
@@ -96,7 +98,7 @@ AngleFlip flip_at_angle(const ProjectionEngine& e, SkyOffset c0, int nominal_sig
 
 double beam_fwhm_along(const Beam& b, double pa_deg) {
   if (!std::isfinite(pa_deg)) return b.fwhm_arcsec();
-  const double d = (pa_deg - b.bpa_deg) * std::numbers::pi / 180.0;
+  const double d = Angle::from_degrees(pa_deg - b.bpa_deg).rad();
   const double c = std::cos(d), s = std::sin(d);
   return 1.0 / std::sqrt(c * c / (b.bmaj_arcsec * b.bmaj_arcsec) +
                          s * s / (b.bmin_arcsec * b.bmin_arcsec));
@@ -112,7 +114,7 @@ FlipSummary flip_distance(const split::SplitProblem& pr, const FlipOptions& opt)
   }
   std::vector<double> angles{opt.tail_pa_deg};
   if (opt.tail_pa_err_deg > 0.0) {
-    if (!(opt.angle_step_deg > 0.0)) throw InputError("", "the flip angle step must be positive");
+    check_positive("flip_angle_step_deg", opt.angle_step_deg, "degrees");
     const int m = std::max(1, static_cast<int>(std::ceil(opt.tail_pa_err_deg / opt.angle_step_deg)));
     angles.clear();
     for (int k = -m; k <= m; ++k) angles.push_back(opt.tail_pa_deg + k * opt.tail_pa_err_deg / m);

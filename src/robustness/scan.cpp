@@ -8,6 +8,7 @@
 #include <optional>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/robustness/flip_distance.hpp"
 
@@ -25,12 +26,10 @@ std::vector<double> axis(double centre, double half, double step) {
 }  // namespace
 
 ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
-  if (!(o.step_arcsec > 0.0)) throw InputError("", "--step must be positive");
-  if (!(o.half_width_arcsec >= 0.0)) throw InputError("", "--half-width must not be negative");
-  if (!(o.angle_half_width_deg >= 0.0))
-    throw InputError("", "--angle-half-width must not be negative");
-  if (o.angle_half_width_deg > 0.0 && !(o.angle_step_deg > 0.0))
-    throw InputError("", "--angle-step must be positive");
+  check_positive("step_arcsec", o.step_arcsec, "arcsec");
+  check_non_negative("half_width_arcsec", o.half_width_arcsec, "arcsec");
+  check_finite_in_range("angle_half_width_deg", o.angle_half_width_deg, 0.0, 180.0, "degrees");
+  if (o.angle_half_width_deg > 0.0) check_positive("angle_step_deg", o.angle_step_deg, "degrees");
   const auto t0 = std::chrono::steady_clock::now();
   ScanSummary S;
   S.reference = pr.reference;

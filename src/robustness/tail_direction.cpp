@@ -4,8 +4,9 @@
 
 #include <cmath>
 
+#include "fulcrum/sky/angle.hpp"
 #include "fulcrum/core/error.hpp"
-#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/core/random.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
 
 namespace fulcrum::robustness {
@@ -33,7 +34,7 @@ TailDirectionSummary tail_direction(const Image& img, const TailDirectionOptions
   }
   if (w.empty())
     throw InputError(img.path, "no detected emission outside the disc aperture: cannot estimate the "
-                               "tail direction (give --tail-pa instead)");
+                               "tail direction (give the tail PA, tail_pa_deg, instead)");
   TailDirectionSummary t;
   t.n_pixels = w.size();
   auto direction = [&](auto&& index, std::size_t m, double* Ve, double* Vn, double* W) {
@@ -50,14 +51,14 @@ TailDirectionSummary tail_direction(const Image& img, const TailDirectionOptions
   };
   double Ve, Vn, W;
   direction([](std::size_t j) { return j; }, w.size(), &Ve, &Vn, &W);
-  t.tail_pa_deg = wrap_pa_deg(std::atan2(Ve, Vn) * 180.0 / std::numbers::pi);
+  t.tail_pa_deg = wrap_pa_deg(Angle::from_radians(std::atan2(Ve, Vn)).deg());
   t.resultant_fraction = std::hypot(Ve, Vn) / W;
   t.tail_flux_sum = W;
   double ppb = 1.0;
   if (img.beam && img.beam->bmaj_arcsec > 0.0)
     ppb = std::max(1.0, img.beam->pixels_per_beam(off.pixel_area_arcsec2()));
   const std::size_t m = std::max<std::size_t>(2, static_cast<std::size_t>(double(w.size()) / ppb));
-  Generator g(o.seed);
+  Random g(o.seed);
   double C = 0.0, S = 0.0;
   const double th0 = std::atan2(Ve, Vn);
   std::vector<std::size_t> idx(m);
@@ -70,7 +71,7 @@ TailDirectionSummary tail_direction(const Image& img, const TailDirectionOptions
     S += std::sin(d);
   }
   const double R = o.n_boot ? std::hypot(C, S) / double(o.n_boot) : 1.0;
-  t.tail_pa_err_deg = std::sqrt(std::max(0.0, -2.0 * std::log(std::max(R, 1e-300)))) * 180.0 / std::numbers::pi;
+  t.tail_pa_err_deg = Angle::from_radians(std::sqrt(std::max(0.0, -2.0 * std::log(std::max(R, 1e-300))))).deg();
   return t;
 }
 

@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "fulcrum/sky/angle.hpp"
 #include "fulcrum/core/error.hpp"
 
 namespace fulcrum {
@@ -71,7 +72,7 @@ GridOrientation grid_orientation(const CelestialWcs& wcs, PixelCoord at) {
   g.pixel_scale_x_arcsec = cx.norm();
   g.pixel_scale_y_arcsec = cy.norm();
   const double cosang = (cx.east * cy.east + cx.north * cy.north) / (cx.norm() * cy.norm());
-  g.skew_deg = std::acos(std::clamp(cosang, -1.0, 1.0)) * 180.0 / std::numbers::pi - 90.0;
+  g.skew_deg = Angle::from_radians(std::acos(std::clamp(cosang, -1.0, 1.0))).deg() - 90.0;
   return g;
 }
 

@@ -8,6 +8,7 @@
 #include <sstream>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/split/clipped_noise.hpp"
 
@@ -22,12 +23,6 @@ std::string squeeze(const std::string& u) {
     o += static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
   }
   return o;
-}
-std::string fmt(double v) {
-  std::ostringstream os;
-  os.precision(6);
-  os << v;
-  return os.str();
 }
 }  // namespace
 
@@ -118,7 +113,7 @@ SplitProblem prepare_split(const Image& map, const SplitOptions& opt) {
   if (opt.error_map)
     pr.noise_source = "error map " + opt.error_map->path;
   else if (opt.rms > 0.0)
-    pr.noise_source = "rms " + fmt(opt.rms) + " " + map.unit;
+    pr.noise_source = "rms " + significant_text(opt.rms, 6) + " " + map.unit;
   else
     pr.noise_source = "none";
   if (pr.clip_snr > 0.0) pr.noise_source += ", clip-aware (map clipped at " + fmt(pr.clip_snr) + " sigma)";
@@ -170,7 +165,7 @@ SplitSummary split_halves(const Image& map, const SplitOptions& opt) {
   if (!(std::abs(pr.scale.factor) > 0.0)) throw InputError(map.path, "zero flux scale");
   SplitSummary s = split_at(pr, opt.tail_pa_deg * degrees);
   if (!(s.total_flux > 0.0))
-    warn("the total flux in the analysis region is not positive (" + fmt(s.total_flux) + " " +
+    warn("the total flux in the analysis region is not positive (" + significant_text(s.total_flux, 6) + " " +
          s.flux_unit + "); the asymmetry is not meaningful");
   return s;
 }

@@ -6,6 +6,7 @@
 #include <cmath>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/settings_check.hpp"
 
 namespace fulcrum::split {
 
@@ -18,7 +19,7 @@ PixelSet collect_pixels(const Image& map, const PixelOffsets& offsets,
                      "error map is " + std::to_string(noise.error_map->nx) + "x" +
                          std::to_string(noise.error_map->ny) + " pixels but the map is " +
                          std::to_string(map.nx) + "x" + std::to_string(map.ny));
-  if (!noise.error_map && noise.rms < 0.0) throw InputError("", "--rms must be positive");
+  if (!noise.error_map && noise.rms != 0.0) check_positive("rms", noise.rms, "(map units)");
   PixelSet px;
   px.jacobian = offsets.jacobian();
   const bool has_noise = noise.error_map || noise.rms > 0.0;

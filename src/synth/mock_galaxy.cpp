@@ -44,14 +44,15 @@
 #include <Eigen/Eigenvalues>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/random.hpp"
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/io/header_card.hpp"
 #include "fulcrum/imaging/gaussian_smooth.hpp"
+#include "fulcrum/photometry/sersic_profile.hpp"
 #include "fulcrum/sky/angle.hpp"
 #include "fulcrum/sky/ellipse.hpp"
 #include "fulcrum/sky/offset_frame.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
-#include "fulcrum/synth/random.hpp"
-#include "fulcrum/synth/sersic.hpp"
 
 namespace fulcrum::synth {
 
@@ -60,7 +61,7 @@ namespace {
 constexpr double kPi = std::numbers::pi;
 constexpr double kLightKms = 299792.458;  // speed of light, km/s (exact, SI definition)
 
-// Random sub-streams of one galaxy's seed (see random.hpp).
+// Random sub-streams of one galaxy's seed (Random::stream, core/random.hpp).
 enum Stream : std::uint64_t {
   kLineNoise = 1,
   kVelocityNoise = 2,
@@ -81,11 +82,6 @@ void require(bool ok, const std::string& what) {
   if (!ok) throw InputError("", "mock parameter out of range: " + what);
 }
 
-std::string fmt(double v) {
-  char b[64];
-  std::snprintf(b, sizeof b, "%.10g", v);
-  return b;
-}
 
 // A padded work grid and its sky geometry.
 struct WorkGrid {
@@ -156,7 +152,7 @@ double kernel_sum_squares(const Eigen::Matrix2d& cov) {
 }
 
 // Beam-correlated Gaussian noise of unit variance on the inner grid.
-std::vector<double> correlated_noise(const WorkGrid& g, const Eigen::Matrix2d& cov, Rng& rng) {
+std::vector<double> correlated_noise(const WorkGrid& g, const Eigen::Matrix2d& cov, Random& rng) {
   std::vector<double> white(g.size());
   for (double& v : white) v = rng.normal();
   auto smooth = convolve_gaussian(white, g.nx, g.ny, cov, plain_convolution());
@@ -232,7 +228,7 @@ double rotation_speed(const MockGalaxy& g, double r_arcsec) {
 // Tilted-ring line-of-sight velocity (Begeman 1989): v = vsys + vrot(R) sin(i) cos(theta).
 double model_velocity(const MockGalaxy& g, SkyOffset p) {
   DiscPoint d = disc_coordinates(p, {0.0, 0.0}, g.pa_deg * degrees, g.inc_deg * degrees);
-  return g.vsys_kms + rotation_speed(g, d.radius_arcsec) * std::sin(g.inc_deg * kPi / 180.0) * d.cos_theta;
+  return g.vsys_kms + rotation_speed(g, d.radius_arcsec) * Angle::from_degrees(g.inc_deg).sin() * d.cos_theta;
 }
 
 nlohmann::json pixel_json(const CelestialWcs& wcs, WorldCoord w) {
@@ -244,7 +240,7 @@ nlohmann::json pixel_json(const CelestialWcs& wcs, WorldCoord w) {
 
 CelestialWcs mock_grid_wcs(const GridSpec& grid, WorldCoord centre, int margin) {
   const double s = grid.pixel_arcsec / 3600.0;
-  const double r = grid.rotation_deg * kPi / 180.0;
+  const double r = Angle::from_degrees(grid.rotation_deg).rad();
   // Sky directions (east, north) of the +x and +y pixel axes. +y points to
   // PA = rotation; +x to PA = rotation - 90 deg (east to the left when the
   // +y axis is north) or, flipped, PA = rotation + 90 deg.
@@ -264,24 +260,24 @@ void validate_mock(const MockGalaxy& g) {
     require(s.nx >= 8 && s.nx <= 8192 && s.ny >= 8 && s.ny <= 8192,
             where + ".nx/ny must be 8-8192 (got " + std::to_string(s.nx) + " x " + std::to_string(s.ny) + ")");
     require(s.pixel_arcsec > 0.0 && s.pixel_arcsec <= 600.0,
-            where + ".pixel_arcsec must be in (0, 600] (got " + fmt(s.pixel_arcsec) + ")");
+            where + ".pixel_arcsec must be in (0, 600] (got " + significant_text(s.pixel_arcsec, 10) + ")");
     require(std::isfinite(s.rotation_deg), where + ".rotation_deg must be finite");
     require(s.projection.size() == 3, where + ".projection must be a three-letter WCS code such as SIN or TAN");
     require(std::isfinite(s.centre_east_arcsec) && std::isfinite(s.centre_north_arcsec),
             where + ".centre offsets must be finite");
   };
   require(!g.name.empty(), "name must not be empty");
-  require(g.ra_deg >= 0.0 && g.ra_deg < 360.0, "ra_deg must be in [0, 360) (got " + fmt(g.ra_deg) + ")");
-  require(g.dec_deg > -89.0 && g.dec_deg < 89.0, "dec_deg must be in (-89, 89) (got " + fmt(g.dec_deg) + ")");
+  require(g.ra_deg >= 0.0 && g.ra_deg < 360.0, "ra_deg must be in [0, 360) (got " + significant_text(g.ra_deg, 10) + ")");
+  require(g.dec_deg > -89.0 && g.dec_deg < 89.0, "dec_deg must be in (-89, 89) (got " + significant_text(g.dec_deg, 10) + ")");
   require(std::isfinite(g.pa_deg), "pa_deg must be finite");
-  require(g.inc_deg >= 0.0 && g.inc_deg <= 85.0, "inc_deg must be in [0, 85] (got " + fmt(g.inc_deg) + ")");
+  require(g.inc_deg >= 0.0 && g.inc_deg <= 85.0, "inc_deg must be in [0, 85] (got " + significant_text(g.inc_deg, 10) + ")");
   require(std::isfinite(g.vsys_kms) && std::abs(g.vsys_kms) < 0.5 * kLightKms, "vsys_kms must be below c/2 in size");
   require(g.vflat_kms >= 0.0 && g.vflat_kms < 2000.0, "vflat_kms must be in [0, 2000)");
   require(g.r_turn_arcsec > 0.0, "r_turn_arcsec must be > 0");
   require(g.total_flux_jykms > 0.0, "total_flux_jykms must be > 0");
   require(g.scale_length_arcsec > 0.0, "scale_length_arcsec must be > 0");
   require(g.disc_radius_arcsec > 0.0, "disc_radius_arcsec must be > 0");
-  require(std::abs(g.leading_excess) <= 1.0, "leading_excess must be in [-1, 1] (got " + fmt(g.leading_excess) + ")");
+  require(std::abs(g.leading_excess) <= 1.0, "leading_excess must be in [-1, 1] (got " + significant_text(g.leading_excess, 10) + ")");
   require(std::isfinite(g.tail_pa_deg), "tail_pa_deg must be finite");
   require(g.tail_pa_err_deg >= 0.0, "tail_pa_err_deg must be >= 0");
   require(g.tail_flux_fraction >= 0.0 && g.tail_flux_fraction < 1.0, "tail_flux_fraction must be in [0, 1)");
@@ -429,7 +425,7 @@ MockProducts make_mock(const MockGalaxy& g) {
   // ---- noise on the line map
   std::vector<double> noisy = model;
   {
-    Rng rng = Rng::derive(g.seed, kLineNoise);
+    Random rng = Random::stream(g.seed, kLineNoise);
     if (g.intensity_rms > 0.0) {
       auto n = correlated_noise(wg, beam_cov, rng);
       for (std::size_t k = 0; k < npix; ++k) noisy[k] += g.intensity_rms * n[k];
@@ -442,7 +438,7 @@ MockProducts make_mock(const MockGalaxy& g) {
   double peak = 0.0;
   for (double v : model) peak = std::max(peak, v);
   {
-    Rng rng = Rng::derive(g.seed, kVelocityNoise);
+    Random rng = Random::stream(g.seed, kVelocityNoise);
     std::vector<double> n(npix, 0.0);
     if (g.velocity_noise_kms > 0.0 || g.velocity_noise_floor_kms > 0.0) n = correlated_noise(wg, beam_cov, rng);
     for (int y = 0; y < ny; ++y) {
@@ -465,7 +461,7 @@ MockProducts make_mock(const MockGalaxy& g) {
   for (double v : vel) kept_before_holes += std::isfinite(v) ? 1 : 0;
   std::size_t blanked = 0;
   if (g.hole_fraction > 0.0 && kept_before_holes > 0) {
-    Rng rng = Rng::derive(g.seed, kHoles);
+    Random rng = Random::stream(g.seed, kHoles);
     const double radius = g.hole_radius_arcsec > 0.0 ? g.hole_radius_arcsec : beam.fwhm_arcsec();
     const std::size_t target = static_cast<std::size_t>(std::ceil(g.hole_fraction * kept_before_holes));
     for (int attempt = 0; attempt < 100000 && blanked < target; ++attempt) {
@@ -584,10 +580,10 @@ MockProducts make_mock(const MockGalaxy& g) {
     const int om = margin_for(psf, o.grid, centre);
     WorkGrid og = make_work_grid(o.grid, centre, om);
     const Eigen::Matrix2d psf_cov = pixel_covariance(psf, og.jac);
-    const double q = o.q < 0.0 ? std::max(0.05, std::cos(g.inc_deg * kPi / 180.0)) : o.q;
+    const double q = o.q < 0.0 ? std::max(0.05, Angle::from_degrees(g.inc_deg).cos()) : o.q;
     const double opa = o.pa_deg < 0.0 ? g.pa_deg : o.pa_deg;
-    const double bn = sersic_bn(o.sersic_n);
-    const double ie = sersic_intensity_at_re(o.total_counts, o.sersic_n, o.re_arcsec, q);
+    const double bn = photometry::sersic_bn(o.sersic_n);
+    const double ie = o.total_counts / photometry::sersic_total_flux(1.0, o.re_arcsec, o.sersic_n, q);
     const SkyOffset pc{o.offset_east_arcsec, o.offset_north_arcsec};
     const SkyOffset ua = direction_of(opa * degrees), ub = direction_of((opa + 90.0) * degrees);
     auto radius = [&](SkyOffset p) {
@@ -609,11 +605,11 @@ MockProducts make_mock(const MockGalaxy& g) {
             const double dx = (i + 0.5) / s - 0.5, dy = (j + 0.5) / s - 0.5;
             SkyOffset p{c.east + og.jac(0, 0) * dx + og.jac(0, 1) * dy,
                         c.north + og.jac(1, 0) * dx + og.jac(1, 1) * dy};
-            acc += sersic_profile(radius(p), ie, o.sersic_n, o.re_arcsec, bn);
+            acc += ie * photometry::sersic_relative_intensity(radius(p) / o.re_arcsec, o.sersic_n, bn);
           }
         gal[static_cast<std::size_t>(x) + static_cast<std::size_t>(og.nx) * y] = acc * og.pixel_area / (s * s);
       }
-    Rng rng = Rng::derive(g.seed, kOptical);
+    Random rng = Random::stream(g.seed, kOptical);
     // Stars: point sources deposited bilinearly (which keeps their centroid),
     // then blurred by the PSF with the galaxy.
     nlohmann::json stars = nlohmann::json::array();
@@ -689,7 +685,7 @@ MockProducts make_mock(const MockGalaxy& g) {
     cube.beam = beam;
     cube.unit = "Jy/beam";
     cube.data.assign(npix * nz, 0.0);
-    Rng rng = Rng::derive(g.seed, kCubeNoise);
+    Random rng = Random::stream(g.seed, kCubeNoise);
     const double sig = c.dispersion_kms;
     const double sumsq = kernel_sum_squares(beam_cov);
     std::vector<double> plane(wg.size());

@@ -116,7 +116,7 @@ TEST_CASE("cubes with a degenerate Stokes axis are read", "[io][fits]") {
   CHECK_THROWS_WITH(read_image((dir / "c.fits").string()), Catch::Contains("is this a cube"));
 }
 
-TEST_CASE("unreadable files give one-line errors naming the file", "[io][errors]") {
+TEST_CASE("unreadable files give one-line errors naming the file", "[io][errors][python]") {
   auto dir = test::temp_dir("bad");
   const std::string missing = (dir / "nothere.fits").string();
   CHECK_THROWS_WITH(read_image(missing), Catch::Contains(missing) && Catch::Contains("no such file"));

@@ -16,7 +16,7 @@
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/moments/moment_maps.hpp"
 #include "fulcrum/synth/mock_galaxy.hpp"
-#include "fulcrum/synth/random.hpp"
+#include "fulcrum/core/random.hpp"
 
 using namespace fulcrum;
 using namespace fulcrum::synth;
@@ -218,7 +218,7 @@ TEST_CASE("channel order and the spectral axis type do not change the moments", 
 }
 
 TEST_CASE("robust noise estimate ignores emission", "[moments][noise]") {
-  Rng rng(77);
+  fulcrum::Random rng(fulcrum::splitmix64(77));
   std::vector<double> v(4000);
   for (double& x : v) x = 0.5 * rng.normal();
   for (int i = 0; i < 400; ++i) v[static_cast<std::size_t>(i)] += 5.0 + i * 0.01;  // 10% bright emission
@@ -324,7 +324,7 @@ TEST_CASE("fulcrum moments writes the maps and the summary", "[moments][cli]") {
   CHECK_FALSE(std::filesystem::exists(dir / "b" / "moments.json"));
 }
 
-TEST_CASE("a 4-D cube with a Stokes axis and per-pixel noise", "[moments][fits]") {
+TEST_CASE("a 4-D cube with a Stokes axis and per-pixel noise", "[moments][fits][python]") {
   MockGalaxy g = cube_mock(8);
   g.grid.nx = g.grid.ny = 24;
   g.grid.pixel_arcsec = 1.0;

@@ -45,7 +45,7 @@ constexpr double kHiHz = 1.420405751768e9;
 
 }  // namespace
 
-TEST_CASE("frequency and velocity axes agree with astropy's Doppler equivalencies", "[moments][spectral]") {
+TEST_CASE("frequency and velocity axes agree with astropy's Doppler equivalencies", "[moments][spectral][python]") {
   struct Case {
     std::string name, ctype, cunit, rest_key;
     double crval, cdelt, crpix, rest;

@@ -72,7 +72,7 @@ void require_same_numbers(const json& a, const json& b) {
 
 }  // namespace
 
-TEST_CASE("analyse --cube gives the numbers of moments followed by analyse", "[pipeline][cube]") {
+TEST_CASE("analyse --cube gives the numbers of moments followed by analyse", "[pipeline][cube][python]") {
   const fs::path dir = mock_dir();
   const std::string cube = (dir / "mock" / "cube.fits").string();
   // Route 1: fulcrum moments, then analyse on the four maps.
@@ -123,7 +123,7 @@ TEST_CASE("analyse --cube gives the numbers of moments followed by analyse", "[p
   CHECK(sha.exit_code == 0);
 }
 
-TEST_CASE("a manifest galaxy with cube = gives the numbers of analyse --cube", "[pipeline][cube]") {
+TEST_CASE("a manifest galaxy with cube = gives the numbers of analyse --cube", "[pipeline][cube][python]") {
   const fs::path dir = mock_dir();
   // The same mask settings through both routes (a non-default mask, so that
   // they are seen to arrive), the same seed and draws.
@@ -187,5 +187,5 @@ TEST_CASE("analyse --cube refusals are one-line errors that write nothing", "[pi
     std::ofstream(dir / "no_spectral.fits", std::ios::binary) << bytes;
   }
   refused("--cube " + (dir / "no_spectral.fits").string(), "no-spectral", "no spectral axis");
-  refused("--cube " + cube + " --smooth-channels 4", "even", "--smooth-channels must be an odd number");
+  refused("--cube " + cube + " --smooth-channels 4", "even", "--smooth-channels = 4 is not allowed: must be an odd number");
 }

@@ -163,7 +163,8 @@ TEST_CASE("cube and maps together, and bad moment settings, are errors naming th
   CHECK(error_of(head + "cube = \"c.fits\"\n[galaxy.moments]\nthreshold = \"high\"\n") ==
         "/data/run/sample.toml: line 9: 'threshold' must be a number");
   CHECK(error_of(head + "cube = \"c.fits\"\n[galaxy.moments]\nsmooth_channels = 4\n") ==
-        "/data/run/sample.toml: line 8: moments: 'smooth_channels' must be an odd number of channels >= 1");
+        "/data/run/sample.toml: line 8: moments: 'smooth_channels' = 4 is not allowed: must be an odd number of "
+        "channels >= 1");
   CHECK(error_of(head + "cube = \"c.fits\"\nmoments = { mask = \"external\" }\n") ==
         "/data/run/sample.toml: line 8: moments: 'mask' external needs 'mask_cube'");
   CHECK(error_of(head + "cube = \"c.fits\"\nmoments = \"dame\"\n").find("line 8: 'moments' must be a table") !=

@@ -62,7 +62,7 @@ void require_same_tree(const fs::path& a, const fs::path& b) {
 }  // namespace
 
 TEST_CASE("same inputs and seed give byte-identical outputs; a broken galaxy does not stop the run",
-          "[pipeline][slow]") {
+          "[pipeline][slow][python]") {
   auto dir = test::temp_dir("run");
   std::string manifest = make_sample(dir);
   auto r1 = test::run_shell(fulcrum_cmd("run " + manifest + " --threads 1 --out " + (dir / "one").string()));
@@ -135,7 +135,7 @@ TEST_CASE("a sharded run under GNU parallel plus merge equals the unsharded run"
 }
 
 TEST_CASE("report.html opens in headless Chromium with every figure visible and no console errors",
-          "[pipeline][slow]") {
+          "[pipeline][slow][python]") {
   if (test::run_shell("command -v chromium").exit_code != 0) {
     WARN("chromium is not installed (Debian package 'chromium'): HTML rendering test skipped");
     return;
@@ -182,7 +182,7 @@ TEST_CASE("analyse writes one galaxy's folder; bad options are one-line errors",
   CHECK(!fs::exists(dir / "x" / "report.json"));
 }
 
-TEST_CASE("fulcrum demo runs the invented sample and its report renders in Chromium", "[pipeline][slow][demo]") {
+TEST_CASE("fulcrum demo runs the invented sample and its report renders in Chromium", "[pipeline][slow][demo][python]") {
   auto dir = test::temp_dir("demo");
   auto r = test::run_shell(fulcrum_cmd("demo --draws 2000 --out " + (dir / "demo").string()));
   INFO(r.out << r.err);

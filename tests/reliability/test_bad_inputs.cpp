@@ -1,4 +1,4 @@
-// The bad-input catalogue: every case of tests/bad_inputs/catalogue.json run
+// The bad-input catalogue: every case of fixtures/bad_inputs/catalogue.json run
 // through the fulcrum executable.
 //
 // The inputs are regenerated into a temporary folder by
@@ -76,7 +76,7 @@ const fs::path& bad_inputs_dir() {
 }
 
 json catalogue() {
-  std::ifstream in(fulcrum::test::source_dir() + "/tests/bad_inputs/catalogue.json");
+  std::ifstream in(fulcrum::test::source_dir() + "/fixtures/bad_inputs/catalogue.json");
   REQUIRE(in.good());
   return json::parse(in);
 }
@@ -112,7 +112,7 @@ const json* lookup(const json& j, const std::string& dotted) {
 }  // namespace
 
 TEST_CASE("bad-input catalogue: one-line errors, exit status, nothing left behind",
-          "[reliability][bad-inputs]") {
+          "[reliability][bad-inputs][python]") {
   const json cat = catalogue();
   const fs::path in = bad_inputs_dir();
   REQUIRE(cat["cases"].size() >= 40);

@@ -11,7 +11,7 @@
 using namespace fulcrum;
 using namespace fulcrum::report;
 
-TEST_CASE("L'CO agrees with its definition evaluated by astropy", "[report]") {
+TEST_CASE("L'CO agrees with its definition evaluated by astropy", "[report][python]") {
   for (const char* line : {"1-0", "2-1"})
     for (double z : {0.0, 0.023, 0.5}) {
       double lp = co_line_luminosity(2.5, line, 95.0, z);

@@ -15,7 +15,7 @@
 using namespace fulcrum;
 using namespace fulcrum::report;
 
-TEST_CASE("Poisson-binomial with equal P equals scipy binomtest", "[report]") {
+TEST_CASE("Poisson-binomial with equal P equals scipy binomtest", "[report][python]") {
   auto dir = test::temp_dir("pbin");
   nlohmann::json cases = nlohmann::json::array();
   for (std::size_t n : {1u, 5u, 12u, 30u, 80u})

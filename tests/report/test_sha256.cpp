@@ -20,7 +20,7 @@ TEST_CASE("SHA-256 of the FIPS 180-4 example messages", "[report]") {
   CHECK(sha256_hex("") == "e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855");
 }
 
-TEST_CASE("SHA-256 of files agrees with Python hashlib", "[report]") {
+TEST_CASE("SHA-256 of files agrees with Python hashlib", "[report][python]") {
   auto dir = test::temp_dir("sha");
   std::mt19937 gen(3);
   std::string list;

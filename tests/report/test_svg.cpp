@@ -46,7 +46,7 @@ TEST_CASE("nice ticks are round and cover the range", "[report]") {
   CHECK(tick_label(-2.0, 1.0) == "\u22122");
 }
 
-TEST_CASE("PNG encoder output decodes in Pillow and SVG parses as XML", "[report]") {
+TEST_CASE("PNG encoder output decodes in Pillow and SVG parses as XML", "[report][python]") {
   auto dir = test::temp_dir("png");
   int nx = 37, ny = 300;  // > 65535 raw bytes: several stored blocks
   std::vector<unsigned char> rgb(nx * ny * 3);

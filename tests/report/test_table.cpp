@@ -40,7 +40,7 @@ TEST_CASE("format_double round-trips every double", "[report]") {
   REQUIRE(format_double(std::nan("")) == "nan");
 }
 
-TEST_CASE("ECSV, CSV and FITS tables load in astropy with units and exact values", "[report]") {
+TEST_CASE("ECSV, CSV and FITS tables load in astropy with units and exact values", "[report][python]") {
   auto dir = test::temp_dir("table");
   Table t = sample_table();
   write_ecsv((dir / "t.ecsv").string(), t);

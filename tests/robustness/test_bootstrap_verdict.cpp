@@ -9,7 +9,7 @@
 #include "../split/split_mock.hpp"
 #include "fulcrum/robustness/analysis.hpp"
 #include "fulcrum/robustness/bootstrap.hpp"
-#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/core/random.hpp"
 #include "fulcrum/robustness/verdict.hpp"
 
 using namespace fulcrum;
@@ -42,7 +42,7 @@ Trial one_mock(int i, double eps) {
       split::ProjectionEngine(truth_pr.pixels, m.tail_pa_deg * degrees).halves(SkyOffset{}).asymmetry();
   const auto pr = split::prepare_split(maps.map, so);
   // Measured centre and tail PA: the truth plus errors drawn from their stated uncertainties.
-  Generator g(5000 + i);
+  fulcrum::Random g(5000 + i);
   Eigen::Matrix2d C;
   C << 0.09, 0.02, 0.02, 0.06;  // arcsec^2
   const double z1 = g.normal(), z2 = g.normal();

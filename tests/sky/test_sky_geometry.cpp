@@ -1,6 +1,6 @@
 // Sky geometry: offsets, position angles, ellipses, disc coordinates and
 // half-planes on rotated and flipped grids. References: the spherical
-// position-angle formula (verified against astropy in test_wcs_reference),
+// position-angle formula (verified against astropy in test_wcs),
 // and the thin-disc projection of the tilted-ring model (Begeman 1989).
 #include <catch2/catch.hpp>
 

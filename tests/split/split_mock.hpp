@@ -14,7 +14,7 @@
 
 #include "fulcrum/imaging/gaussian_smooth.hpp"
 #include "fulcrum/io/image.hpp"
-#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/core/random.hpp"
 #include "fulcrum/sky/ellipse.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
 
@@ -98,7 +98,7 @@ inline TinyMockMaps make_tiny_mock(const TinyMock& m) {
     delta[static_cast<std::size_t>(m.nx / 2) + static_cast<std::size_t>(m.nx) * (m.ny / 2)] = 1.0;
     double k2 = 0.0;
     for (double v : convolve_gaussian(delta, m.nx, m.ny, C)) k2 += v * v;
-    robustness::Generator g(m.seed);
+    fulcrum::Random g(m.seed);
     std::vector<double> w(img.size());
     for (double& v : w) v = g.normal();
     const auto sm = convolve_gaussian(w, m.nx, m.ny, C);

@@ -8,7 +8,7 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/io/fits_image.hpp"
-#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/core/random.hpp"
 #include "fulcrum/split/half_split.hpp"
 #include "split_mock.hpp"
 #include "../support/test_support.hpp"
@@ -36,7 +36,7 @@ TEST_CASE("halves agree with shapely polygon intersection to 1e-9", "[split][pyt
       spec["aperture"] = aperture ? nlohmann::json{{"east", 0.0}, {"north", 0.0}, {"pa_deg", 120.0},
                                                   {"a", 4.5}, {"q", 0.7}}
                                   : nlohmann::json();
-      robustness::Generator g(rot + 5);
+      fulcrum::Random g(rot + 5);
       for (int k = 0; k < 6; ++k) {
         const SkyOffset c{4.0 * (g.uniform() - 0.5), 4.0 * (g.uniform() - 0.5)};
         const double a = k == 0 ? rot : 360.0 * g.uniform();

@@ -6,7 +6,7 @@
 
 #include <cmath>
 
-#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/core/random.hpp"
 #include "fulcrum/split/half_split.hpp"
 #include "fulcrum/split/pixel_fraction.hpp"
 #include "fulcrum/split/projection_engine.hpp"
@@ -55,7 +55,7 @@ TEST_CASE("engine equals the direct sum for random centres and angles", "[split]
         so.rms = 0.05;
         if (aperture) so.aperture = ApertureSpec{8.0, 60.0, 0.64, std::nullopt};
         const SplitProblem pr = prepare_split(maps.map, so);
-        robustness::Generator g(11);
+        fulcrum::Random g(11);
         // Include angles where a pixel edge is parallel to the line (B = 0).
         std::vector<double> angles{rot, rot + 90.0, rot + 45.0};
         for (int k = 0; k < 5; ++k) angles.push_back(360.0 * g.uniform());
@@ -88,7 +88,7 @@ TEST_CASE("engine is exact for any bin width", "[split][engine]") {
   SplitOptions so;
   so.centre = m.centre;
   const SplitProblem pr = prepare_split(maps.model, so);
-  robustness::Generator g(3);
+  fulcrum::Random g(3);
   for (double width : {0.001, 0.05, 0.4, 3.0, 50.0}) {
     const double a = 360.0 * g.uniform();
     const ProjectionEngine e(pr.pixels, a * degrees, {width, false});

@@ -22,8 +22,7 @@
 #include "fulcrum/sky/offset_frame.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
 #include "fulcrum/synth/mock_galaxy.hpp"
-#include "fulcrum/synth/random.hpp"
-#include "fulcrum/synth/sersic.hpp"
+#include "fulcrum/core/random.hpp"
 
 using namespace fulcrum;
 using namespace fulcrum::synth;
@@ -268,7 +267,7 @@ TEST_CASE("same seed gives the same bytes; another seed other noise", "[synth][d
   CHECK(slurp(d1 / "mom0.fits") != slurp(d3 / "mom0.fits"));
   CHECK(slurp(d1 / "mom0_model.fits") == slurp(d3 / "mom0_model.fits"));
   // The random numbers themselves: uniform in [0, 1), normals with unit variance.
-  Rng rng(5);
+  fulcrum::Random rng(fulcrum::splitmix64(5));
   double s = 0.0, s2 = 0.0;
   for (int i = 0; i < 20000; ++i) {
     double x = rng.normal();
@@ -315,26 +314,6 @@ TEST_CASE("the written files read back with their WCS, beam and unit", "[synth][
   CHECK(OffsetFrame({g.ra_deg, g.dec_deg}).to_offset(phot).east == Approx(1.2).epsilon(1e-6));
   nlohmann::json truth = nlohmann::json::parse(slurp(dir / "truth.json"));
   CHECK(truth["parameters"]["name"] == "test-disc");
-}
-
-TEST_CASE("Sersic b_n against the incomplete gamma function", "[synth][sersic]") {
-  // P(2n, b_n) = 1/2 defines b_n; the series of Ciotti & Bertin (1999) must
-  // satisfy it, and the bisection branch too.
-  for (double n : {0.25, 0.3, 0.5, 1.0, 2.0, 4.0, 8.0}) {
-    double b = sersic_bn(n);
-    INFO("n = " << n << " b_n = " << b);
-    CHECK(std::abs(lower_gamma_regularised(2.0 * n, b) - 0.5) < 1e-6);
-  }
-  // Worked value: b_1 = 1.67834699... (Graham & Driver 2005, exponential disc).
-  CHECK(sersic_bn(1.0) == Approx(1.678347).epsilon(1e-6));
-  // Outside reference: scipy.special.gammaincinv (python3-scipy).
-  std::ostringstream args;
-  args.precision(17);
-  for (double n : {0.25, 0.5, 1.0, 2.5, 4.0, 10.0}) args << n << " " << sersic_bn(n) << " ";
-  auto r = test::run_python("check_sersic_bn_pairs.py", args.str());
-  INFO(r.out << r.err);
-  CHECK(r.exit_code == 0);
-  CHECK_THROWS_AS(sersic_bn(0.1), InputError);
 }
 
 TEST_CASE("mock parameters from TOML, with errors that name the line", "[synth][toml]") {

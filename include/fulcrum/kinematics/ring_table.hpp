@@ -1,6 +1,8 @@
-// The per-ring table of a kinematic fit, as ECSV (astropy's Enhanced
-// Character-Separated Values, version 1.0, with units and descriptions) and
-// as CSV whose header row carries the unit of each column ("name [unit]").
+// The per-ring table of a kinematic fit: its columns, and the CSV whose
+// header row carries the unit of each column ("name [unit]"). The ECSV
+// (astropy's Enhanced Character-Separated Values 1.0, with units and
+// descriptions) is written by the project's one table writer:
+// report::write_ecsv(path, report::ring_table(fit)) (report/ring_table.hpp).
 //
 // One row per ring node of the global fit: radius, the global rotation (and
 // radial) speed, the ring-by-ring geometry (centre offsets east/north in
@@ -25,7 +27,6 @@ struct RingColumn {
 
 std::vector<RingColumn> ring_table_columns(const KinematicFit& fit);
 
-void write_ring_table_ecsv(const std::string& path, const KinematicFit& fit);
 void write_ring_table_csv(const std::string& path, const KinematicFit& fit);
 
 }  // namespace fulcrum::kinematics

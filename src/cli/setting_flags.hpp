@@ -1,0 +1,31 @@
+// The command-line flag that carries each library setting, for messages:
+// the library's checks (core/settings_check.hpp) name settings the way a
+// manifest spells them (`tail_pa_deg`); on the command line the person typed
+// a flag (`--tail-pa`), so main() prints that instead.
+#pragma once
+
+#include <map>
+#include <string>
+
+namespace fulcrum::cli {
+
+// "--" + the setting with '_' as '-', except where the flag is spelt
+// differently from the manifest key.
+inline std::string setting_flag(const std::string& setting) {
+  static const std::map<std::string, std::string> renamed = {
+      {"tail_pa_deg", "--tail-pa"},
+      {"tail_pa_err_deg", "--tail-pa-err"},
+      {"psf_fwhm_arcsec", "--psf-fwhm"},
+      {"step_arcsec", "--step"},
+      {"half_width_arcsec", "--half-width"},
+      {"angle_half_width_deg", "--angle-half-width"},
+      {"angle_step_deg", "--angle-step"},
+  };
+  if (auto it = renamed.find(setting); it != renamed.end()) return it->second;
+  std::string flag = "--" + setting;
+  for (char& ch : flag)
+    if (ch == '_') ch = '-';
+  return flag;
+}
+
+}  // namespace fulcrum::cli
