@@ -23,7 +23,7 @@ double Random::normal() {
     has_spare_ = false;
     return spare_;
   }
-  const double u1 = uniform();
+  const double u1 = 1.0 - uniform();  // in (0, 1): log(u1) finite
   const double u2 = uniform();
   const double r = std::sqrt(-2.0 * std::log(u1));
   const double t = 2.0 * std::numbers::pi * u2;

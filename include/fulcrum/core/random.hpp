@@ -14,7 +14,7 @@
 //    OPEN interval (0, 1) (an exact 0 is drawn again; it has probability
 //    2^-53). uniform(lo, hi) = lo + (hi - lo) * uniform().
 //  * normal(): the Box-Muller transform (Box & Muller 1958, Ann. Math. Stat.
-//    29, 610) on two uniforms u1, u2: r = sqrt(-2 ln u1), t = 2 pi u2,
+//    29, 610) on u1 = 1 - uniform() and u2 = uniform(): r = sqrt(-2 ln u1), t = 2 pi u2,
 //    returns r cos t, then r sin t on the next call.
 //  * below(n): a whole number in [0, n) by rejection (no modulo bias).
 //
