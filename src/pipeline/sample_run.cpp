@@ -295,8 +295,7 @@ json sample_statistics(const std::vector<GalaxySummary>& galaxies) {
     o.determined = v != "undetermined" && std::isfinite(a) && std::isfinite(p);
     o.asymmetry = std::isfinite(a) ? a : 0.0;
     o.p_leading = std::isfinite(p) ? p : 0.5;
-    const double nd = get_num(r, "robustness.draws");
-    o.n_draws = std::isfinite(nd) && nd > 0 ? static_cast<std::size_t>(nd) : 0;
+    o.n_draws = r.robustness ? static_cast<std::size_t>(r.robustness->bootstrap.n_draws) : 0;
     o.robust = v == "robust";
     o.reversed = v == "reversed";
     g.push_back(o);

@@ -116,7 +116,7 @@ SplitProblem prepare_split(const Image& map, const SplitOptions& opt) {
     pr.noise_source = "rms " + significant_text(opt.rms, 6) + " " + map.unit;
   else
     pr.noise_source = "none";
-  if (pr.clip_snr > 0.0) pr.noise_source += ", clip-aware (map clipped at " + fmt(pr.clip_snr) + " sigma)";
+  if (pr.clip_snr > 0.0) pr.noise_source += ", clip-aware (map clipped at " + significant_text(pr.clip_snr, 4) + " sigma)";
   return pr;
 }
 

@@ -10,7 +10,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/atomic_file.hpp"
-#include "fulcrum/synth/random.hpp"
+#include "fulcrum/core/random.hpp"
 
 namespace fulcrum::synth {
 
@@ -74,7 +74,7 @@ DeliveredMaps make_delivered(const Image& vel, const Image& vel_err, const Image
       for (Image* im : {&d.intensity, &d.intensity_error})
         if (!std::isfinite(im->data[i])) im->data[i] = b;
     }
-  Rng rng = Rng::derive(seed, 0xde11e7edULL);
+  Random rng = Random::stream(seed, 0xde11e7edULL);
   int failed_inside = 0, failed_outside = 0, scattered = 0;
   for (std::size_t i = 0; i < vel.size(); ++i)
     if (galaxy[i] && rng.uniform() < s.failed_fit_fraction) {

@@ -90,7 +90,7 @@ TEST_CASE("fulcrum photometry refuses bad input with one line", "[cli][photometr
   r = test::run_fulcrum("photometry --image " + (dir / "opt.fits").string() + " --psf-fwhm=-1 --json " +
                         (dir / "o.json").string());
   CHECK(r.exit_code == 2);
-  CHECK(r.err.find("--psf-fwhm must be a positive") != std::string::npos);
+  CHECK(r.err.find("--psf-fwhm = -1 is not allowed") != std::string::npos);  // the one validation layer
   CHECK(!std::filesystem::exists(dir / "o.json"));
   // No PSF size anywhere and no star to measure it: a refused measurement
   // that says so (not an error), with a warning line.

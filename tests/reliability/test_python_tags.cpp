@@ -29,7 +29,7 @@ std::vector<std::pair<std::string, std::string>> test_cases(const std::string& t
 }
 }  // namespace
 
-TEST_CASE("tests that call Python are tagged [python]", "[reliability]") {
+TEST_CASE("tests that call Python carry the python tag", "[reliability]") {
   const fs::path tests = fs::path(fulcrum::test::source_dir()) / "tests";
   int python_cases = 0;
   for (const auto& entry : fs::recursive_directory_iterator(tests)) {

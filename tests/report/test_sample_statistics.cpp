@@ -70,7 +70,7 @@ TEST_CASE("sample summary counts verdicts and computes the tests", "[report]") {
   CHECK(!s.to_json()["all_determined"].contains("p_null_marginal"));
 }
 
-TEST_CASE("normal quantile and CDF equal scipy.stats.norm", "[report]") {
+TEST_CASE("normal quantile and CDF equal scipy.stats.norm", "[report][python]") {
   auto dir = test::temp_dir("normq");
   nlohmann::json cases = nlohmann::json::array();
   for (double p : {1e-300, 1e-20, 1e-9, 2.5e-4, 0.02, 0.02425, 0.1, 0.3, 0.5, 0.6, 0.9, 0.975, 0.9999, 1.0 - 1e-12})

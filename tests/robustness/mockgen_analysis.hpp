@@ -50,16 +50,16 @@ inline nlohmann::json analyse_mockgen(const std::string& dir, const MockgenRun& 
   }
   robustness::AnalysisOptions ao;
   ao.galaxy = dir;
-  ao.adopted.name = run.true_centre ? "true" : "kinematic";
-  ao.adopted.position = centre.world;
-  ao.adopted.covariance = centre.covariance;
+  ao.adopted = measured_centre(run.true_centre ? CentreMethod::external : CentreMethod::kinematic_rings,
+                               centre.world, centre.covariance, run.true_centre ? "truth" : "velocity map");
+  if (run.true_centre) ao.adopted.label = "true";
   ao.tail_pa_deg = truth["tail_pa_deg"].get<double>();
   ao.tail_pa_err_deg = run.tail_err_deg;
   ao.error_map = &line_err;
   ao.clip_snr = run.clip_snr;
   ao.noise_correlation_beams = run.noise_correlation_beams;
-  ao.n_draws = run.draws;
-  ao.seed = 1;
+  ao.settings.n_draws = run.draws;
+  ao.settings.seed = 1;
   const auto a = robustness::analyse(line, ao);
   const SkyOffset d = OffsetFrame(truth_centre).to_offset(centre.world);
   const Eigen::Matrix2d& C = centre.covariance;

@@ -15,7 +15,7 @@
 using namespace fulcrum;
 using namespace fulcrum::split;
 
-TEST_CASE("clipped-pixel variance equals scipy truncnorm moments", "[split][clip]") {
+TEST_CASE("clipped-pixel variance equals scipy truncnorm moments", "[split][clip][python]") {
   auto dir = test::temp_dir("clipvar");
   nlohmann::json cases = nlohmann::json::array();
   for (double sigma : {0.5, 1.0, 3.0})
