@@ -18,9 +18,10 @@ build_dir="${FULCRUM_BUILD_DIR:-build}"
 build_packages=(build-essential cmake pkg-config libeigen3-dev libceres-dev libcfitsio-dev
                 wcslib-dev libcli11-dev catch2 nlohmann-json3-dev libtomlplusplus-dev)
 # Outside references for the tests (astropy, scipy, shapely, numpy), GNU
-# parallel for the shard/merge test and Chromium for the HTML report test.
+# parallel for the shard/merge test, Chromium for the HTML report test and
+# pdflatex for the journal-table test.
 test_packages=(python3 python3-astropy python3-numpy python3-scipy python3-shapely python3-pil parallel
-               chromium)
+               chromium texlive-latex-base)
 
 install_missing() {
   local missing=()

@@ -51,6 +51,7 @@ inline std::vector<CLI::Option*> add_moment_options(CLI::App* cmd, MomentSetting
 struct GalaxyArgs {
   pipeline::GalaxyInput in;
   double rms = 0.0, tail_pa = 0.0, tail_pa_err = 10.0, psf = 0.0;
+  std::vector<std::string> centre_from;
   std::vector<CLI::Option*> moment_options;
 
   void add(CLI::App* cmd) {
@@ -72,6 +73,9 @@ struct GalaxyArgs {
     cmd->add_option("--tail-pa-err", tail_pa_err, "Error of the tail direction, deg (default 10)");
     cmd->add_option("--tail-image", in.tail_image, "Image of the tail to measure its direction from")
         ->check(CLI::ExistingFile)->excludes(tp);
+    cmd->add_option("--centre-from", centre_from,
+                    "A centre given from outside (catalogue, literature) as NAME=RA,DEC,ERR: RA and Dec in deg, "
+                    "1-sigma error in arcsec; a plausible centre with its own A (repeatable)");
     cmd->add_option("--name", in.name, "Galaxy name for the report (default: the folder of the cube or intensity map)");
     moment_options = add_moment_options(cmd, in.moments, "Moment maps (with --cube; see `fulcrum moments`)");
     add_kinematic_options(cmd, in.kinematic, "Kinematic fit (see `fulcrum kinematics`)");
@@ -98,6 +102,7 @@ struct GalaxyArgs {
     if (cmd->count("--psf-fwhm")) in.psf_fwhm_arcsec = pipeline::setting::psf_fwhm_arcsec(psf);
     if (cmd->count("--tail-pa")) in.tail_pa_deg = pipeline::setting::tail_pa_deg(tail_pa);
     if (cmd->count("--tail-pa-err")) in.tail_pa_err_deg = pipeline::setting::tail_pa_err_deg(tail_pa_err);
+    if (!centre_from.empty()) in.external_centres = pipeline::setting::centres_from(centre_from);
     if (need_tail && !in.tail_pa_deg && in.tail_image.empty())
       throw InputError("", "give --tail-pa DEG or --tail-image IMG.fits");
     if (!in.cube.empty()) {

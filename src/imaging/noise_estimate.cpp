@@ -1,6 +1,5 @@
 // Per-pixel noise of a line map from its emission-free pixels (see
 // noise_estimate.hpp).
-#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/imaging/noise_estimate.hpp"
 
 #include <algorithm>
@@ -11,6 +10,7 @@
 #include <tuple>
 #include <vector>
 
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
 
 namespace fulcrum {

@@ -1,7 +1,6 @@
 // FITS images and cubes through CFITSIO, read as delivered: plain, gzip-
 // compressed (.fits.gz) and tile-compressed (fpack) files alike, with the
 // missing-value conventions found in real data products (missing_values.hpp).
-#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/io/fits_image.hpp"
 
 #include <fitsio.h>
@@ -16,6 +15,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/io/missing_values.hpp"
 

@@ -1,6 +1,5 @@
 // Output folders: refuse to overwrite without --force, clean up after a
 // failed run (see include/fulcrum/io/output_folder.hpp).
-#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/io/output_folder.hpp"
 
 #include <fstream>
@@ -9,6 +8,7 @@
 #include <unistd.h>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/settings_check.hpp"
 
 namespace fulcrum {
 

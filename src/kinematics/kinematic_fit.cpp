@@ -3,8 +3,6 @@
 // centre, refusals, JSON and model maps.
 // Units: arcsec (east, north offsets), degrees, km/s; FITS pixels 1-based in
 // the JSON, 0-based inside.
-#include "fulcrum/core/number_text.hpp"
-#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/kinematics/kinematic_fit.hpp"
 
 #include <Eigen/Dense>
@@ -16,6 +14,8 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/core/number_text.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/kinematics/fit_health.hpp"
 #include "fulcrum/kinematics/tilted_ring_model.hpp"
 #include "fulcrum/sky/angle.hpp"

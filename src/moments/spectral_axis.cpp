@@ -1,6 +1,5 @@
 // Spectral axis of a cube through wcslib (see spectral_axis.hpp for the
 // conventions and their source). Velocities km/s, frequencies Hz.
-#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/moments/spectral_axis.hpp"
 
 #include <wcslib/wcs.h>
@@ -16,6 +15,7 @@
 #include <vector>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/io/header_card.hpp"
 

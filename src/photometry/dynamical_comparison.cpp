@@ -1,6 +1,5 @@
 // Offsets of the photometric centres from the dynamical centre and their
 // significance (see dynamical_comparison.hpp).
-#include "fulcrum/sky/physical_scale.hpp"
 #include "fulcrum/photometry/dynamical_comparison.hpp"
 
 #include <Eigen/Dense>
@@ -8,6 +7,7 @@
 #include <numbers>
 
 #include "fulcrum/sky/offset_frame.hpp"
+#include "fulcrum/sky/physical_scale.hpp"
 
 namespace fulcrum::photometry {
 

@@ -1,11 +1,11 @@
 // Running every photometric centre estimator and putting the results on the
 // sky (see photometric_centres.hpp).
-#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/photometry/photometric_centres.hpp"
 
 #include <cmath>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/sky/offset_frame.hpp"
 
 namespace fulcrum::photometry {

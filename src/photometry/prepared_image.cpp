@@ -1,5 +1,4 @@
 // The image made ready for the centre estimators (see prepared_image.hpp).
-#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/photometry/prepared_image.hpp"
 
 #include <Eigen/Eigenvalues>
@@ -10,6 +9,7 @@
 #include <numbers>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/photometry/point_source_fit.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"

@@ -1,7 +1,5 @@
 // Choosing the PSF size of an optical image: given, header beam, seeing
 // card, or measured from its stars (see psf_size.hpp).
-#include "fulcrum/core/number_text.hpp"
-#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/photometry/psf_size.hpp"
 
 #include <algorithm>
@@ -9,6 +7,8 @@
 #include <cmath>
 #include <cstdio>
 
+#include "fulcrum/core/number_text.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
 
 namespace fulcrum::photometry {

@@ -1,15 +1,18 @@
 // One galaxy, the whole chain, as a sequence of typed stages (see
 // include/fulcrum/pipeline/galaxy_analysis.hpp). Each step below runs one
 // stage of galaxy_stages.hpp, records its status and fills the summary.
-#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
 
+#include <cmath>
 #include <filesystem>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/imaging/noise_estimate.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/pipeline/adopted_centre.hpp"
+#include "fulcrum/pipeline/centre_asymmetries.hpp"
+#include "fulcrum/pipeline/centre_curves.hpp"
 #include "fulcrum/pipeline/galaxy_stages.hpp"
 #include "fulcrum/pipeline/report_json.hpp"
 
@@ -73,6 +76,44 @@ void photometry_step(const GalaxyMaps& maps, GalaxySummary& s) {
     record(s, "photometry", ok ? StageStatus::done : StageStatus::failed, why);
   } catch (const InputError& e) {
     record(s, "photometry", StageStatus::failed, e.what());
+  }
+}
+
+// Centres given from outside (`centre_from`): plausible centres with their
+// own A. One that falls outside the line map is kept as a failed estimate
+// with the reason (it cannot be split about).
+void external_centres_step(const GalaxyMaps& maps, GalaxySummary& s) {
+  if (s.input.external_centres.empty()) return;
+  std::vector<std::string> outside;
+  for (const ExternalCentre& e : s.input.external_centres) {
+    const Eigen::Matrix2d cov = Eigen::Matrix2d::Identity() * e.err_arcsec * e.err_arcsec;
+    Centre c = measured_centre(CentreMethod::external, {e.ra_deg, e.dec_deg}, cov, "given (centre_from)");
+    c.label = e.name;
+    if (maps.intensity) {
+      PixelCoord p{NAN, NAN};
+      try {
+        p = maps.intensity->wcs.world_to_pixel(c.position);
+      } catch (const InputError&) {
+        // not on the map's projection at all: outside
+      }
+      const bool inside = std::isfinite(p.x) && std::isfinite(p.y) && p.x >= -0.5 && p.y >= -0.5 &&
+                          p.x <= maps.intensity->nx - 0.5 && p.y <= maps.intensity->ny - 0.5;
+      if (!inside) {
+        c = failed_centre(CentreMethod::external, "lies outside the line map " + s.input.intensity, c.provenance);
+        c.label = e.name;
+        outside.push_back(e.name);
+      } else {
+        c.pixel_fits = PixelCoord{fits_pixel(p.x), fits_pixel(p.y)};
+      }
+    }
+    s.centres.push_back(c);
+  }
+  if (outside.empty()) {
+    record(s, "external centres", StageStatus::done);
+  } else {
+    std::string names;
+    for (const auto& n : outside) names += (names.empty() ? "" : ", ") + n;
+    record(s, "external centres", StageStatus::failed, "outside the line map: " + names);
   }
 }
 
@@ -152,6 +193,13 @@ void calibration_step(const GalaxyMaps& maps, const AnalysisOptions& opt, Galaxy
   }
 }
 
+// A at each kind of centre, after the verdict (and its calibration) is
+// final: one more sentence of the statement (pipeline/centre_asymmetries.hpp).
+void centre_sentence_step(GalaxySummary& s) {
+  const std::string t = centre_sentence(s);
+  if (!t.empty()) s.statement += " " + t;
+}
+
 void stage_notes(GalaxySummary& s) {
   for (const auto& st : s.stages)
     if (st.status == StageStatus::failed) s.notes.push_back(st.stage + " failed: " + st.reason);
@@ -188,14 +236,21 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
   if (s.undetermined_reason.empty()) {
     kinematics_step(maps, kinematic_options_for(in), s);
     photometry_step(maps, s);
+    external_centres_step(maps, s);
   }
   adopted_centre_step(maps, s);
   robustness_step(maps, opt, s);
   verdict_statement_step(s);
   calibration_step(maps, opt, s);
+  centre_sentence_step(s);
   stage_notes(s);
   r.figures = galaxy_figures(maps, s, opt, s.notes);
   for (const auto& f : r.figures) s.figures.push_back({f.id, "figures/" + f.id + ".svg", f.caption});
+  if (opt.figures) {
+    CentreCurves curves = centre_curves(s);
+    for (report::Table* t : {&curves.versus_angle, &curves.versus_offset})
+      if (t->rows() > 0) r.curves.push_back(std::move(*t));
+  }
   r.notes = s.notes;
   r.report = to_json(s);
   return r;
@@ -204,6 +259,7 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
 void write_galaxy_outputs(const GalaxyResult& result, const std::string& dir) {
   fs::create_directories(fs::path(dir) / "figures");
   for (const auto& f : result.figures) write_text_file((fs::path(dir) / "figures" / (f.id + ".svg")).string(), f.svg);
+  for (const auto& t : result.curves) report::write_ecsv((fs::path(dir) / "figures" / (t.name + ".ecsv")).string(), t);
   write_text_file((fs::path(dir) / "report.json").string(), dump_json(result.report));
 }
 

@@ -1,9 +1,12 @@
 // The allowed values of galaxy and sample settings (pipeline/input_settings.hpp).
 #include "fulcrum/pipeline/input_settings.hpp"
 
+#include <cctype>
 #include <cmath>
+#include <cstdlib>
 
 #include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/sky/centre.hpp"
 
 namespace fulcrum::pipeline::setting {
 
@@ -38,5 +41,52 @@ double co_ratio_21(double v) {
 }
 
 double redshift(double v) { return check_finite_in_range("redshift", v, 0.0, 10.0); }
+
+ExternalCentre centre_from(const std::string& text) {
+  const std::string shown = "'" + text + "'";
+  auto refuse = [&](const std::string& rule) { throw SettingError("centre_from", shown, rule); };
+  const std::string form = "NAME=RA,DEC,ERR (RA and Dec in deg, the 1-sigma error in arcsec), e.g. "
+                           "catalogue=187.7059,12.3911,0.5";
+  const auto eq = text.find('=');
+  if (eq == std::string::npos || eq == 0) refuse(form);
+  ExternalCentre c;
+  c.name = text.substr(0, eq);
+  for (char ch : c.name)
+    if (!(std::isalnum(static_cast<unsigned char>(ch)) || ch == '.' || ch == '_' || ch == '+' || ch == '-'))
+      refuse("a NAME of letters, digits and . _ + - only; " + form);
+  if (centre_method_from_name(c.name))
+    refuse("a NAME other than those of fulcrum's own estimates (" + c.name + " is one)");
+  std::vector<double> v;
+  std::size_t start = eq + 1;
+  while (start <= text.size()) {
+    const auto comma = text.find(',', start);
+    const std::string part = text.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
+    char* end = nullptr;
+    const double x = std::strtod(part.c_str(), &end);
+    if (part.empty() || end != part.c_str() + part.size()) refuse(form);
+    v.push_back(x);
+    if (comma == std::string::npos) break;
+    start = comma + 1;
+  }
+  if (v.size() != 3) refuse(form);
+  if (!(std::isfinite(v[0]) && v[0] >= 0.0 && v[0] < 360.0)) refuse("an RA within [0, 360) deg; " + form);
+  if (!(std::isfinite(v[1]) && v[1] >= -90.0 && v[1] <= 90.0)) refuse("a Dec within [-90, 90] deg; " + form);
+  if (!(std::isfinite(v[2]) && v[2] > 0.0 && v[2] <= 3600.0)) refuse("an error within (0, 3600] arcsec; " + form);
+  c.ra_deg = v[0];
+  c.dec_deg = v[1];
+  c.err_arcsec = v[2];
+  return c;
+}
+
+std::vector<ExternalCentre> centres_from(const std::vector<std::string>& texts) {
+  std::vector<ExternalCentre> out;
+  for (const auto& t : texts) {
+    out.push_back(centre_from(t));
+    for (std::size_t i = 0; i + 1 < out.size(); ++i)
+      if (out[i].name == out.back().name)
+        throw SettingError("centre_from", "'" + t + "'", "a NAME not given twice (" + out.back().name + " is)");
+  }
+  return out;
+}
 
 }  // namespace fulcrum::pipeline::setting

@@ -167,7 +167,7 @@ GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasIn
     std::set<std::string> k = {"name", "velocity", "velocity_error", "intensity", "intensity_error", "rms",
                                "optical", "optical_mask", "psf_fwhm_arcsec", "tail_pa_deg",
                                "tail_pa_err_deg", "tail_image", "distance_mpc", "seed", "cube", "moments",
-                               "kinematics"};
+                               "kinematics", "centre_from"};
     k.insert(kMolecularKeys.begin(), kMolecularKeys.end());
     return k;
   }();
@@ -207,6 +207,18 @@ GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasIn
     } else if (key == "distance_mpc") {
       const double v = get_any_number(c, node, key);
       g.distance_mpc = checked(c, node, [&] { return setting::distance_mpc(v); });
+    } else if (key == "centre_from") {
+      // One "NAME=RA,DEC,ERR" string or an array of them.
+      std::vector<std::string> texts;
+      if (const auto* arr = node.as_array()) {
+        for (const auto& item : *arr) {
+          if (!item.is_string()) fail(c, line_of(item), "'centre_from' entries must be strings \"NAME=RA,DEC,ERR\"");
+          texts.push_back(item.as_string()->get());
+        }
+      } else {
+        texts.push_back(get_string(c, node, key));
+      }
+      g.external_centres = checked(c, node, [&] { return setting::centres_from(texts); });
     } else if (key == "seed") {
       const auto v = get_integer(c, node, key);
       g.seed = checked(c, node, [&] { return setting::seed(v); });

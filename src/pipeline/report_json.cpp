@@ -179,9 +179,17 @@ std::string created_utc() {
 
 json input_provenance(const GalaxyInput& in) {
   json j = json::object();
+  // Maps made from a cube live in the galaxy's own output folder
+  // (OUT/moments/, pipeline/cube_maps.hpp): their paths are written relative
+  // to it, so that the report does not depend on where the folder is (a
+  // sharded run merged elsewhere gives the same bytes).
+  const bool made = !in.cube.empty();
+  auto shown = [&](const std::string& path) {
+    return made && path != in.cube ? (fs::path("moments") / fs::path(path).filename()).string() : path;
+  };
   auto add = [&](const char* key, const std::string& path) {
     if (path.empty()) return;
-    j[key] = {{"path", path}, {"sha256", report::sha256_file(path)}};
+    j[key] = {{"path", shown(path)}, {"sha256", report::sha256_file(path)}};
   };
   add("velocity", in.velocity);
   add("velocity_error", in.velocity_error);
@@ -195,7 +203,7 @@ json input_provenance(const GalaxyInput& in) {
     // The four maps above were made from it (pipeline/cube_maps.hpp).
     j["cube"]["moment_settings"] = to_json(in.moments);
     if (!in.intensity.empty())
-      j["cube"]["moments_summary"] = (fs::path(in.intensity).parent_path() / "moments.json").string();
+      j["cube"]["moments_summary"] = "moments/moments.json";
   }
   return j;
 }

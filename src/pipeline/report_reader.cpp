@@ -113,6 +113,17 @@ void read_split(const Fields& sp, const Fields& rb, GalaxySummary& s) {
   a.split.flux_unit = sp.text("flux_unit");
   a.split.asymmetry = sp.number("asymmetry");
   a.split.asymmetry_err = sp.number("asymmetry_err");
+  if (sp.has("at_centres") && sp.at("at_centres").is_array())
+    for (const json& e : sp.at("at_centres")) {
+      const Fields f(e, sp.where(), "split.at_centres[].");
+      robustness::SplitAtCentre x;
+      x.id = f.text("id");
+      x.split.asymmetry = f.number("asymmetry");
+      x.split.asymmetry_err = f.number("asymmetry_err");
+      x.split.leading_flux = f.number("leading_flux");
+      x.split.trailing_flux = f.number("trailing_flux");
+      a.at_centres.push_back(x);
+    }
   auto& b = a.bootstrap;
   b.p_positive = rb.number("p_leading");
   b.lo68 = rb.number_at("asymmetry_ci68", 0), b.hi68 = rb.number_at("asymmetry_ci68", 1);

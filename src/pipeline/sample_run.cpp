@@ -1,6 +1,4 @@
 // A sample run, merging shards, and the sample products (see the header).
-#include "fulcrum/core/number_text.hpp"
-#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/pipeline/sample_run.hpp"
 
 #include <algorithm>
@@ -17,11 +15,14 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/core/number_text.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/report/html_report.hpp"
 #include "fulcrum/report/sample_statistics.hpp"
+#include "fulcrum/pipeline/centre_asymmetries.hpp"
 #include "fulcrum/report/svg.hpp"
 #include "fulcrum/pipeline/report_json.hpp"
 #include "fulcrum/pipeline/report_reader.hpp"
@@ -126,10 +127,13 @@ std::string adopted_id(const GalaxySummary& s) { return s.adopted_centre() ? s.a
 
 namespace {
 
-// Adds one column per call, one row per galaxy.
+// Adds one column per call, one row per galaxy. With `results` set, a
+// galaxy whose verdict is undetermined gets blanks (NaN), never numbers that
+// look like results.
 struct ColumnWriter {
   report::Table& t;
   const std::vector<GalaxySummary>& galaxies;
+  bool results = false;
   template <class F>
   void strings(const std::string& name, const std::string& desc, F f) {
     std::vector<std::string> v;
@@ -140,7 +144,8 @@ struct ColumnWriter {
   void floats(const std::string& name, const std::string& unit, const std::string& desc, const std::string& path,
               int digits, const Getter& f) {
     std::vector<double> v;
-    for (const auto& g : galaxies) v.push_back(f(g));
+    for (const auto& g : galaxies)
+      v.push_back(results && g.verdict == robustness::Verdict::undetermined ? NAN : f(g));
     t.add_float(name, unit, desc + " [" + path + "]", v, digits);
   }
 };
@@ -176,10 +181,15 @@ void centre_columns(ColumnWriter& w) {
 }
 
 void split_columns(ColumnWriter& w) {
+  // The tail direction is an input (given or measured), shown even when the
+  // verdict is undetermined.
+  const bool results = w.results;
+  w.results = false;
   w.floats("tail_pa_deg", "deg", "Tail direction from the centre, north through east", "report.json: split.tail_pa_deg",
            1, [](const GalaxySummary& g) { return g.robustness ? g.robustness->tail_pa_deg : nan_if_absent(g.input.tail_pa_deg); });
   w.floats("tail_pa_err_deg", "deg", "Error of the tail direction", "report.json: split.tail_pa_err_deg", 1,
            [](const GalaxySummary& g) { return g.robustness ? g.robustness->tail_pa_err_deg : g.input.tail_pa_err_deg; });
+  w.results = results;
   w.floats("leading_flux", "", "Line flux of the leading half (unit in flux_unit)", "report.json: split.leading_flux", 3,
            split_field(&split::SplitSummary::leading_flux));
   w.floats("trailing_flux", "", "Line flux of the trailing half (unit in flux_unit)",
@@ -220,6 +230,46 @@ void robustness_columns(ColumnWriter& w) {
   w.t.add_int("seed", "", "Seed of the galaxy's random generator [report.json: robustness.seed]", seeds);
 }
 
+// A at each kind of centre (pipeline/centre_asymmetries.hpp): kinematic,
+// optical and every external centre named in the sample.
+void centre_kind_columns(ColumnWriter& w) {
+  std::vector<CentreAsymmetries> ca;
+  for (const auto& g : w.galaxies) ca.push_back(centre_asymmetries(g));
+  auto add = [&](const std::string& key, const std::string& what,
+                 const std::function<std::optional<AsymmetryAt>(const CentreAsymmetries&)>& pick) {
+    std::vector<std::string> ids;
+    std::vector<double> a, e;
+    for (const auto& c : ca) {
+      const auto x = pick(c);
+      ids.push_back(x ? x->id : "");
+      a.push_back(x ? x->asymmetry : NAN);
+      e.push_back(x ? x->asymmetry_err : NAN);
+    }
+    if (key != "external") w.t.add_string(key + "_centre", "Which centre estimate is the " + what, ids);
+    const std::string col = key == "external" ? "asymmetry_at_" + what : "asymmetry_" + key;
+    const std::string at = key == "external" ? "the external centre " + what : "the " + what;
+    // Where report.json holds the same number: the at_centres entry of this
+    // centre, named by its id (or, per row, by the id column).
+    const std::string entry = "split.at_centres[id=" + (key == "external" ? what : "@" + key + "_centre") + "]";
+    w.t.add_float(col, "", "A at " + at + ", nominal tail PA [report.json: " + entry + ".asymmetry]", a, 3);
+    w.t.add_float(col + "_err", "", "1-sigma error of A at " + at + " from the map noise [report.json: " + entry +
+                  ".asymmetry_err]", e, 3);
+  };
+  add("kinematic", "kinematic centre", [](const CentreAsymmetries& c) { return c.kinematic; });
+  add("optical", "optical centre", [](const CentreAsymmetries& c) { return c.optical; });
+  std::vector<std::string> names;
+  for (const auto& g : w.galaxies)
+    for (const auto& c : g.centres)
+      if (c.method == CentreMethod::external && std::find(names.begin(), names.end(), c.id()) == names.end())
+        names.push_back(c.id());
+  for (const auto& n : names)
+    add("external", n, [n](const CentreAsymmetries& c) -> std::optional<AsymmetryAt> {
+      for (const auto& e : c.external)
+        if (e.id == n) return e;
+      return std::nullopt;
+    });
+}
+
 void calibration_columns(ColumnWriter& w) {
   bool calibrated = false;
   for (const auto& g : w.galaxies) calibrated = calibrated || g.calibration.has_value();
@@ -241,7 +291,9 @@ report::Table robustness_table(const std::vector<GalaxySummary>& galaxies) {
   t.caption = "Centre and split robustness of the leading-side excess, one row per galaxy.";
   ColumnWriter w{t, galaxies};
   centre_columns(w);
+  w.results = true;
   split_columns(w);
+  centre_kind_columns(w);
   robustness_columns(w);
   calibration_columns(w);
   w.strings("reason", "Why the verdict is undetermined (empty otherwise) [report.json: verdict_reason]",
@@ -258,31 +310,50 @@ report::Table robustness_table(const std::vector<GalaxySummary>& galaxies) {
   return t;
 }
 
-report::Table paper_table(const std::vector<GalaxySummary>& galaxies) {
+report::Table paper_table(const std::vector<GalaxySummary>& galaxies, bool wide) {
   report::Table full = robustness_table(galaxies);
   report::Table t;
-  t.name = "robustness";
-  t.caption = "Robustness of the leading-side excess. A at the adopted centre with its bootstrap 95% interval, "
-              "P = P(A > 0), the flip distance (the smallest centre shift that reverses A) and the distance of "
-              "the farthest plausible centre.";
-  auto take = [&](const std::string& name, const std::string& heading, int digits = -1) {
+  t.name = wide ? "robustness-wide" : "robustness";
+  t.wide = wide;
+  t.caption = wide ? "Robustness of the leading-side excess. A at the adopted centre with its bootstrap 95% interval, "
+                     "A at the kinematic and optical centres (1-sigma errors from the map noise), P = P(A > 0), the "
+                     "flip distance (the smallest centre shift that reverses A) and the distance of the farthest "
+                     "plausible centre."
+                   : "Leading-side excess A = (L - T)/(L + T) at the kinematic and optical centres (1-sigma errors "
+                     "from the map noise), P = P(A > 0), the smallest centre shift that reverses A, and the verdict.";
+  auto take = [&](const std::string& name, const std::string& heading, int digits = -1,
+                  const std::string& error_column = "") {
     const report::Column* c = full.find(name);
     if (!c) return;
     report::Column copy = *c;
     copy.latex_heading = heading;
     if (digits >= 0) copy.digits = digits;
+    if (const report::Column* e = error_column.empty() ? nullptr : full.find(error_column))
+      copy.errors = std::get<0>(e->values);
+    copy.probability = name == "p_leading";
     t.columns.push_back(copy);
   };
+  for (const auto& g : galaxies)
+    if (g.verdict == robustness::Verdict::undetermined)
+      t.notes.push_back(g.input.name + ": no verdict (undetermined): " + g.undetermined_reason + ".");
   take("galaxy", "Galaxy");
-  take("verdict", "Verdict");
-  take("asymmetry", "$A$");
-  take("asymmetry_ci95_lo", "$A_{2.5\\%}$");
-  take("asymmetry_ci95_hi", "$A_{97.5\\%}$");
-  take("p_leading", "$P(A>0)$");
-  take("flip_distance_arcsec", "$d_{\\rm flip}$");
-  take("flip_distance_beams", "$d_{\\rm flip}/\\theta_{\\rm beam}$");
-  take("farthest_plausible_arcsec", "$d_{\\rm plaus}$");
-  take("adopted_centre", "Centre");
+  if (wide) {
+    take("verdict", "Verdict");
+    take("asymmetry", "$A$");
+    take("asymmetry_ci95_lo", "$A_{2.5\\%}$");
+    take("asymmetry_ci95_hi", "$A_{97.5\\%}$");
+  }
+  take("asymmetry_kinematic", "$A_{\\rm kin}$", wide ? 3 : 2, "asymmetry_kinematic_err");
+  take("asymmetry_optical", "$A_{\\rm opt}$", wide ? 3 : 2, "asymmetry_optical_err");
+  take("p_leading", "$P(A{>}0)$");
+  take("flip_distance_arcsec", "$d_{\\rm flip}$", wide ? 2 : 1);
+  if (wide) {
+    take("flip_distance_beams", "$d_{\\rm flip}/\\theta_{\\rm beam}$");
+    take("farthest_plausible_arcsec", "$d_{\\rm plaus}$");
+    take("adopted_centre", "Centre");
+  } else {
+    take("verdict", "Verdict");
+  }
   return t;
 }
 
@@ -434,6 +505,7 @@ void write_sample_products(const std::string& out_dir, std::vector<GalaxySummary
   report::write_fits((dir / "robustness.fits").string(), full);
   report::Table paper = paper_table(galaxies);
   report::write_latex((dir / "robustness.tex").string(), paper);
+  report::write_latex((dir / "robustness-wide.tex").string(), paper_table(galaxies, true));
   report::write_markdown((dir / "robustness.md").string(), paper);
 
   json stats = sample_statistics(galaxies);

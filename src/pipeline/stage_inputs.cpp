@@ -1,5 +1,7 @@
 // The inputs stage: read every map of one galaxy once (see
 // include/fulcrum/pipeline/galaxy_stages.hpp).
+#include <filesystem>
+
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/pipeline/galaxy_stages.hpp"
@@ -20,6 +22,13 @@ GalaxyMaps load_galaxy_maps(const GalaxyInput& in) {
   optional_map(in.tail_image, m.tail_image);
   if (m.intensity_error && (m.intensity_error->nx != m.intensity->nx || m.intensity_error->ny != m.intensity->ny))
     throw InputError(in.intensity_error, "is not on the grid of the intensity map " + in.intensity);
+  if (!in.cube.empty()) {
+    // Maps made from a cube live in the galaxy's own folder (OUT/moments/):
+    // name them relative to it in everything the report says, so that the
+    // report does not depend on where the folder is.
+    for (auto* map : {&m.velocity, &m.velocity_error, &m.intensity, &m.intensity_error})
+      if (*map) (*map)->path = (std::filesystem::path("moments") / std::filesystem::path((*map)->path).filename()).string();
+  }
   return m;
 }
 

@@ -137,6 +137,9 @@ std::string latex_escape(const std::string& s) {
       case '~': out += "\\textasciitilde{}"; break;
       case '^': out += "\\textasciicircum{}"; break;
       case '\\': out += "\\textbackslash{}"; break;
+      case '<': out += "\\textless{}"; break;  // plain < and > print as inverted marks in OT1
+      case '>': out += "\\textgreater{}"; break;
+      case '|': out += "\\textbar{}"; break;
       default: out += ch;
     }
   }
@@ -147,7 +150,7 @@ std::string latex_escape(const std::string& s) {
 std::string latex_unit(const std::string& unit) {
   if (unit.empty()) return "";
   if (unit == "deg") return "deg";
-  if (unit == "arcsec") return "arcsec";
+  if (unit == "arcsec") return "$''$";
   if (unit == "km / s") return "km\\,s$^{-1}$";
   if (unit == "Jy km / s") return "Jy\\,km\\,s$^{-1}$";
   if (unit == "Jy / beam km / s") return "Jy\\,beam$^{-1}$\\,km\\,s$^{-1}$";
@@ -169,11 +172,39 @@ std::string md_escape(const std::string& s) {
   return out;
 }
 
+// A number cell of cell_human() in LaTeX: minus signs, "+-" and the
+// inequality signs in math mode.
+std::string latex_number(const std::string& cell) {
+  std::string out;
+  for (std::size_t i = 0; i < cell.size(); ++i) {
+    if (cell.compare(i, 4, " ± ") == 0) {
+      out += "$\\pm$";  // tight, as journals set a value and its error
+      i += 3;
+    } else if (cell[i] == '-') {
+      out += "$-$";
+    } else if ((cell[i] == '>' || cell[i] == '<') && i + 1 < cell.size() && cell[i + 1] == ' ') {
+      out += std::string("$") + cell[i] + "$";
+      ++i;
+    } else {
+      out += cell[i];
+    }
+  }
+  return out;
+}
+
 std::string cell_human(const Column& c, std::size_t row) {
   switch (c.values.index()) {
     case 0: {
-      double v = std::get<0>(c.values)[row];
-      return std::isfinite(v) ? fixed(v, c.digits) : "";
+      const double v = std::get<0>(c.values)[row];
+      if (!std::isfinite(v)) return "";
+      std::string t = fixed(v, c.digits);
+      if (c.probability) {
+        const double step = std::pow(10.0, -c.digits);
+        if (v > 1.0 - 0.5 * step) t = "> " + fixed(1.0 - step, c.digits);
+        else if (v < 0.5 * step) t = "< " + fixed(step, c.digits);
+      }
+      if (row < c.errors.size() && std::isfinite(c.errors[row])) t += " ± " + fixed(c.errors[row], c.digits);
+      return t;
     }
     case 1: return std::to_string(std::get<1>(c.values)[row]);
     default: return std::get<2>(c.values)[row];
@@ -247,12 +278,22 @@ std::string to_latex(const Table& table) {
   std::ostringstream os;
   os << "% " << (table.name.empty() ? std::string("table") : table.name)
      << ": written by fulcrum. Plain tabular, no packages needed.\n";
-  os << "\\begin{table*}\n\\centering\n";
+  const std::string env = table.wide ? "table*" : "table";
+  os << "\\begin{" << env << "}\n\\centering\n";
+  // Journal tables are set small; the column gap is narrowed so that the
+  // one-column table fits a 8.5 cm column (checked by a test with pdflatex).
+  os << "\\footnotesize\n\\setlength{\\tabcolsep}{" << "2.5pt" << "}\n";
   if (!table.caption.empty()) os << "\\caption{" << latex_escape(table.caption) << "}\n";
   if (!table.name.empty()) os << "\\label{tab:" << table.name << "}\n";
-  os << "\\begin{tabular}{";
-  for (const auto& c : table.columns) os << (c.is_string() ? 'l' : 'r');
-  os << "}\n\\noalign{\\hrule height 0.8pt}\\noalign{\\smallskip}\n";
+  // No padding outside the first and last columns; text columns after the
+  // first (verdicts, centre names) may break at their hyphens, so that a
+  // long word does not widen the table.
+  os << "\\begin{tabular}{@{}";
+  for (std::size_t j = 0; j < table.columns.size(); ++j) {
+    const auto& c = table.columns[j];
+    os << (!c.is_string() ? "r" : j == 0 ? "l" : "p{5.75em}");
+  }
+  os << "@{}}\n\\noalign{\\hrule height 0.8pt}\\noalign{\\smallskip}\n";
   bool any_unit = false;
   for (std::size_t j = 0; j < table.columns.size(); ++j) {
     const auto& c = table.columns[j];
@@ -272,15 +313,17 @@ std::string to_latex(const Table& table) {
     for (std::size_t j = 0; j < table.columns.size(); ++j) {
       const auto& c = table.columns[j];
       std::string cell = cell_human(c, i);
-      if (c.is_string()) cell = latex_escape(cell);
+      // \hspace{0pt} lets TeX hyphenate the first word of a p{} cell.
+      if (c.is_string()) cell = (j > 0 && !cell.empty() ? "\\hspace{0pt}" : "") + latex_escape(cell);
       else if (cell.empty()) cell = "\\nodata";
-      else if (cell[0] == '-') cell = "$-$" + cell.substr(1);
+      else cell = latex_number(cell);
       os << (j ? " & " : "") << cell;
     }
     os << " \\\\\n";
   }
   os << "\\noalign{\\smallskip}\\noalign{\\hrule height 0.8pt}\n\\end{tabular}\n";
-  os << "\\end{table*}\n";
+  for (const auto& note : table.notes) os << "\\par\\smallskip\\parbox{\\linewidth}{\\raggedright " << latex_escape(note) << "}\n";
+  os << "\\end{" << env << "}\n";
   std::string s = os.str();
   // \nodata is not standard LaTeX: define it locally when used.
   if (s.find("\\nodata") != std::string::npos)
@@ -309,6 +352,8 @@ std::string to_markdown(const Table& table) {
     }
     os << "\n";
   }
+  if (!table.notes.empty()) os << "\n";
+  for (const auto& note : table.notes) os << md_escape(note) << "\n\n";
   return os.str();
 }
 

@@ -53,7 +53,7 @@ TEST_CASE("setting checkers: ranges, returned values, messages with the bad valu
   CHECK(problem_of([] { check_seed("seed", std::int64_t{1} << 53); }) != "(accepted)");
 }
 
-TEST_CASE("position angles are wrapped into 0 to 360 deg; absurd ones are refused", "[core][settings]") {
+TEST_CASE("position angles are wrapped into 0 to 360 deg, absurd ones are refused", "[core][settings]") {
   // Exact: fmod of a double by 360 is exact (IEEE 754 remainder is exact).
   CHECK(check_position_angle_deg("tail_pa_deg", 400.0) == 40.0);
   CHECK(check_position_angle_deg("tail_pa_deg", -30.0) == 330.0);

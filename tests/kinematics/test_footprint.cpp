@@ -89,7 +89,7 @@ TEST_CASE("isolated pixels, small islands and in-disc outliers are removed", "[k
   (void)t;
 }
 
-TEST_CASE("delivered-style mocks: BLANK -999, infinite errors, scattered pixels; truth recovered",
+TEST_CASE("delivered-style mocks: BLANK -999, infinite errors, scattered pixels, truth recovered",
           "[kinematics][footprint][slow]") {
   // Tolerances of the task for real galaxies: centre within 0.5 beam FWHM,
   // PA within 6 deg, inclination within 10 deg (our acceptance bounds).

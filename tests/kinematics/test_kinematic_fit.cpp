@@ -70,7 +70,7 @@ TEST_CASE("refusals carry a reason instead of a centre", "[kinematics]") {
   }
 }
 
-TEST_CASE("m/s maps are converted to km/s; non-velocity units are refused", "[kinematics]") {
+TEST_CASE("m/s maps are converted to km/s, non-velocity units are refused", "[kinematics]") {
   test::VelocityMockSpec spec;
   spec.noise_kms = 0;
   spec.smear = false;

@@ -46,7 +46,7 @@ TEST_CASE("adopted centre: the first successful photometric centre by preference
   CHECK(a.reason.find("photometric-centroid") != std::string::npos);
 }
 
-TEST_CASE("adopted centre: none, with the reason, when nothing succeeded; an external centre is never adopted",
+TEST_CASE("adopted centre: none, with the reason, when nothing succeeded, an external centre is never adopted",
           "[pipeline][centre]") {
   Centre ext = ok(CentreMethod::external);
   ext.label = "given";

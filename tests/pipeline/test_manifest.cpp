@@ -75,7 +75,7 @@ TEST_CASE("a manifest resolves paths against its folder", "[pipeline]") {
 TEST_CASE("manifest errors name the file and the line", "[pipeline]") {
   std::string text = kGood;
   CHECK(error_of(text + "colour = \"red\"\n") ==
-        "/data/run/sample.toml: line 25: unknown key 'colour' in [[galaxy]] (known keys: alpha_co, co_line, "
+        "/data/run/sample.toml: line 25: unknown key 'colour' in [[galaxy]] (known keys: alpha_co, centre_from, co_line, "
         "co_ratio_21, cube, distance_mpc, intensity, intensity_error, kinematics, moments, name, optical, optical_mask, "
         "psf_fwhm_arcsec, redshift, rms, seed, tail_image, tail_pa_deg, tail_pa_err_deg, velocity, velocity_error)");
   std::string wrong = text;

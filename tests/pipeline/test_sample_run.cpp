@@ -61,7 +61,7 @@ void require_same_tree(const fs::path& a, const fs::path& b) {
 
 }  // namespace
 
-TEST_CASE("same inputs and seed give byte-identical outputs; a broken galaxy does not stop the run",
+TEST_CASE("same inputs and seed give byte-identical outputs, a broken galaxy does not stop the run",
           "[pipeline][slow][python]") {
   auto dir = test::temp_dir("run");
   std::string manifest = make_sample(dir);
@@ -113,6 +113,18 @@ TEST_CASE("a sharded run under GNU parallel plus merge equals the unsharded run"
   }
   auto dir = test::temp_dir("shard");
   std::string manifest = make_sample(dir);
+  // Every kind of galaxy: maps, a broken one, and one given as a line cube
+  // (invented, `fulcrum synth`) with a centre given from outside.
+  auto cube = test::run_shell(fulcrum_cmd("synth --out " + (dir / "cubey").string() +
+                                          " --name cubey --grid-nx 64 --grid-ny 64 --cube-enabled "
+                                          "--cube-n-channels 24 --optical-enabled=false"));
+  REQUIRE(cube.exit_code == 0);
+  const auto truth = nlohmann::json::parse(test::slurp(dir / "cubey" / "truth.json"))["truth"]["centre"];
+  std::ostringstream lit;
+  lit.precision(10);
+  lit << "lit=" << truth["ra_deg"].get<double>() + 1e-4 << "," << truth["dec_deg"].get<double>() << ",0.5";
+  std::ofstream(manifest, std::ios::app) << "\n[[galaxy]]\nname = \"cubey\"\ncube = \"cubey/cube.fits\"\n"
+                                            "tail_pa_deg = 300\ncentre_from = [\"" << lit.str() << "\"]\n";
   auto whole = test::run_shell(fulcrum_cmd("run " + manifest + " --out " + (dir / "whole").string()));
   REQUIRE(whole.exit_code == 0);
   std::string par = std::string(kEnv) + "OMP_NUM_THREADS=1 parallel --will-cite --halt now,fail=1 -j 2 " +
@@ -150,7 +162,7 @@ TEST_CASE("report.html opens in headless Chromium with every figure visible and 
   REQUIRE(check.exit_code == 0);
 }
 
-TEST_CASE("analyse writes one galaxy's folder; bad options are one-line errors", "[pipeline]") {
+TEST_CASE("analyse writes one galaxy's folder, bad options are one-line errors", "[pipeline]") {
   auto dir = test::temp_dir("analyse");
   test::TinyDisc d;
   d.name = "solo";

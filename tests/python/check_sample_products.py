@@ -27,7 +27,10 @@ run, schema_path = sys.argv[1], sys.argv[2]
 errors = []
 
 
-def at_path(j, path):
+def at_path(j, path, column=None):
+    """PATH as the table descriptions write it: keys joined by '.', a list
+    index [N], or [id=NAME] (the list entry whose id is NAME); [id=@COL]
+    takes NAME from the table's column COL in the same row (`column`)."""
     if path.startswith("centres[adopted]."):
         # The adopted centre's entry of the centres list.
         key = path.split(".", 1)[1]
@@ -37,6 +40,18 @@ def at_path(j, path):
         return None
     cur = j
     for part in path.split("."):
+        by_id = re.match(r"^(\w+)\[id=(@?[\w.+-]+)\]$", part)
+        if by_id:
+            ident = by_id.group(2)
+            if ident.startswith("@"):
+                ident = column(ident[1:]) if column else None
+            if not isinstance(cur, dict) or not isinstance(cur.get(by_id.group(1)), list):
+                return None
+            hits = [e for e in cur[by_id.group(1)] if isinstance(e, dict) and e.get("id") == ident]
+            if not hits:
+                return None
+            cur = hits[0]
+            continue
         m = re.match(r"^(\w+)(?:\[(\d+)\])?$", part)
         if not m or not isinstance(cur, dict) or m.group(1) not in cur:
             return None
@@ -64,12 +79,15 @@ for kind in ("ecsv", "fits"):
     checked = 0
     for col in ecsv.colnames:
         desc = ecsv[col].description or ""
-        m = re.search(r"\[report\.json: ([\w.\[\]]+)\]$", desc)
+        m = re.search(r"\[report\.json: ([\w.\[\]=@+-]+)\]$", desc)
         if not m:
             continue
         path = m.group(1)
         for i, g in enumerate(names):
-            want = at_path(reports[g], path)
+            def column(name, i=i):
+                v = ecsv[name][i]
+                return (v.decode() if isinstance(v, bytes) else str(v)).strip()
+            want = at_path(reports[g], path, column)
             got = t[col][i]
             if got is np.ma.masked:
                 got = float("nan")

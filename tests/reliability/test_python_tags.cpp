@@ -44,3 +44,21 @@ TEST_CASE("tests that call Python carry the python tag", "[reliability]") {
   }
   CHECK(python_cases > 20);  // the scan found the reference tests at all
 }
+
+// CTest registers each Catch2 test by name (catch_discover_tests); a ';' in a
+// name splits it into two CTest entries that match no test and pass without
+// running anything, and a '[' is read as the start of a tag.
+TEST_CASE("test names have no semicolon and no bracket, so that CTest runs them", "[reliability]") {
+  const fs::path tests = fs::path(fulcrum::test::source_dir()) / "tests";
+  for (const auto& entry : fs::recursive_directory_iterator(tests)) {
+    if (entry.path().extension() != ".cpp") continue;
+    for (const auto& [head, body] : test_cases("\n" + fulcrum::test::slurp(entry.path()))) {
+      const std::size_t open = head.find('"'), close = head.find('"', open + 1);
+      if (open == std::string::npos || close == std::string::npos) continue;
+      const std::string name = head.substr(open + 1, close - open - 1);
+      INFO(entry.path().string() << ": " << name);
+      CHECK(name.find(';') == std::string::npos);
+      CHECK(name.find('[') == std::string::npos);
+    }
+  }
+}

@@ -22,7 +22,7 @@ TEST_CASE("L'CO agrees with its definition evaluated by astropy", "[report][pyth
     }
 }
 
-TEST_CASE("masses of the halves follow alpha_CO and R21; non-Jy units are refused", "[report]") {
+TEST_CASE("masses of the halves follow alpha_CO and R21, non-Jy units are refused", "[report]") {
   MolecularGasOptions o;
   o.distance_mpc = 100.0;
   std::string why;

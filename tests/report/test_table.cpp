@@ -74,7 +74,7 @@ TEST_CASE("ECSV, CSV and FITS tables load in astropy with units and exact values
 TEST_CASE("LaTeX and Markdown tables are well formed", "[report]") {
   Table t = sample_table();
   std::string tex = to_latex(t);
-  CHECK(tex.find("\\begin{tabular}{lrrrr}") != std::string::npos);
+  CHECK(tex.find("\\begin{tabular}{@{}lrrrr@{}}") != std::string::npos);
   CHECK(tex.find("(km\\,s$^{-1}$)") != std::string::npos);
   CHECK(tex.find("$-$0.333") != std::string::npos);
   CHECK(tex.find("\\nodata") != std::string::npos);
@@ -99,4 +99,26 @@ TEST_CASE("columns of unequal length are an internal error", "[report]") {
   t.add_float("a", "", "", {1.0, 2.0});
   t.add_float("b", "", "", {1.0});
   REQUIRE_THROWS_AS(t.rows(), InternalError);
+}
+
+TEST_CASE("human tables: values with errors, probabilities at the draws' precision, notes", "[report]") {
+  Table t;
+  t.add_string("galaxy", "Galaxy name", {"a", "b", "c", "d"});
+  Column& p = t.add_float("p_leading", "", "P(A > 0)", {1.0, 0.9996, 0.0, 0.5}, 3);
+  p.probability = true;
+  Column& a = t.add_float("asymmetry", "", "A", {0.1234, -0.2, NAN, 0.0}, 2);
+  a.errors = {0.011, 0.02, NAN, NAN};
+  t.notes = {"c: no verdict (undetermined): too few pixels."};
+  const std::string md = to_markdown(t);
+  CHECK(md.find("| a | > 0.999 | 0.12 ± 0.01 |") != std::string::npos);
+  CHECK(md.find("| b | > 0.999 | -0.20 ± 0.02 |") != std::string::npos);  // 0.9996 rounds to 1.000
+  CHECK(md.find("| c | < 0.001 | – |") != std::string::npos);
+  CHECK(md.find("| d | 0.500 | 0.00 |") != std::string::npos);
+  CHECK(md.find("c: no verdict (undetermined): too few pixels.") != std::string::npos);
+  const std::string tex = to_latex(t);
+  CHECK(tex.find("a & $>$0.999 & 0.12$\\pm$0.01") != std::string::npos);
+  CHECK(tex.find("$-$0.20$\\pm$0.02") != std::string::npos);
+  CHECK(tex.find("\\begin{table}") != std::string::npos);  // one column unless wide
+  t.wide = true;
+  CHECK(to_latex(t).find("\\begin{table*}") != std::string::npos);
 }

@@ -248,7 +248,7 @@ TEST_CASE("noise-free cube channels sum to the noise-free line map", "[synth][cu
   }
 }
 
-TEST_CASE("same seed gives the same bytes; another seed other noise", "[synth][determinism]") {
+TEST_CASE("same seed gives the same bytes, another seed other noise", "[synth][determinism]") {
   MockGalaxy g = small_mock();
   g.optical.enabled = true;
   g.hole_fraction = 0.1;

@@ -33,6 +33,7 @@
 
 #include "fulcrum/pipeline/galaxy_summary.hpp"
 #include "fulcrum/pipeline/manifest.hpp"
+#include "fulcrum/report/table.hpp"
 
 namespace fulcrum::pipeline {
 
@@ -71,6 +72,7 @@ struct GalaxyResult {
   GalaxySummary summary;             // everything the stages found
   nlohmann::json report;             // report.json, written from the summary
   std::vector<FigureFile> figures;
+  std::vector<report::Table> curves;  // A against angle and offset, as data (pipeline/centre_curves.hpp)
   std::vector<std::string> notes;    // stages failed, fallbacks, for the HTML page
 };
 

@@ -14,6 +14,20 @@
 
 #include <cstdint>
 #include <string>
+#include <vector>
+
+namespace fulcrum::pipeline {
+
+// A centre given from outside the analysis (a catalogue position, another
+// paper's centre): a name, RA and Dec in degrees (ICRS) and a circular
+// 1-sigma error in arcsec. It becomes a plausible centre of the verdict and
+// gets its own A, but is never the adopted centre.
+struct ExternalCentre {
+  std::string name;
+  double ra_deg = 0.0, dec_deg = 0.0, err_arcsec = 0.0;
+};
+
+}  // namespace fulcrum::pipeline
 
 namespace fulcrum::pipeline::setting {
 
@@ -29,5 +43,12 @@ std::string co_line(const std::string& v);  // "1-0" or "2-1"
 double alpha_co(double v);             // > 0, Msun (K km/s pc^2)^-1
 double co_ratio_21(double v);          // (0, 2]
 double redshift(double v);             // [0, 10]
+// The setting `centre_from`: "NAME=RA,DEC,ERR" (RA in [0, 360) deg, Dec in
+// [-90, 90] deg, ERR > 0 arcsec; NAME of letters, digits and . _ + -, not a
+// name fulcrum uses for its own estimates), as the command line and the
+// manifest give it.
+ExternalCentre centre_from(const std::string& text);
+// The list: every entry as above and no name given twice.
+std::vector<ExternalCentre> centres_from(const std::vector<std::string>& texts);
 
 }  // namespace fulcrum::pipeline::setting

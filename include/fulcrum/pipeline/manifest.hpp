@@ -42,6 +42,7 @@
 
 #include "fulcrum/kinematics/kinematic_settings.hpp"
 #include "fulcrum/moments/moment_settings.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 
 namespace fulcrum::pipeline {
 
@@ -72,6 +73,7 @@ struct GalaxyInput {
   std::string tail_image;       // optional, instead of tail_pa_deg
   std::optional<double> distance_mpc;
   std::optional<std::uint64_t> seed;
+  std::vector<ExternalCentre> external_centres;  // `centre_from`
   MolecularGasInput molecular;
   kinematics::KinematicSettings kinematic;  // kinematic-fit settings (`kinematics` table)
   int manifest_line = 0;        // where the [[galaxy]] table starts (0: not from a manifest)

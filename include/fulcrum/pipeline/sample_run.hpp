@@ -66,8 +66,9 @@ void write_sample_products(const std::string& out_dir, std::vector<GalaxySummary
 // column's description ends with "[report.json: <path>]", the place of the
 // same number in the galaxy's report.json.
 report::Table robustness_table(const std::vector<GalaxySummary>& galaxies);
-// The compact table for LaTeX, Markdown and the HTML page.
-report::Table paper_table(const std::vector<GalaxySummary>& galaxies);
+// The compact table for LaTeX, Markdown and the HTML page: one column of a
+// two-column journal page; `wide`: the fuller table* over both columns.
+report::Table paper_table(const std::vector<GalaxySummary>& galaxies, bool wide = false);
 nlohmann::json sample_statistics(const std::vector<GalaxySummary>& galaxies);
 
 // DIR/report.html for one galaxy analysed with `fulcrum analyse` (figures

@@ -38,6 +38,13 @@ struct Column {
   std::variant<std::vector<double>, std::vector<std::int64_t>, std::vector<std::string>> values;
   int digits = 3;              // decimals shown in LaTeX and Markdown (floats only)
   std::string latex_heading;   // heading in the LaTeX table; empty: the name, escaped
+  // Human formats only (LaTeX, Markdown): each value followed by "+- error"
+  // when `errors` holds one per row (the machine formats carry the error as
+  // a column of its own).
+  std::vector<double> errors;
+  // Human formats only: a probability, shown with the precision the draws
+  // support: "> 0.999" and "< 0.001" (for 3 digits) instead of 1.000 / 0.000.
+  bool probability = false;
 
   std::size_t size() const;
   bool is_float() const { return values.index() == 0; }
@@ -48,6 +55,8 @@ struct Column {
 struct Table {
   std::string name;         // used as EXTNAME in FITS and as a caption label
   std::string caption;      // one sentence, for LaTeX/Markdown/ECSV meta
+  bool wide = false;        // LaTeX: a table* over both columns of a two-column page
+  std::vector<std::string> notes;  // LaTeX and Markdown: lines under the table (e.g. why a row is blank)
   std::vector<Column> columns;
   // Free key/value pairs written into the ECSV meta and as FITS header cards.
   std::vector<std::pair<std::string, std::string>> meta;
