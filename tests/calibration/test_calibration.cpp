@@ -187,6 +187,7 @@ TEST_CASE("calibration: same seed gives the same numbers, any thread count; cent
   co.seed = 3;
   co.n_draws = 200;
   co.refit_centre = true;
+  co.refit_every = 1;  // every mock (the default re-fits every 4th)
   co.progress = false;
   auto a = calibration::calibrate(in, co);
 #ifdef _OPENMP
