@@ -396,6 +396,12 @@ void mean_err(double sum, double sum2, std::size_t n, double* m, double* e) {
   *e = std::sqrt(std::max(0.0, var) / static_cast<double>(n));
 }
 
+// The verdict a lopsided mock should reach: robust for a leading excess,
+// reversed for a trailing one (the sign of the measured A).
+std::string recovered_verdict(const CalibrationSummary& s) {
+  return s.target_asymmetry < 0.0 ? "reversed" : "robust";
+}
+
 // Rates, biases and coverages over the valid mocks (serial, in mock order).
 void summarise(CalibrationSummary& s) {
   std::size_t fr = 0, rec = 0, nsym = 0, nlop = 0, c68 = 0, c95 = 0, nint = 0, cc = 0, ncc = 0;
@@ -409,7 +415,7 @@ void summarise(CalibrationSummary& s) {
         continue;
       }
       if (set == 0) ++nsym, fr += o.verdict == "robust" || o.verdict == "reversed";
-      else ++nlop, rec += o.verdict == "robust";
+      else ++nlop, rec += o.verdict == recovered_verdict(s);
       ++nint;
       c68 += o.lo68 <= o.true_asymmetry && o.true_asymmetry <= o.hi68;
       c95 += o.lo95 <= o.true_asymmetry && o.true_asymmetry <= o.hi95;
@@ -431,9 +437,9 @@ std::string calibration_statement(const CalibrationSummary& s, const Calibration
   char buf[512];
   std::snprintf(buf, sizeof buf,
                 "a symmetric disc with these data is called robust or reversed in %.1f%% (+- %.1f%%) of %zu "
-                "matched mocks, and a disc with the measured A = %.3f is called robust in %.1f%% of %zu",
+                "matched mocks, and a disc with the measured A = %.3f is called %s in %.1f%% of %zu",
                 100.0 * s.false_robust.rate, 100.0 * s.false_robust.err, s.false_robust.n, s.achieved_asymmetry,
-                100.0 * s.recovery.rate, s.recovery.n);
+                recovered_verdict(s).c_str(), 100.0 * s.recovery.rate, s.recovery.n);
   std::string st = buf;
   if (s.symmetric_failures + s.lopsided_failures > 0) {
     std::snprintf(buf, sizeof buf, "; %zu symmetric and %zu lopsided mocks failed (centre re-fit or analysis) "

@@ -140,7 +140,7 @@ struct CalibrationSummary {
   int tuning_steps = 0;             // secant steps taken (at most secant_steps)
   bool tuning_converged = true;     // |achieved - target| <= kTuningTolerance
   Rate false_robust;                // valid symmetric mocks called robust or reversed
-  Rate recovery;                    // valid lopsided mocks called robust
+  Rate recovery;                    // valid lopsided mocks called robust (reversed when the measured A < 0)
   std::size_t symmetric_failures = 0, lopsided_failures = 0;  // re-fit failed or analysis threw
   double bias = 0.0, bias_err = 0.0;          // lopsided set: mean(measured - true)
   double bias_symmetric = 0.0, bias_symmetric_err = 0.0;
