@@ -176,7 +176,7 @@ TEST_CASE("calibration bias of A matches the directly measured bias on a masked 
   CHECK(s.coverage95.rate >= s.coverage68.rate);
 }
 
-TEST_CASE("calibration: same seed gives the same numbers, any thread count; centre re-fit runs",
+TEST_CASE("calibration: same seed gives the same numbers, any thread count, and the centre re-fit runs",
           "[calibration]") {
   const auto g = small_galaxy(0.2, 31);
   const auto p = synth::make_mock(g);

@@ -151,7 +151,8 @@ TEST_CASE("report.html opens in headless Chromium with every figure visible and 
   REQUIRE(check.exit_code == 0);
 }
 
-TEST_CASE("analyse writes one galaxy's folder; bad options are one-line errors", "[pipeline]") {
+TEST_CASE("analyse writes one galaxy's folder, with the calibration on by default, and bad options are one-line errors",
+          "[pipeline]") {
   auto dir = test::temp_dir("analyse");
   test::TinyDisc d;
   d.name = "solo";
