@@ -1,12 +1,19 @@
 // Benchmark of the matched-mock calibration: a 200x200 synth galaxy, N mocks
 // per set (default 500), centre re-fitted on every k-th mock (default 1).
-// Usage: bench_calibration [mocks_per_set] [refit_every] [grid]
-// Prints the wall time and the calibration numbers. Not a test.
+// Usage: bench_calibration [mocks_per_set] [refit_every] [grid] [no-setup]
+// Prints the wall time, the process CPU time of the calibration (all
+// threads), the CPU time of the per-galaxy set-up alone (a calibration of 1
+// mock per set without re-fits, subtracted from the total), the CPU seconds
+// per mock, and the calibration numbers; "no-setup" skips the set-up
+// measurement (for whole-process comparisons with farm-bench). Compare builds with farm-bench
+// (docs/performance.md). Not a test.
 #include <chrono>
+#include <ctime>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
 #include <numbers>
+#include <string>
 
 #include "fulcrum/calibration/calibration.hpp"
 #include "fulcrum/synth/mock_galaxy.hpp"
@@ -53,11 +60,23 @@ int main(int argc, char** argv) {
   co.n_mocks = n;
   co.seed = 7;
   co.refit_every = every;
+  co.progress = false;
+  auto cpu_now = [] { return static_cast<double>(std::clock()) / CLOCKS_PER_SEC; };
+  calibration::CalibrationOptions one = co;
+  one.n_mocks = 1;
+  one.refit_every = 1000000000;  // mock 0 is still re-fitted: the set-up plus two mocks
+  const bool measure_setup = !(argc > 4 && std::string(argv[4]) == "no-setup");
+  const double c0 = cpu_now();
+  if (measure_setup) (void)calibration::calibrate(in, one);
+  const double setup_cpu = cpu_now() - c0;
+  const double c1 = cpu_now();
   const auto t0 = std::chrono::steady_clock::now();
   auto s = calibration::calibrate(in, co);
   const double sec = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
-  std::printf("%dx%d grid, %zu mocks per set, centre re-fit every %zu: %.1f s (%.3f s per mock)\n", grid, grid, n,
-              every, sec, sec / (2.0 * n));
+  const double cpu = cpu_now() - c1;
+  std::printf("%dx%d grid, %zu mocks per set, centre re-fit every %zu: %.2f s wall, %.2f s CPU; set-up with 2 "
+              "mocks %.3f s CPU; %.4f s CPU per mock beyond it\n",
+              grid, grid, n, every, sec, cpu, setup_cpu, (cpu - setup_cpu) / (2.0 * n - 2.0));
   std::printf("%s\n", calibration::to_json(s).dump(2).c_str());
   return 0;
 }

@@ -15,7 +15,7 @@
 #include <omp.h>
 
 #include "fulcrum/robustness/bootstrap.hpp"
-#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/core/random.hpp"
 #include "fulcrum/robustness/scan.hpp"
 #include "fulcrum/split/half_split.hpp"
 
@@ -39,7 +39,7 @@ int main(int argc, char** argv) {
   img.beam = Beam{1.0, 0.8, 20.0};
   img.unit = "Jy/beam km/s";
   img.data.resize(img.size());
-  robustness::Generator g(42);
+  Random g(42);
   const auto t_setup = Clock::now();
   for (int y = 0; y < n; ++y)
     for (int x = 0; x < n; ++x) {

@@ -24,7 +24,7 @@ struct AnalyseArgs {
   fulcrum::cli::GalaxyArgs galaxy;
   double distance = 0, alpha_co = 0, ratio21 = 0, redshift = -1;
   std::string co_line;
-  std::int64_t seed = 1, draws = 20000, calibrate = 0;
+  std::int64_t seed = 1, draws = 20000, calibrate = fulcrum::calibration::kDefaultCalibrationMocks;
   std::string bootstrap_centres = "adopted";
   bool no_figures = false;
   std::string out;
@@ -89,7 +89,9 @@ FULCRUM_SUBCOMMAND(analyse, 70, [](CLI::App& app) {
   cmd->add_option("--alpha-co", a->alpha_co, "CO-to-H2 factor, Msun/(K km/s pc^2) (default 4.3)");
   cmd->add_option("--co-ratio-21", a->ratio21, "CO(2-1)/CO(1-0) ratio for 2-1 maps (default 0.65)");
   cmd->add_option("--redshift", a->redshift, "Redshift for the line luminosity (default: vsys/c)");
-  cmd->add_option("--calibrate", a->calibrate, "Matched mocks per set for the calibration of the verdict (default 0: none)");
+  cmd->add_option("--calibrate", a->calibrate, "Matched mocks per set for the calibration of the verdict (default " +
+                                                  std::to_string(fulcrum::calibration::kDefaultCalibrationMocks) +
+                                                  "; 0 turns it off)");
   cmd->add_option("--bootstrap-centres", a->bootstrap_centres,
                   "Where bootstrap centres come from: adopted (default; the adopted centre and its covariance) or "
                   "all-estimates (also every other centre estimate)");

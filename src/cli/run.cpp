@@ -14,7 +14,7 @@ struct RunArgs {
   std::string manifest, out, shard;
   std::vector<std::string> only;
   int threads = 0;
-  std::int64_t draws = 0, seed = 0;
+  std::int64_t draws = 0, seed = 0, calibrate = 0;
   std::string bootstrap_centres = "adopted";
   bool no_figures = false;
 };
@@ -31,6 +31,10 @@ FULCRUM_SUBCOMMAND(run, 80, [](CLI::App& app) {
   cmd->add_option("--threads", a->threads, "Galaxies analysed at once (default: all cores)");
   cmd->add_option("--draws", a->draws, "Bootstrap draws per galaxy (overrides the manifest)");
   cmd->add_option("--seed", a->seed, "Sample seed (overrides the manifest)");
+  cmd->add_option("--calibrate", a->calibrate,
+                  "Matched mocks per set for each galaxy's calibration (overrides the manifest's `calibrate`, "
+                  "whose default is " + std::to_string(fulcrum::calibration::kDefaultCalibrationMocks) +
+                      "; 0 turns it off)");
   cmd->add_option("--bootstrap-centres", a->bootstrap_centres,
                   "Where bootstrap centres come from: adopted (default) or all-estimates");
   cmd->add_flag("--no-figures", a->no_figures, "Skip the figures");
@@ -47,6 +51,7 @@ FULCRUM_SUBCOMMAND(run, 80, [](CLI::App& app) {
     o.overwrite = cli::global_flags().force;
     if (cmd->count("--draws")) o.draws = pipeline::setting::draws(a->draws);
     if (cmd->count("--seed")) o.seed = pipeline::setting::seed(a->seed);
+    if (cmd->count("--calibrate")) o.calibrate = pipeline::setting::calibrate(a->calibrate);
     o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a->bootstrap_centres);
     auto s = pipeline::run_sample(m, o);
     std::cout << pipeline::summary_text(s.galaxies) << "\nreport: " << s.html_path << "\n";

@@ -12,6 +12,7 @@
 #include <cstdio>
 #include <cstdlib>
 #include <cstring>
+#include <mutex>
 #include <string_view>
 #include <vector>
 
@@ -175,7 +176,13 @@ void check_celestial_keywords(const std::string& header, const std::string& sour
 
 }  // namespace
 
-CelestialWcs::CelestialWcs(const CelestialWcs& other) : source_(other.source_) {
+struct CelestialWcs::GridCache {
+  std::mutex mutex;
+  int nx = 0, ny = 0;
+  std::shared_ptr<const std::vector<WorldCoord>> world;
+};
+
+CelestialWcs::CelestialWcs(const CelestialWcs& other) : source_(other.source_), grid_cache_(other.grid_cache_) {
   if (other.wcs_) wcs_.reset(deep_copy(other.wcs_.get()));
 }
 
@@ -183,6 +190,7 @@ CelestialWcs& CelestialWcs::operator=(const CelestialWcs& other) {
   if (this != &other) {
     wcs_.reset(other.wcs_ ? deep_copy(other.wcs_.get()) : nullptr);
     source_ = other.source_;
+    grid_cache_ = other.grid_cache_;
   }
   return *this;
 }
@@ -279,6 +287,7 @@ CelestialWcs CelestialWcs::from_header(const std::string& header_cards, const st
   CelestialWcs out;
   out.wcs_.reset(sub);
   out.source_ = source;
+  out.grid_cache_ = std::make_shared<GridCache>();
   return out;
 }
 
@@ -331,6 +340,31 @@ void CelestialWcs::pixels_to_world(const double* x, const double* y, std::size_t
     for (std::size_t i = 0; i < m; ++i)
       out[start + i] = {world[2 * i + wcs_->lng], world[2 * i + wcs_->lat]};
   }
+}
+
+void CelestialWcs::keep_grid_world(int nx, int ny) const {
+  if (!wcs_ || !grid_cache_ || nx <= 0 || ny <= 0) return;
+  if (kept_grid_world(nx, ny)) return;
+  const std::size_t n = static_cast<std::size_t>(nx) * static_cast<std::size_t>(ny);
+  std::vector<double> xs(n), ys(n);
+  for (int y = 0; y < ny; ++y)
+    for (int x = 0; x < nx; ++x) {
+      xs[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = x;
+      ys[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = y;
+    }
+  auto world = std::make_shared<std::vector<WorldCoord>>(n);
+  pixels_to_world(xs.data(), ys.data(), n, world->data());
+  const std::lock_guard<std::mutex> lock(grid_cache_->mutex);
+  grid_cache_->nx = nx;
+  grid_cache_->ny = ny;
+  grid_cache_->world = std::move(world);
+}
+
+std::shared_ptr<const std::vector<WorldCoord>> CelestialWcs::kept_grid_world(int nx, int ny) const {
+  if (!grid_cache_) return nullptr;
+  const std::lock_guard<std::mutex> lock(grid_cache_->mutex);
+  if (grid_cache_->nx != nx || grid_cache_->ny != ny) return nullptr;
+  return grid_cache_->world;
 }
 
 PixelCoord CelestialWcs::world_to_pixel(WorldCoord w) const {

@@ -579,7 +579,7 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
     AnalysisOptions ao;
     ao.seed = galaxy_seed(o.seed.value_or(manifest.seed), g);
     ao.draws = o.draws.value_or(manifest.draws);
-    ao.calibrate = manifest.calibrate;
+    ao.calibrate = o.calibrate.value_or(manifest.calibrate);
     ao.figures = o.figures;
     ao.bootstrap_from_estimates = o.bootstrap_from_estimates;
     const SampleRef ref{manifest.name, manifest.path, index[g.name], o.seed.value_or(manifest.seed)};

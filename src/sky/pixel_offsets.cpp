@@ -26,14 +26,22 @@ PixelOffsets::PixelOffsets(int nx, int ny, const CelestialWcs& wcs, WorldCoord r
     : nx_(nx), ny_(ny), frame_(reference) {
   FULCRUM_CHECK(nx > 0 && ny > 0, "positive grid size", nx * ny);
   const std::size_t n = static_cast<std::size_t>(nx) * static_cast<std::size_t>(ny);
-  std::vector<double> xs(n), ys(n);
-  for (int y = 0; y < ny; ++y)
-    for (int x = 0; x < nx; ++x) {
-      xs[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = x;
-      ys[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = y;
-    }
-  std::vector<WorldCoord> world(n);
-  wcs.pixels_to_world(xs.data(), ys.data(), n, world.data());
+  // The world positions of the pixel centres: kept by the WCS when a caller
+  // asked for it (CelestialWcs::keep_grid_world: the same numbers), else
+  // through wcslib now.
+  std::shared_ptr<const std::vector<WorldCoord>> kept = wcs.kept_grid_world(nx, ny);
+  std::vector<WorldCoord> computed;
+  if (!kept) {
+    std::vector<double> xs(n), ys(n);
+    for (int y = 0; y < ny; ++y)
+      for (int x = 0; x < nx; ++x) {
+        xs[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = x;
+        ys[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = y;
+      }
+    computed.resize(n);
+    wcs.pixels_to_world(xs.data(), ys.data(), n, computed.data());
+  }
+  const std::vector<WorldCoord>& world = kept ? *kept : computed;
   east_.resize(n);
   north_.resize(n);
   for (std::size_t i = 0; i < n; ++i) {

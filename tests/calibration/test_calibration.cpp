@@ -176,7 +176,7 @@ TEST_CASE("calibration bias of A matches the directly measured bias on a masked 
   CHECK(s.coverage95.rate >= s.coverage68.rate);
 }
 
-TEST_CASE("calibration: same seed gives the same numbers, any thread count, centre re-fit runs",
+TEST_CASE("calibration: same seed gives the same numbers, any thread count, and the centre re-fit runs",
           "[calibration]") {
   const auto g = small_galaxy(0.2, 31);
   const auto p = synth::make_mock(g);
@@ -187,6 +187,7 @@ TEST_CASE("calibration: same seed gives the same numbers, any thread count, cent
   co.seed = 3;
   co.n_draws = 200;
   co.refit_centre = true;
+  co.refit_every = 1;  // every mock (the default re-fits every 4th)
   co.progress = false;
   auto a = calibration::calibrate(in, co);
 #ifdef _OPENMP

@@ -59,6 +59,7 @@ TEST_CASE("one mock through the single-galaxy analysis and the calibration's per
   opt.seed = 11;
   opt.draws = 1500;
   opt.figures = false;
+  opt.calibrate = 0;  // the chain itself; calibration would re-apply the verdict afterwards
   const auto r = pipeline::analyse_galaxy(in, opt);
   const auto& s = r.summary;
   INFO(s.statement);

@@ -64,10 +64,15 @@ inline void write_tiny_disc(const std::filesystem::path& dir, const TinyDisc& d)
   write_image((dir / "mom0_err.fits").string(), err);
 }
 
-// A manifest of `count` tiny discs in dir (paths relative to it).
-inline std::string write_tiny_sample(const std::filesystem::path& dir, int count, int seed = 7, int draws = 400) {
+// A manifest of `count` tiny discs in dir (paths relative to it). The
+// calibration is off (`calibrate = 0`) unless `calibrate` mocks are asked
+// for: the tests that run samples are about the run, not the calibration
+// (its default is on; tests/calibration/ and the analyse test check it).
+inline std::string write_tiny_sample(const std::filesystem::path& dir, int count, int seed = 7, int draws = 400,
+                                     int calibrate = 0) {
   std::ofstream m(dir / "sample.toml");
-  m << "# invented test sample\n[sample]\nname = \"Tiny test sample\"\nseed = " << seed << "\ndraws = " << draws << "\n";
+  m << "# invented test sample\n[sample]\nname = \"Tiny test sample\"\nseed = " << seed << "\ndraws = " << draws
+    << "\ncalibrate = " << calibrate << "\n";
   for (int i = 0; i < count; ++i) {
     TinyDisc d;
     d.name = "tiny-" + std::to_string(i + 1);

@@ -79,7 +79,7 @@ TEST_CASE("analyse --cube gives the numbers of moments followed by analyse", "[p
   auto m = fulcrum_run("moments --cube " + cube + " --out " + (dir / "mom").string());
   INFO(m.err);
   REQUIRE(m.exit_code == 0);
-  const std::string common = " --tail-pa 300 --draws 400 --no-figures --name cube-mock --out ";
+  const std::string common = " --tail-pa 300 --draws 400 --calibrate 0 --no-figures --name cube-mock --out ";
   auto maps = fulcrum_run("analyse --velocity " + (dir / "mom" / "mom1.fits").string() + " --velocity-error " +
                           (dir / "mom" / "mom1_err.fits").string() + " --intensity " +
                           (dir / "mom" / "mom0.fits").string() + " --intensity-error " +
@@ -135,7 +135,7 @@ TEST_CASE("a manifest galaxy with cube = gives the numbers of analyse --cube", "
   // they are seen to arrive), the same seed and draws.
   {
     std::ofstream m(dir / "sample.toml");
-    m << "# invented test sample\n[sample]\nname = \"Cube sample\"\nseed = 7\ndraws = 400\n\n"
+    m << "# invented test sample\n[sample]\nname = \"Cube sample\"\nseed = 7\ndraws = 400\ncalibrate = 0\n\n"
          "[[galaxy]]\nname = \"cube-mock\"\ncube = \"mock/cube.fits\"\ntail_pa_deg = 300\nseed = 1\n"
          "[galaxy.moments]\nmask = \"moment-masking\"\nmoment_mask_threshold = 5\n";
   }
@@ -143,7 +143,7 @@ TEST_CASE("a manifest galaxy with cube = gives the numbers of analyse --cube", "
   INFO(run.err);
   REQUIRE(run.exit_code == 0);
   auto c = fulcrum_run("analyse --cube " + (dir / "mock" / "cube.fits").string() +
-                       " --mask moment-masking --moment-mask-threshold 5 --seed 1 --tail-pa 300 --draws 400"
+                       " --mask moment-masking --moment-mask-threshold 5 --seed 1 --tail-pa 300 --draws 400 --calibrate 0"
                        " --no-figures --name cube-mock --out " + (dir / "cube-dame").string());
   INFO(c.err);
   REQUIRE(c.exit_code == 0);

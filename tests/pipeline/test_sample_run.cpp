@@ -13,6 +13,7 @@
 #include <nlohmann/json.hpp>
 
 #include "../support/test_support.hpp"
+#include "fulcrum/calibration/calibration_defaults.hpp"
 #include "pipeline_fixtures.hpp"
 
 using namespace fulcrum;
@@ -162,7 +163,8 @@ TEST_CASE("report.html opens in headless Chromium with every figure visible and 
   REQUIRE(check.exit_code == 0);
 }
 
-TEST_CASE("analyse writes one galaxy's folder, bad options are one-line errors", "[pipeline]") {
+TEST_CASE("analyse writes one galaxy's folder, with the calibration on by default, and bad options are one-line errors",
+          "[pipeline]") {
   auto dir = test::temp_dir("analyse");
   test::TinyDisc d;
   d.name = "solo";
@@ -179,6 +181,11 @@ TEST_CASE("analyse writes one galaxy's folder, bad options are one-line errors",
   auto rep = nlohmann::json::parse(slurp(dir / "res" / "report.json"));
   CHECK(rep["galaxy"] == "solo");
   CHECK(rep["robustness"]["centre_draws"] == "adopted");  // the default (DESIGN.md section 5)
+  // Calibration runs by default, with the default number of mocks per set.
+  REQUIRE(rep["calibration"].is_object());
+  CHECK(rep["calibration"]["n_mocks"] == calibration::kDefaultCalibrationMocks);
+  CHECK(rep["calibration"]["false_robust"]["n"].get<int>() + rep["calibration"]["symmetric_failures"].get<int>() ==
+        calibration::kDefaultCalibrationMocks);
   auto bad_centres = test::run_shell(fulcrum_cmd(base + "--tail-pa 300 --bootstrap-centres some --out " +
                                                  (dir / "y").string()));
   CHECK(bad_centres.exit_code == 2);

@@ -9,7 +9,7 @@
 
 #include "fulcrum/report/normal_distribution.hpp"
 #include "fulcrum/report/sample_statistics.hpp"
-#include "fulcrum/robustness/random.hpp"
+#include "fulcrum/core/random.hpp"
 #include "../support/test_support.hpp"
 
 using namespace fulcrum;
@@ -90,7 +90,7 @@ namespace {
 // as a bootstrap of B draws would give it (B Phi(A_hat / sigma) plus the
 // binomial scatter of B draws, rounded to a count). Returns (Stouffer
 // rejects, sign test rejects) at alpha.
-std::pair<bool, bool> one_sample(robustness::Generator& g, int n, double shift, double alpha) {
+std::pair<bool, bool> one_sample(Random& g, int n, double shift, double alpha) {
   constexpr std::size_t B = 2000;
   std::vector<GalaxyOutcome> gal;
   for (int i = 0; i < n; ++i) {
@@ -120,7 +120,7 @@ std::pair<bool, bool> one_sample(robustness::Generator& g, int n, double shift, 
 // = 0.049); tolerance 0.03 (binomial 1-sigma 0.006 at 4000 samples, plus the
 // draw rounding).
 TEST_CASE("sample-level test: size under the null and power", "[report][statistics]") {
-  robustness::Generator g(20261202);
+  Random g(20261202);
   const int n_samples = 4000, n = 30;
   int stouffer0 = 0, sign0 = 0, stouffer1 = 0, sign1 = 0;
   for (int s = 0; s < n_samples; ++s) {

@@ -77,6 +77,28 @@ TEST_CASE("pixel offsets and Jacobian match the CD matrix", "[sky][offsets]") {
   CHECK(p.y == Approx(20.0).margin(1e-5));
 }
 
+// A WCS that keeps its grid's world positions (CelestialWcs::keep_grid_world)
+// gives the same offsets, bit for bit, to itself and to every copy, made
+// before or after; a grid of another size is computed afresh (exact: the
+// kept numbers are wcslib's own).
+TEST_CASE("pixel offsets from a kept grid are identical to computed ones", "[sky][offsets]") {
+  CelestialWcs wcs = grid_wcs(30.0, false, 0.25, {10.0, -20.0}, {50.0, 50.0});
+  const CelestialWcs before = wcs;
+  const PixelOffsets fresh(61, 57, wcs, {10.0001, -20.0002});
+  CHECK(wcs.kept_grid_world(61, 57) == nullptr);
+  wcs.keep_grid_world(61, 57);
+  REQUIRE(wcs.kept_grid_world(61, 57) != nullptr);
+  CHECK(before.kept_grid_world(61, 57) != nullptr);
+  const CelestialWcs after = wcs;
+  CHECK(wcs.kept_grid_world(60, 57) == nullptr);
+  for (const CelestialWcs* w : {static_cast<const CelestialWcs*>(&wcs), &before, &after}) {
+    const PixelOffsets kept(61, 57, *w, {10.0001, -20.0002});
+    CHECK(kept.east() == fresh.east());
+    CHECK(kept.north() == fresh.north());
+    CHECK(kept.jacobian() == fresh.jacobian());
+  }
+}
+
 TEST_CASE("ellipses and disc coordinates", "[sky][ellipse]") {
   SkyEllipse e{{1.0, -2.0}, 40.0 * degrees, 10.0, 0.5};
   for (double t = 0; t < 6.28; t += 0.3) CHECK(e.scaled_radius(e.point_at(t)) == Approx(1.0).epsilon(1e-12));

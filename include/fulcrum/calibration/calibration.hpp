@@ -13,7 +13,8 @@
 // phi_lead = tail PA + 180), plus beam-correlated Gaussian noise (white noise
 // smoothed by the beam times sqrt(k/2) in FWHM, k = noise_correlation_beams,
 // so that its correlation function integrates to k beam areas — for k = 1 it
-// is the beam; rescaled to unit variance, times the error map or rms)
+// is the beam; drawn by FFT with unit variance, imaging/correlated_noise.hpp;
+// times the error map or rms)
 // and, when the data were clipped (clip_snr > 0), the same clipping: pixels
 // below clip_snr x their 1-sigma error set to 0 (or blanked, clip_blank).
 // The velocity map is what a moment-1 map of a beam-convolved cube shows:
@@ -21,12 +22,15 @@
 // (tilted-ring model of Begeman 1989, vrot interpolated linearly in the ring
 // table), (I v) * B / (I * B) with I the mock's line map, plus noise from the
 // velocity error map with the SAME beam correlation as the line map (not
-// white). Blank pixels of the real maps are blank in the mocks. Each mock's
+// white). Blank pixels of the real maps are blank in the mocks. The mocks'
 // kinematic centre is re-fitted with the kinematics library, with the
-// beam-smearing correction of the real analysis (on every mock, or every
-// `refit_every`-th one, the others using the true centre with the real fit's
-// covariance); the other centre estimates are placed at truth + their real
-// offsets from the dynamical centre, each scattered by its own covariance.
+// beam-smearing correction of the real analysis, started from the truth
+// (mock_refit.hpp), on every `refit_every`-th mock; the others adopt the
+// truth moved by a draw from the real fit's covariance. The other centre
+// estimates are placed at truth + their real offsets from the dynamical
+// centre, each scattered by its own covariance. Everything the mocks share
+// (noise-free maps, noise kernels, samples and smearing grids of the re-fit,
+// the pixels' world positions) is made once per galaxy.
 // Then the same robustness::analyse runs on the mock.
 //
 // Failed re-fits (and mocks whose analysis threw) are counted per set and
@@ -34,8 +38,10 @@
 // whose analysis ran, so a failure is never counted as "not robust".
 //
 // Determinism: mock k of set s (0 symmetric, 1 lopsided) uses the seed
-// mix(seed, s, k) (splitmix64), and results are stored per mock, so the
-// numbers do not depend on the number of OpenMP threads.
+// mock_seed(seed, s, k) (splitmix64, core/random.hpp), its parts draw from
+// Random::stream(mock seed, id) (docs/calibration.md lists the ids), and
+// results are stored per mock, so the numbers do not depend on the number of
+// OpenMP threads.
 //
 // Units: angles in degrees (PA north through east), offsets and radii in
 // arcsec, covariances in arcsec^2 (east, north), velocities in km/s, the
@@ -49,6 +55,7 @@
 #include <string>
 #include <vector>
 
+#include "fulcrum/calibration/calibration_defaults.hpp"
 #include "fulcrum/io/image.hpp"
 #include "fulcrum/robustness/analysis.hpp"
 
@@ -93,7 +100,11 @@ struct CalibrationOptions {
   std::uint64_t seed = 1;           // the galaxy seed (mock seeds derive from it)
   std::size_t n_draws = 2000;       // bootstrap draws per mock analysis (replaces chain.n_draws)
   bool refit_centre = true;         // re-fit the kinematic centre on the mocks
-  std::size_t refit_every = 1;      // re-fit on mocks with index % refit_every == 0
+  // Re-fit on mocks with index % refit_every == 0; the others adopt the true
+  // centre moved by a draw from the real fit's covariance. Without re-fits
+  // (refit_centre false, or no velocity map) every mock adopts the truth
+  // itself, with the real covariance.
+  std::size_t refit_every = kDefaultRefitEvery;
   double profile_bin_beams = 0.5;   // annulus width for the gas profile
   int secant_steps = 6;
   // The settings of the analysis being calibrated (bootstrap centres,
@@ -129,7 +140,7 @@ struct CalibrationSummary {
   int tuning_steps = 0;             // secant steps taken (at most secant_steps)
   bool tuning_converged = true;     // |achieved - target| <= kTuningTolerance
   Rate false_robust;                // valid symmetric mocks called robust or reversed
-  Rate recovery;                    // valid lopsided mocks called robust
+  Rate recovery;                    // valid lopsided mocks called robust (reversed when the measured A < 0)
   std::size_t symmetric_failures = 0, lopsided_failures = 0;  // re-fit failed or analysis threw
   double bias = 0.0, bias_err = 0.0;          // lopsided set: mean(measured - true)
   double bias_symmetric = 0.0, bias_symmetric_err = 0.0;

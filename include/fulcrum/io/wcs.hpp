@@ -17,6 +17,7 @@
 #include <cstddef>
 #include <memory>
 #include <string>
+#include <vector>
 
 struct wcsprm;
 
@@ -61,6 +62,15 @@ class CelestialWcs {
   PixelCoord world_to_pixel(WorldCoord w) const;
   // Many pixels at once (faster than one by one); x, y 0-based, n points.
   void pixels_to_world(const double* x, const double* y, std::size_t n, WorldCoord* out) const;
+  // The world positions of every pixel centre of an nx x ny grid (x
+  // fastest, pixels_to_world of the whole grid), kept for later calls:
+  // after keep_grid_world(nx, ny), kept_grid_world(nx, ny) returns them
+  // (else null) to this WCS and every copy of it, made before or after (a
+  // CelestialWcs never changes once made, so its copies share what is kept).
+  // For code that places many maps on one grid (the calibration mocks);
+  // thread-safe.
+  void keep_grid_world(int nx, int ny) const;
+  std::shared_ptr<const std::vector<WorldCoord>> kept_grid_world(int nx, int ny) const;
   // Header cards (80-char each, concatenated) describing this WCS for a 2-D
   // image, as written by wcslib's wcshdo. Used when writing outputs.
   std::string header_cards() const;
@@ -74,6 +84,8 @@ class CelestialWcs {
   };
   std::unique_ptr<wcsprm, Deleter> wcs_;
   std::string source_;
+  struct GridCache;
+  std::shared_ptr<GridCache> grid_cache_;  // shared by copies (see keep_grid_world)
 };
 
 }  // namespace fulcrum

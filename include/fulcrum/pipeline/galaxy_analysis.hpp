@@ -43,7 +43,7 @@ struct AnalysisOptions {
   bool figures = true;
   double error_ellipse_sigma = 2.0;   // figures draw centre errors at this many sigma
   int figure_grid = 160;              // resampled sky-map size (pixels per side, at most)
-  int calibrate = 0;                  // matched mocks per set for calibration/ (0: none)
+  int calibrate = calibration::kDefaultCalibrationMocks;  // matched mocks per set (0: no calibration)
   // Bootstrap centres drawn about the adopted centre only (default, DESIGN.md
   // section 5; the other estimates are the plausible centres of the verdict),
   // or, when true, from the mixture of the adopted centre and every

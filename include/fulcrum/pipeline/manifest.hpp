@@ -5,7 +5,8 @@
 //   name = "..."          # free text
 //   seed = 7              # optional; default 1
 //   draws = 20000         # optional; bootstrap draws per galaxy
-//   calibrate = 0         # optional; matched mocks per set for each galaxy (0: none)
+//   calibrate = 40        # optional; matched mocks per set for each galaxy
+//                         # (default calibration::kDefaultCalibrationMocks; 0: none)
 //   [[galaxy]]
 //   name = "..."
 //   velocity = "g1/vel.fits"
@@ -40,6 +41,7 @@
 #include <string>
 #include <vector>
 
+#include "fulcrum/calibration/calibration_defaults.hpp"
 #include "fulcrum/kinematics/kinematic_settings.hpp"
 #include "fulcrum/moments/moment_settings.hpp"
 #include "fulcrum/pipeline/input_settings.hpp"
@@ -85,7 +87,7 @@ struct SampleManifest {
   std::string name;
   std::uint64_t seed = 1;
   int draws = 20000;
-  int calibrate = 0;            // matched mocks per set (calibration/), 0: none
+  int calibrate = calibration::kDefaultCalibrationMocks;  // matched mocks per set (calibration/), 0: none
   std::vector<GalaxyInput> galaxies;
 };
 

@@ -41,6 +41,7 @@ struct RunOptions {
   bool figures = true;
   bool overwrite = false;     // --force
   std::optional<int> draws;   // overrides the manifest
+  std::optional<int> calibrate;  // matched mocks per set, overrides the manifest (0: off)
   std::optional<std::uint64_t> seed;
   bool bootstrap_from_estimates = false;  // AnalysisOptions::bootstrap_from_estimates
 };

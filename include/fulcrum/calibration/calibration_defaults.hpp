@@ -1,0 +1,24 @@
+// How much matched-mock calibration (calibration.hpp) a galaxy gets when
+// nobody says otherwise: the defaults of `fulcrum analyse --calibrate`, of
+// the manifest key `calibrate` (so of `fulcrum run` and `fulcrum demo`) and
+// of CalibrationOptions. 0 mocks turns the calibration off.
+//
+// Chosen so that the calibration adds a few CPU seconds to a galaxy of about
+// 200 x 200 pixels (docs/performance.md has the measured cost per mock): the
+// verdict's false-robust gate (robustness::apply_calibration, at most 5% of
+// the symmetric mocks called robust or reversed) is then read off this many
+// symmetric mocks, with a binomial resolution of 1 / kDefaultCalibrationMocks.
+#pragma once
+
+#include <cstddef>
+
+namespace fulcrum::calibration {
+
+inline constexpr int kDefaultCalibrationMocks = 40;  // per set (symmetric and lopsided)
+// The kinematic centre is re-fitted on every kDefaultRefitEvery-th mock (the
+// re-fit costs about 6 times the rest of a mock); the others adopt the true
+// centre moved by a draw from the real fit's covariance. The re-fitted
+// quarter measures the centre coverage and the re-fit failures.
+inline constexpr std::size_t kDefaultRefitEvery = 4;
+
+}  // namespace fulcrum::calibration
