@@ -22,7 +22,7 @@ calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMa
   in.galaxy = who;
   in.intensity = &*maps.intensity;
   in.intensity_error = maps.intensity_error ? &*maps.intensity_error : nullptr;
-  in.rms = s.input.rms.value_or(0.0);
+  in.rms = s.line_rms();
   in.clip_snr = s.input.clip_snr.value_or(0.0);  // the mocks are clipped as the data were
   // Clipped pixels blanked (NaN) rather than set to 0, when the map has blanks.
   in.clip_blank = in.clip_snr > 0.0 &&
