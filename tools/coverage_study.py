@@ -18,7 +18,7 @@ temporary folder, and prints one table row per preset:
 
 usage:
   /usr/bin/python3 tools/coverage_study.py --fulcrum build/fulcrum --n 40 --jobs 2 \
-      [--presets bright,faint,null,centre-trap] [--kinematics-only] [--json OUT.json]
+      [--presets bright,faint,null,centre-trap] [--kinematics-only] [--clip-snr 3] [--json OUT.json]
 
 The mocks are made by tests/python/mockgen.py (numpy/scipy/astropy), not by
 fulcrum. Nothing here is timed; it is a benchmark-sized study (minutes), and
@@ -123,7 +123,7 @@ def drop_islands(d, min_pixels):
 
 def one_realisation(args):
     """Generate, fit and analyse one realisation; returns a result dict."""
-    preset, seed, fulcrum, kin_only, draws, keep, islands = args
+    preset, seed, fulcrum, kin_only, draws, keep, islands, clip_snr, tail_err = args
     d = tempfile.mkdtemp(prefix=f"cov_{preset}_{seed}_")
     try:
         truth = mockgen.generate(preset, seed, d)
@@ -142,10 +142,12 @@ def one_realisation(args):
             out = os.path.join(d, "analysis")
             cmd = [fulcrum, "--quiet", "analyse", "--velocity", f"{d}/velocity.fits", "--velocity-error",
                    f"{d}/velocity_error.fits", "--intensity", f"{d}/intensity.fits", "--intensity-error",
-                   f"{d}/intensity_error.fits", "--tail-pa", str(truth["tail_pa_deg"]), "--tail-pa-err", "5",
+                   f"{d}/intensity_error.fits", "--tail-pa", str(truth["tail_pa_deg"]), "--tail-pa-err", str(tail_err),
                    "--seed", str(seed), "--draws", str(draws), "--no-figures", "--out", out]
             if preset == "centre-trap":
                 cmd += ["--optical", f"{d}/optical.fits"]
+            if clip_snr > 0:
+                cmd += ["--clip-snr", str(clip_snr)]
             run(cmd, log)
             rp = os.path.join(out, "report.json")
             if os.path.exists(rp):
@@ -221,6 +223,11 @@ def main(argv):
     ap.add_argument("--keep", action="store_true", help="keep the temporary folders")
     ap.add_argument("--drop-islands", type=int, default=0, metavar="PIX",
                     help="blank groups of fewer than PIX connected velocity pixels before fitting (0: off)")
+    ap.add_argument("--clip-snr", type=float, default=3.0,
+                    help="tell fulcrum analyse the maps are clipped at this S/N (mockgen clips at 3; 0: do not)")
+    ap.add_argument("--tail-pa-err", type=float, default=0.0,
+                    help="tail PA error given to fulcrum analyse, deg (0: the truth's tail PA is exact, so the "
+                         "interval of A is compared with A_expected at that angle)")
     ap.add_argument("--json", help="write the per-run results and the summary here")
     a = ap.parse_args(argv)
     if not os.access(a.fulcrum, os.X_OK):
@@ -231,7 +238,8 @@ def main(argv):
         if p not in mockgen.PRESETS:
             print(f"coverage_study.py: --presets: unknown preset '{p}'", file=sys.stderr)
             return 2
-    tasks = [(p, a.first_seed + i, os.path.abspath(a.fulcrum), a.kinematics_only, a.draws, a.keep, a.drop_islands)
+    tasks = [(p, a.first_seed + i, os.path.abspath(a.fulcrum), a.kinematics_only, a.draws, a.keep, a.drop_islands,
+              a.clip_snr, a.tail_pa_err)
              for p in presets for i in range(a.n)]
     with cf.ProcessPoolExecutor(max_workers=max(1, a.jobs)) as ex:
         results = list(ex.map(one_realisation, tasks))

@@ -50,7 +50,7 @@ inline std::vector<CLI::Option*> add_moment_options(CLI::App* cmd, MomentSetting
 // The inputs of one galaxy, as `analyse` and `calibrate` take them.
 struct GalaxyArgs {
   pipeline::GalaxyInput in;
-  double rms = 0.0, tail_pa = 0.0, tail_pa_err = 10.0, psf = 0.0;
+  double rms = 0.0, clip_snr = 0.0, tail_pa = 0.0, tail_pa_err = 10.0, psf = 0.0;
   std::vector<std::string> centre_from;
   std::vector<CLI::Option*> moment_options;
 
@@ -65,6 +65,9 @@ struct GalaxyArgs {
     auto* err = cmd->add_option("--intensity-error", in.intensity_error, "Per-pixel error of the intensity map (FITS)")
                     ->check(CLI::ExistingFile);
     cmd->add_option("--rms", rms, "One rms for every intensity pixel (map units), instead of an error map")->excludes(err);
+    cmd->add_option("--clip-snr", clip_snr,
+                    "The intensity map was clipped: pixels below this S/N were set to 0 or blanked (errors of A "
+                    "then include the clipping; default: not clipped)");
     cmd->add_option("--optical", in.optical, "Optical image for the photometric centres (FITS)")->check(CLI::ExistingFile);
     cmd->add_option("--optical-mask", in.optical_mask, "Mask of the optical image (non-zero: masked)")
         ->check(CLI::ExistingFile);
@@ -85,7 +88,7 @@ struct GalaxyArgs {
   // (--tail-pa or --tail-image) is required.
   void finish(CLI::App* cmd, bool need_tail) {
     if (!in.cube.empty()) {
-      for (const char* o : {"--velocity", "--velocity-error", "--intensity", "--intensity-error", "--rms"})
+      for (const char* o : {"--velocity", "--velocity-error", "--intensity", "--intensity-error", "--rms", "--clip-snr"})
         if (cmd->count(o))
           throw InputError("", std::string("--cube makes the velocity and intensity maps and their error maps: give "
                                            "either --cube or the maps, not both (got --cube and ") + o + ")");
@@ -99,6 +102,7 @@ struct GalaxyArgs {
       in.name = std::filesystem::path(in.cube.empty() ? in.intensity : in.cube).parent_path().filename().string();
     if (in.name.empty() || in.name == "." || in.name == "..") in.name = "galaxy";
     if (cmd->count("--rms")) in.rms = pipeline::setting::rms(rms);
+    if (cmd->count("--clip-snr")) in.clip_snr = pipeline::setting::clip_snr(clip_snr);
     if (cmd->count("--psf-fwhm")) in.psf_fwhm_arcsec = pipeline::setting::psf_fwhm_arcsec(psf);
     if (cmd->count("--tail-pa")) in.tail_pa_deg = pipeline::setting::tail_pa_deg(tail_pa);
     if (cmd->count("--tail-pa-err")) in.tail_pa_err_deg = pipeline::setting::tail_pa_err_deg(tail_pa_err);

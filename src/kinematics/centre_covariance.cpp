@@ -8,6 +8,7 @@
 #include <cmath>
 #include <numbers>
 
+#include "fulcrum/kinematics/beam_smearing.hpp"
 #include "fulcrum/kinematics/tilted_ring_model.hpp"
 
 namespace fulcrum::kinematics {
@@ -180,6 +181,49 @@ NormalSystem build_normal_system(const VelocitySamples& s, const GlobalFitSummar
   return ns;
 }
 
+// The non-zero entries (column, value) of sample i's Jacobian row.
+int row_entries(const NormalSystem& ns, const Row& r, bool radial, std::array<std::pair<int, double>, 9>& nz) {
+  int m = 0;
+  for (int q = 0; q < 5; ++q)
+    if (ns.gcol[q] >= 0) nz[m++] = {ns.gcol[q], r.geom[q]};
+  for (int t = 0; t < 2; ++t) {
+    const int k = r.node[t];
+    if (k < 0) continue;
+    if (ns.ncol[k] >= 0) nz[m++] = {ns.ncol[k], r.dvrot[t]};
+    if (radial && ns.rcol[k] >= 0) nz[m++] = {ns.rcol[k], r.dvrad[t]};
+  }
+  return m;
+}
+
+// A_s = J^T W S J (header): every free column of J on the smearing grid's
+// pixels, smeared like the model, read at the samples. Empty when the grid
+// does not match the samples.
+Eigen::MatrixXd smeared_normal_matrix(const NormalSystem& ns, const VelocitySamples& s,
+                                      const GlobalFitSummary& fit, const GeometryCovarianceOptions& opt) {
+  const SmearingGrid& g = *opt.smearing;
+  if (g.sample_pixel.size() != s.size() || !g.usable()) return {};
+  const std::size_t nb = g.east.size();
+  std::vector<std::vector<double>> col(ns.p, std::vector<double>(nb, 0.0));
+  std::array<std::pair<int, double>, 9> nz;
+  for (std::size_t b = 0; b < nb; ++b) {
+    const Row r = jacobian_row(fit.geometry, fit.nodes, g.east[b], g.north[b]);
+    const int m = row_entries(ns, r, opt.radial, nz);
+    for (int a = 0; a < m; ++a) col[nz[a].first][b] += nz[a].second;
+  }
+  Eigen::MatrixXd A = Eigen::MatrixXd::Zero(ns.p, ns.p);
+  for (int c = 0; c < ns.p; ++c) {
+    const std::vector<double> sm = smear_moment1(col[c], g.intensity, g.nx, g.ny, g.pixel_cov, g.wanted);
+    for (std::size_t i = 0; i < s.size(); ++i) {
+      if (!fit.used[i] || !(ns.w[i] > 0.0)) continue;
+      const std::size_t b = g.sample_pixel[i];
+      const double js = std::isfinite(sm[b]) ? sm[b] : col[c][b];  // no emission in reach: unsmeared
+      const int m = row_entries(ns, ns.rows[i], opt.radial, nz);
+      for (int a = 0; a < m; ++a) A(nz[a].first, c) += ns.w[i] * nz[a].second * js;
+    }
+  }
+  return A;
+}
+
 // v_i = sigma_i w_i J_i A^-1[:, geometry], in the 5-slot layout (zero for
 // fixed parameters and unused samples).
 std::vector<Eigen::Matrix<double, 5, 1>> influence(const NormalSystem& ns, const Eigen::MatrixXd& Ainv,
@@ -229,7 +273,23 @@ GeometryCovariance geometry_covariance(const VelocitySamples& s, const GlobalFit
   for (int a = 0; a < 5; ++a)
     for (int b = 0; b < 5; ++b)
       out.formal(a, b) = (ns.gcol[a] >= 0 && ns.gcol[b] >= 0) ? Ainv(ns.gcol[a], ns.gcol[b]) : 0.0;
-  const auto v = influence(ns, Ainv, s, fit.used, opt.radial);
+  // The bread: A^-1, or with the smearing correction G_K (header; not
+  // symmetric: influence() reads the columns of the matrix it is given, so it
+  // gets G_K^T, whose geometry columns are the geometry rows of G_K).
+  Eigen::MatrixXd bread = Ainv;
+  if (opt.smearing && opt.smearing_refits > 0) {
+    const Eigen::MatrixXd As = smeared_normal_matrix(ns, s, fit, opt);
+    if (As.size() > 0) {
+      const Eigen::MatrixXd M = Ainv * (As - ns.A);
+      Eigen::MatrixXd G = Ainv;
+      for (int k = 0; k < opt.smearing_refits; ++k) G = Ainv - M * G;
+      if (G.allFinite()) {
+        bread = G.transpose();
+        out.smeared_jacobian = true;
+      }
+    }
+  }
+  const auto v = influence(ns, bread, s, fit.used, opt.radial);
   // Residual correlation, then the residual scale. With noise correlated
   // over eta pixels each fitted parameter absorbs about eta pixels' worth of
   // residual variance (E sum r^2 ~ sigma^2 (N - p eta) for parameters whose

@@ -25,6 +25,7 @@ CentreErrorTerms centre_error_terms(const VelocitySamples& s, const GlobalFitSum
   t.correlation = gc.correlation;
   t.model_correlation_scale = gc.model_correlation_scale;
   t.effective_dof = gc.effective_dof;
+  t.smeared_jacobian = gc.smeared_jacobian;
   if (!gc.ok) {
     t.reason = "the residual covariance could not be computed (" + gc.reason + "): the formal one is kept";
     return t;
@@ -66,6 +67,7 @@ nlohmann::json to_json(const CentreErrorTerms& t) {
   j["residual_scale2"] = t.residual_scale2;
   j["residual_scale2_measured"] = t.residual_scale2_measured;
   j["residual_effective_dof"] = t.effective_dof;
+  j["smeared_jacobian"] = t.smeared_jacobian;
   j["residual_correlation"] = {
       {"measured", t.correlation.measured},
       {"fitted_beam_scale", t.correlation.fitted_scale},

@@ -72,8 +72,11 @@ nlohmann::json centre_json(const CentreEstimate& c) {
 // Replace the tilted-ring centre's covariance and the PA, inclination and
 // vsys errors by the residual-based ones plus the method spread
 // (centre_error_terms.hpp, docs/uncertainties.md).
-void apply_centre_error_terms(KinematicFit& fit, const VelocitySamples& fitted, const GlobalFitOptions& go) {
+void apply_centre_error_terms(KinematicFit& fit, const VelocitySamples& fitted, const GlobalFitOptions& go,
+                              const SmearingGrid* smearing) {
   GeometryCovarianceOptions co;
+  co.smearing = smearing;
+  co.smearing_refits = fit.beam_smearing.refits;
   co.weight_power = go.weight_power;
   co.fix_centre = go.fix_centre;
   co.fix_pa = go.fix_pa;
@@ -693,7 +696,8 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
     }
   }
   finish_centres(fit, s, corrected ? *corrected : s, wcs, opt, width, g.max_radius_arcsec);
-  if (opt.residual_covariance) apply_centre_error_terms(fit, corrected ? *corrected : s, go);
+  if (opt.residual_covariance)
+    apply_centre_error_terms(fit, corrected ? *corrected : s, go, corrected ? smearing : nullptr);
   if (opt.method == Method::harmonic) {
     if (!fit.harmonic_centre) {
       refuse(fit, "the harmonic centre failed: " + fit.harmonic_status);

@@ -16,6 +16,12 @@ double tail_pa_err_deg(double v) { return check_finite_in_range("tail_pa_err_deg
 
 double rms(double v) { return check_positive("rms", v, "(map units)"); }
 
+double clip_snr(double v) {
+  if (!(v > 0.0 && v <= 20.0))  // NaN fails too
+    throw SettingError("clip_snr", setting_value_text(v), "a finite number within (0, 20] (sigma)");
+  return v;
+}
+
 double psf_fwhm_arcsec(double v) { return check_positive("psf_fwhm_arcsec", v, "arcsec"); }
 
 double distance_mpc(double v) {

@@ -164,7 +164,7 @@ void read_kinematic_settings(const Ctx& c, const toml::node& n, kinematics::Kine
 GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasInput& defaults,
                         int table_line) {
   static const std::set<std::string> keys = [] {
-    std::set<std::string> k = {"name", "velocity", "velocity_error", "intensity", "intensity_error", "rms",
+    std::set<std::string> k = {"name", "velocity", "velocity_error", "intensity", "intensity_error", "rms", "clip_snr",
                                "optical", "optical_mask", "psf_fwhm_arcsec", "tail_pa_deg",
                                "tail_pa_err_deg", "tail_image", "distance_mpc", "seed", "cube", "moments",
                                "kinematics", "centre_from"};
@@ -195,6 +195,9 @@ GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasIn
     else if (key == "rms") {
       const double v = get_any_number(c, node, key);
       g.rms = checked(c, node, [&] { return setting::rms(v); });
+    } else if (key == "clip_snr") {
+      const double v = get_any_number(c, node, key);
+      g.clip_snr = checked(c, node, [&] { return setting::clip_snr(v); });
     } else if (key == "psf_fwhm_arcsec") {
       const double v = get_any_number(c, node, key);
       g.psf_fwhm_arcsec = checked(c, node, [&] { return setting::psf_fwhm_arcsec(v); });
@@ -234,7 +237,7 @@ GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasIn
   if (!g.cube.empty()) {
     // The cube makes the maps and their errors: one or the other. Name the
     // line of whichever key comes second.
-    for (const char* k : {"velocity", "velocity_error", "intensity", "intensity_error", "rms"})
+    for (const char* k : {"velocity", "velocity_error", "intensity", "intensity_error", "rms", "clip_snr"})
       if (key_line.count(k))
         fail(c, std::max(key_line[k], key_line["cube"]),
              "galaxy '" + g.name + "' gives both 'cube' (line " + std::to_string(key_line["cube"]) + ") and '" + k +

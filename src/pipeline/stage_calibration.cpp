@@ -1,5 +1,6 @@
 // The calibration stage: matched mocks of one galaxy from its typed summary
 // and the already-loaded maps (see include/fulcrum/pipeline/galaxy_stages.hpp).
+#include <algorithm>
 #include <cmath>
 
 #include "fulcrum/core/error.hpp"
@@ -22,6 +23,11 @@ calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMa
   in.intensity = &*maps.intensity;
   in.intensity_error = maps.intensity_error ? &*maps.intensity_error : nullptr;
   in.rms = s.line_rms();
+  in.clip_snr = s.input.clip_snr.value_or(0.0);  // the mocks are clipped as the data were
+  // Clipped pixels blanked (NaN) rather than set to 0, when the map has blanks.
+  in.clip_blank = in.clip_snr > 0.0 &&
+                  std::any_of(maps.intensity->data.begin(), maps.intensity->data.end(),
+                              [](double v) { return std::isnan(v); });
   in.velocity = maps.velocity ? &*maps.velocity : nullptr;
   in.velocity_error = maps.velocity_error ? &*maps.velocity_error : nullptr;
   in.centre = *rings;

@@ -37,6 +37,7 @@ robustness::AnalysisSummary measure_robustness(const GalaxyMaps& maps, const Gal
   if (s.aperture) ao.aperture = s.aperture->spec;
   ao.rms = s.line_rms();
   ao.error_map = maps.intensity_error ? &*maps.intensity_error : nullptr;
+  ao.clip_snr = s.input.clip_snr.value_or(0.0);
   ao.failures = s.failures;
   ao.settings = settings;
   return robustness::analyse(*maps.intensity, ao);

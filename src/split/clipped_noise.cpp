@@ -5,15 +5,22 @@
 #include <cmath>
 #include <numbers>
 
-#include "fulcrum/imaging/gaussian_smooth.hpp"
-#include "fulcrum/sky/pixel_offsets.hpp"
-
 namespace fulcrum::split {
+
+namespace {
+double upper_tail(double a) { return 0.5 * std::erfc(a / std::numbers::sqrt2); }
+double density(double a) { return std::exp(-0.5 * a * a) / std::sqrt(2.0 * std::numbers::pi); }
+}  // namespace
+
+double clipped_pixel_mean(double s, double sigma, double t) {
+  const double a = (t * sigma - s) / sigma;
+  return s * upper_tail(a) + sigma * density(a);
+}
 
 double clipped_pixel_variance(double s, double sigma, double t) {
   const double a = (t * sigma - s) / sigma;
-  const double Q = 0.5 * std::erfc(a / std::numbers::sqrt2);
-  const double phi = std::exp(-0.5 * a * a) / std::sqrt(2.0 * std::numbers::pi);
+  const double Q = upper_tail(a);
+  const double phi = density(a);
   const double m1 = s * Q + sigma * phi;
   const double m2 = (s * s + sigma * sigma) * Q + sigma * (s + t * sigma) * phi;
   // Never exactly zero: a pixel far below the threshold still carries a
@@ -21,25 +28,32 @@ double clipped_pixel_variance(double s, double sigma, double t) {
   return std::max(m2 - m1 * m1, 1e-12 * sigma * sigma);
 }
 
-Image clipped_error_map(const Image& map, const Image* error_map, double rms, double clip_snr) {
-  std::vector<double> plug = map.data;
-  if (map.beam && map.wcs.valid()) {
-    const Beam k{map.beam->bmaj_arcsec / std::numbers::sqrt2, map.beam->bmin_arcsec / std::numbers::sqrt2,
-                 map.beam->bpa_deg};
-    const PixelOffsets off(map, map.wcs.pixel_to_world({0.5 * (map.nx - 1), 0.5 * (map.ny - 1)}));
-    plug = convolve_gaussian(map.data, map.nx, map.ny, pixel_covariance(k, off.jacobian()));
+double brightness_of_clipped_mean(double mean, double sigma, double t) {
+  // E[M] grows monotonically with s (f is non-decreasing); bisection in
+  // units of sigma. Above t + 10 sigma the clipping no longer matters.
+  double lo = -10.0, hi = std::max(t + 10.0, mean / sigma + 1.0);
+  if (!(mean > clipped_pixel_mean(lo * sigma, sigma, t))) return lo * sigma;
+  if (mean / sigma >= t + 10.0) return mean;
+  for (int it = 0; it < 60 && hi - lo > 1e-6; ++it) {
+    const double mid = 0.5 * (lo + hi);
+    (clipped_pixel_mean(mid * sigma, sigma, t) < mean ? lo : hi) = mid;
   }
-  Image e = map.like(0.0);
-  e.path = "clip-aware errors of " + map.path;
-  for (std::size_t i = 0; i < map.size(); ++i) {
-    const double sig = error_map ? error_map->data[i] : rms;
-    if (!std::isfinite(map.data[i]) || !std::isfinite(sig) || !(sig > 0.0) || !std::isfinite(plug[i])) {
-      e.data[i] = std::nan("");
-      continue;
-    }
-    e.data[i] = std::sqrt(clipped_pixel_variance(plug[i], sig, clip_snr));
-  }
-  return e;
+  return 0.5 * (lo + hi) * sigma;
+}
+
+std::vector<double> clipped_hermite_coefficients(double s, double sigma, double t, int kmax) {
+  const double a = (t * sigma - s) / sigma;
+  const double Q = upper_tail(a);
+  const double phi = density(a);
+  // He_0 .. He_kmax at a: He_{k+1} = a He_k - k He_{k-1}.
+  std::vector<double> he(static_cast<std::size_t>(std::max(kmax, 1)) + 1);
+  he[0] = 1.0;
+  he[1] = a;
+  for (int k = 1; k < kmax; ++k) he[k + 1] = a * he[k] - k * he[k - 1];
+  std::vector<double> c(static_cast<std::size_t>(std::max(kmax, 0)));
+  if (kmax >= 1) c[0] = sigma * (t * phi + Q);
+  for (int k = 2; k <= kmax; ++k) c[k - 1] = (s * he[k - 1] + sigma * (he[k] + k * he[k - 2])) * phi;
+  return c;
 }
 
 }  // namespace fulcrum::split

@@ -10,7 +10,7 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/number_text.hpp"
 #include "fulcrum/core/log.hpp"
-#include "fulcrum/split/clipped_noise.hpp"
+#include "fulcrum/split/clipped_error_map.hpp"
 
 namespace fulcrum::split {
 
@@ -100,7 +100,11 @@ SplitProblem prepare_split(const Image& map, const SplitOptions& opt) {
       const double sig = opt.error_map ? opt.error_map->data[i] : opt.rms;
       if (!std::isfinite(map.data[i]) && std::isfinite(sig) && sig > 0.0) filled->data[i] = 0.0;
     }
-    clip_errors = clipped_error_map(*filled, opt.error_map, opt.rms, opt.clip_snr);
+    const double pixel_area = std::abs(offsets.jacobian().determinant());
+    const double eta = map.beam && map.beam->bmaj_arcsec > 0.0 && map.beam->bmin_arcsec > 0.0
+                           ? std::max(1.0, opt.noise_correlation_beams * map.beam->pixels_per_beam(pixel_area))
+                           : 1.0;
+    clip_errors = clipped_error_map(*filled, opt.error_map, opt.rms, opt.clip_snr, opt.noise_correlation_beams, eta);
     noise.error_map = &*clip_errors;
     pr.clip_snr = opt.clip_snr;
   }

@@ -75,7 +75,7 @@ TEST_CASE("a manifest resolves paths against its folder", "[pipeline]") {
 TEST_CASE("manifest errors name the file and the line", "[pipeline]") {
   std::string text = kGood;
   CHECK(error_of(text + "colour = \"red\"\n") ==
-        "/data/run/sample.toml: line 25: unknown key 'colour' in [[galaxy]] (known keys: alpha_co, centre_from, co_line, "
+        "/data/run/sample.toml: line 25: unknown key 'colour' in [[galaxy]] (known keys: alpha_co, centre_from, clip_snr, co_line, "
         "co_ratio_21, cube, distance_mpc, intensity, intensity_error, kinematics, moments, name, optical, optical_mask, "
         "psf_fwhm_arcsec, redshift, rms, seed, tail_image, tail_pa_deg, tail_pa_err_deg, velocity, velocity_error)");
   std::string wrong = text;
@@ -98,6 +98,20 @@ TEST_CASE("manifest errors name the file and the line", "[pipeline]") {
                  "intensity_error = \"e\"\ntail_pa_deg = 1\n")
             .find("choose one") != std::string::npos);
   REQUIRE_THROWS_AS(read_manifest("/nonexistent/sample.toml"), InputError);
+}
+
+TEST_CASE("manifest clip_snr: the clip level of the intensity map, checked", "[pipeline][clip]") {
+  const std::string head = "[[galaxy]]\nname = \"a\"\nvelocity = \"v\"\nintensity = \"m\"\ntail_pa_deg = 1\n";
+  auto m = parse_manifest(head + "clip_snr = 3\n", "s.toml");
+  REQUIRE(m.galaxies.size() == 1);
+  REQUIRE(m.galaxies[0].clip_snr);
+  CHECK(*m.galaxies[0].clip_snr == 3.0);
+  CHECK_FALSE(parse_manifest(head, "s.toml").galaxies[0].clip_snr);  // absent: not clipped
+  for (const char* bad : {"clip_snr = 0\n", "clip_snr = -3\n", "clip_snr = 25\n", "clip_snr = nan\n"})
+    CHECK(error_of(head + bad).find("line 6: clip_snr = ") != std::string::npos);
+  CHECK(error_of(head + "clip_snr = \"3\"\n").find("'clip_snr' must be a number") != std::string::npos);
+  CHECK(error_of("[[galaxy]]\nname = \"c\"\ncube = \"c.fits\"\ntail_pa_deg = 1\nclip_snr = 3\n")
+            .find("gives both 'cube'") != std::string::npos);
 }
 
 TEST_CASE("shards partition the sample and --only selects by name", "[pipeline]") {

@@ -36,6 +36,22 @@
 // exact in the node speeds) at the final geometry, with the weights of the
 // final geometry; robust-loss reweighting is not included. Units: arcsec,
 // degrees, km/s.
+//
+// With the beam-smearing correction (beam_smearing.hpp) the fit is the fixed
+// point of refits to v - Delta(p), Delta = S m - m with S the (linear)
+// moment-1 smearing, i.e. J^T W (v - S m(p)) = 0. A change dv then moves the
+// parameters by dp = (J^T W S J)^-1 J^T W dv: the bread of the sandwich is
+// A_s = J^T W J_s with J_s = S J, each Jacobian column evaluated on the
+// smearing grid and smeared like the model (the smearing flattens the
+// velocity gradients that fix the centre, so A_s is "smaller" than A and the
+// covariance larger), and Cov(p) = A_s^-1 J^T W S W J A_s^-T at the fixed
+// point. The fit stops after K refits, though (beam_smearing.refits), and the
+// noise sensitivity of K refits is not that of the fixed point: linearised,
+// dp_0 = A^-1 J^T W dv (the uncorrected fit) and dp_{k+1} = A^-1 J^T W (dv -
+// (S - I) J dp_k), so dp_K = G_K J^T W dv with
+//     G_0 = A^-1,   G_{k+1} = A^-1 - M G_k,   M = A^-1 (A_s - A),
+// the partial sums of the series whose limit is A_s^-1. The bread is G_K:
+// the covariance of the estimator as it was computed.
 #pragma once
 
 #include <Eigen/Core>
@@ -46,11 +62,17 @@
 
 namespace fulcrum::kinematics {
 
+struct SmearingGrid;  // beam_smearing.hpp
+
 struct GeometryCovarianceOptions {
   double weight_power = 1.0;
   bool fix_centre = false, fix_pa = false, fix_inc = false, fix_vsys = false;
   bool radial = false;           // the fit has radial speeds per node
   double reach_sigma = 4.0;      // neighbour sums out to this many correlation sigmas
+  // The beam-smearing correction was applied on this grid (its samples are
+  // the fitted samples, in order): the bread uses the smeared Jacobian.
+  const SmearingGrid* smearing = nullptr;
+  int smearing_refits = 0;       // K, the refits the correction made
   ResidualCorrelationOptions correlation;
 };
 
@@ -68,6 +90,7 @@ struct GeometryCovariance {
   ResidualCorrelation correlation; // measured on the residuals
   double model_correlation_scale = 1.0;  // s of the noise model (sqrt 2)
   int n_used = 0, n_parameters = 0;
+  bool smeared_jacobian = false;   // the bread is J^T W S J (beam-smearing correction)
   // The model_misfit part of `total` (total - statistical, negative part dropped), 2x2 centre.
   Eigen::Matrix2d centre_misfit() const;
 };

@@ -34,6 +34,7 @@ namespace fulcrum::pipeline::setting {
 double tail_pa_deg(double v);          // finite, within [-720, 720]; returned in [0, 360)
 double tail_pa_err_deg(double v);      // [0, 90]: 0 holds the tail direction fixed
 double rms(double v);                  // > 0, map units
+double clip_snr(double v);             // (0, 20]: S/N below which the intensity map was clipped
 double psf_fwhm_arcsec(double v);      // > 0 (never silently replaced)
 double distance_mpc(double v);         // (0, 1e5]
 std::uint64_t seed(std::int64_t v);    // [0, 2^53)

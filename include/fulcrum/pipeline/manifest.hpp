@@ -67,6 +67,9 @@ struct GalaxyInput {
   std::string intensity;
   std::string intensity_error;  // optional (or rms)
   std::optional<double> rms;
+  // The intensity map was clipped: pixels below clip_snr x their 1-sigma error
+  // were set to 0 or blanked (split/clipped_error_map.hpp). Empty: not clipped.
+  std::optional<double> clip_snr;
   std::string optical;          // optional
   std::string optical_mask;     // optional
   std::optional<double> psf_fwhm_arcsec;

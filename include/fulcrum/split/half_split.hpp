@@ -25,9 +25,11 @@
 //   sigma_A^2 = 4 (T^2 sigma_L^2 + L^2 sigma_T^2) / (L + T)^4.
 // A clipped map (SplitOptions::clip_snr > 0: pixels below clip_snr sigma were
 // set to 0 or blanked) is not linear in its noise: each pixel's sigma^2 is
-// replaced by the variance of a clipped pixel (clipped_noise.hpp) before
-// anything else, and blank pixels whose error is known count as clipped
-// pixels of value 0 (they could have been kept, so they carry noise too).
+// replaced by its share of the clipped map's correlated variance divided by
+// the factor above (clipped_error_map.hpp), so that factor x the channel's
+// sum is the variance of a half; blank pixels whose error is known count as
+// clipped pixels of value 0 (they could have been kept, so they carry noise
+// too).
 #pragma once
 
 #include <nlohmann/json.hpp>
