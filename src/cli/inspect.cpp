@@ -2,7 +2,7 @@
 #include <iostream>
 #include <memory>
 
-#include "fulcrum/io/inspect.hpp"
+#include "fulcrum/imaging/inspect.hpp"
 #include "subcommand.hpp"
 
 namespace {

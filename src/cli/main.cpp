@@ -9,6 +9,7 @@
 #include <glog/logging.h>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/log.hpp"
 #include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
@@ -58,6 +59,8 @@ int main(int argc, char** argv) {
       "split angle must move to reverse the result.\nRun `fulcrum demo` for a worked example, "
       "`fulcrum <command> --help` for each step."};
   app.require_subcommand(1);
+  // Library messages name settings; on the command line they are flags.
+  set_message_wording([](const std::string& m) { return cli::with_flags(m); });
   app.set_version_flag("--version", std::string("fulcrum ") + version_string());
   auto& flags = cli::global_flags();
   app.add_flag("-q,--quiet", flags.quiet, "No progress lines; warnings and errors only")
@@ -100,7 +103,7 @@ int main(int argc, char** argv) {
     std::cerr << "fulcrum: " << e.message_as(cli::setting_flag(e.setting())) << "\n";
     return 2;
   } catch (const InputError& e) {
-    std::cerr << "fulcrum: " << e.what() << "\n";
+    std::cerr << "fulcrum: " << cli::with_flags(e.what()) << "\n";
     return 2;
   } catch (const InternalError& e) {
     std::cerr << "fulcrum: " << e.what() << " (please report this)\n";

@@ -5,6 +5,7 @@
 #pragma once
 
 #include <map>
+#include <regex>
 #include <string>
 
 namespace fulcrum::cli {
@@ -20,12 +21,28 @@ inline std::string setting_flag(const std::string& setting) {
       {"half_width_arcsec", "--half-width"},
       {"angle_half_width_deg", "--angle-half-width"},
       {"angle_step_deg", "--angle-step"},
+      {"overwrite", "--force"},
   };
   if (auto it = renamed.find(setting); it != renamed.end()) return it->second;
   std::string flag = "--" + setting;
   for (char& ch : flag)
     if (ch == '_') ch = '-';
   return flag;
+}
+
+// The message with every setting named by setting_ref() ("`psf_fwhm_arcsec`")
+// shown as its flag ("--psf-fwhm").
+inline std::string with_flags(const std::string& message) {
+  static const std::regex named("`([a-z][a-z0-9_]*)`");
+  std::string out;
+  auto last = message.cbegin();
+  for (std::sregex_iterator it(message.begin(), message.end(), named), end; it != end; ++it) {
+    out.append(last, (*it)[0].first);
+    out += setting_flag((*it)[1].str());
+    last = (*it)[0].second;
+  }
+  out.append(last, message.cend());
+  return out;
 }
 
 }  // namespace fulcrum::cli

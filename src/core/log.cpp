@@ -5,26 +5,32 @@
 #include <atomic>
 #include <cstdio>
 #include <mutex>
+#include <string>
 
 namespace fulcrum {
 
 namespace {
 std::atomic<bool> g_quiet{false};
 std::mutex g_mutex;
+std::string (*g_reword)(const std::string&) = nullptr;
+
+std::string worded(const std::string& message) { return g_reword ? g_reword(message) : message; }
 }  // namespace
+
+void set_message_wording(std::string (*reword)(const std::string&)) { g_reword = reword; }
 
 void set_quiet(bool q) { g_quiet = q; }
 bool quiet() { return g_quiet; }
 
 void warn(const std::string& message) {
   std::lock_guard<std::mutex> lock(g_mutex);
-  std::fprintf(stderr, "fulcrum: warning: %s\n", message.c_str());
+  std::fprintf(stderr, "fulcrum: warning: %s\n", worded(message).c_str());
 }
 
 void note(const std::string& message) {
   if (g_quiet) return;
   std::lock_guard<std::mutex> lock(g_mutex);
-  std::fprintf(stderr, "%s\n", message.c_str());
+  std::fprintf(stderr, "%s\n", worded(message).c_str());
 }
 
 Progress::Progress(std::string label, std::size_t total)

@@ -7,6 +7,8 @@
 
 namespace fulcrum {
 
+std::string setting_ref(std::string_view setting) { return "`" + std::string(setting) + "`"; }
+
 namespace {
 
 std::string problem_text(const std::string& name, const std::string& value, const std::string& rule) {

@@ -1,5 +1,6 @@
 // Per-pixel noise of a line map from its emission-free pixels (see
 // noise_estimate.hpp).
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/imaging/noise_estimate.hpp"
 
 #include <algorithm>
@@ -55,16 +56,10 @@ double grow_radius_pixels(const Image& map, double beams) {
   return std::max(1.0, beams * map.beam->bmaj_arcsec / off.pixel_scale_arcsec());
 }
 
-std::string fmt(double v) {
-  char b[40];
-  std::snprintf(b, sizeof b, "%.4g", v);
-  return b;
-}
-
 }  // namespace
 
 std::string NoiseEstimate::sentence(const std::string& unit) const {
-  return "noise estimated from " + std::to_string(pixels_used) + " emission-free pixels: rms = " + fmt(rms) +
+  return "noise estimated from " + std::to_string(pixels_used) + " emission-free pixels: rms = " + significant_text(rms, 4) +
          (unit.empty() ? "" : " " + unit);
 }
 
@@ -94,7 +89,7 @@ NoiseEstimate estimate_map_noise(const Image& map, const NoiseEstimateOptions& o
     return r;
   }
   if (!(s > 0.0)) {
-    r.reason = "the emission-free pixels are all equal (" + fmt(m) +
+    r.reason = "the emission-free pixels are all equal (" + significant_text(m, 4) +
                "): the map carries no noise outside its emission (a masked moment map?)";
     return r;
   }
@@ -113,7 +108,7 @@ NoiseEstimate estimate_map_noise(const Image& map, const NoiseEstimateOptions& o
   r.rms_negative_side = nn ? std::sqrt(ss / nn / (1.0 - 2.0 * k * phi / cdf2)) : 0.0;
   const double ratio = r.rms_negative_side / r.rms;
   if (!(ratio >= 0.8 && ratio <= 1.25))
-    r.check = "the negative-side rms (" + fmt(r.rms_negative_side) + ") differs from the MAD rms (" + fmt(r.rms) +
+    r.check = "the negative-side rms (" + significant_text(r.rms_negative_side, 4) + ") differs from the MAD rms (" + significant_text(r.rms, 4) +
               "): the noise is not Gaussian or emission remains";
   r.ok = true;
   return r;

@@ -1,6 +1,7 @@
 // FITS images and cubes through CFITSIO, read as delivered: plain, gzip-
 // compressed (.fits.gz) and tile-compressed (fpack) files alike, with the
 // missing-value conventions found in real data products (missing_values.hpp).
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/io/fits_image.hpp"
 
 #include <fitsio.h>
@@ -202,7 +203,7 @@ RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt
     if (static_cast<std::size_t>(a) > limit / n || a > std::numeric_limits<int>::max())
       throw InputError(name, "image of " + shape + " pixels is above the limit of " +
                                  std::to_string(limit) +
-                                 " pixels (raise it with --max-pixels or FULCRUM_MAX_PIXELS)");
+                                 " pixels (raise it with " + setting_ref("max_pixels") + " or FULCRUM_MAX_PIXELS)");
     n *= static_cast<std::size_t>(a);
   }
   r.header = read_header(f, name);

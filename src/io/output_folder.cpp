@@ -1,5 +1,6 @@
 // Output folders: refuse to overwrite without --force, clean up after a
 // failed run (see include/fulcrum/io/output_folder.hpp).
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/io/output_folder.hpp"
 
 #include <fstream>
@@ -38,8 +39,8 @@ PreparedFolder prepare_output_folder(const std::string& path, bool force) {
     auto files = files_in(out.path);
     const bool interrupted = files.count(kIncompleteMarker) > 0;
     if (!files.empty() && !interrupted && !force)
-      throw InputError(path, "output folder exists and holds files; use --force to write into it, "
-                             "or choose another folder");
+      throw InputError(path, "output folder exists and holds files; allow overwriting (" + setting_ref("overwrite") +
+                                 ") or choose another folder");
     if (::access(path.c_str(), W_OK) != 0)
       throw InputError(path, "output folder is not writable");
     return out;

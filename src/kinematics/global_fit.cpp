@@ -176,6 +176,256 @@ void guess_speeds(const VelocitySamples& s, Parameters& p, const std::vector<dou
   }
 }
 
+// The starting parameters: the start geometry (inclination inside the
+// allowed range) and node speeds given or guessed.
+Parameters initial_parameters(const VelocitySamples& s, const DiscGeometry& start, const GlobalFitOptions& opt,
+                              const std::vector<double>& node_r) {
+  const int N = static_cast<int>(node_r.size()) - 1;
+  Parameters p;
+  p.centre[0] = start.centre.east;
+  p.centre[1] = start.centre.north;
+  p.pa = start.pa_deg * kRad;
+  p.inc = std::clamp(start.inc_deg, opt.min_inc_deg, opt.max_inc_deg) * kRad;
+  p.vsys = start.vsys_kms;
+  p.vrot.assign(N + 1, 0.0);
+  p.vrad.assign(N + 1, 0.0);
+  if (static_cast<int>(opt.start_vrot.size()) == N) {
+    for (int k = 1; k <= N; ++k) p.vrot[k] = opt.start_vrot[k - 1];
+    if (static_cast<int>(opt.start_vrad.size()) == N)
+      for (int k = 1; k <= N; ++k) p.vrad[k] = opt.start_vrad[k - 1];
+  } else {
+    guess_speeds(s, p, node_r);
+  }
+  return p;
+}
+
+// Robust (Huber or Cauchy) weights from the normalised residuals of the
+// used samples, their scale 1.4826 x the median |residual| x loss_scale.
+void update_robust_weights(const GlobalFitOptions& opt, const std::vector<int>& bracket,
+                           const std::vector<double>& norm_resid, std::vector<double>& robust) {
+  std::vector<double> a;
+  for (std::size_t i = 0; i < bracket.size(); ++i)
+    if (bracket[i] >= 0) a.push_back(std::abs(norm_resid[i]));
+  const double scale = std::max(1e-12, 1.4826 * median_abs(a)) * opt.loss_scale;
+  for (std::size_t i = 0; i < bracket.size(); ++i) {
+    const double u = std::abs(norm_resid[i]) / scale;
+    robust[i] = opt.loss == RobustLoss::huber ? (u <= 1 ? 1.0 : 1.0 / u) : 1.0 / (1.0 + u * u);
+  }
+}
+
+// The samples of one pass, grouped by the ring pair (lower node) that
+// brackets them under the current geometry.
+struct Selection {
+  std::vector<std::unique_ptr<PixelGroup>> groups;
+  std::vector<int> group_node;  // lower node of each group
+  std::vector<int> bracket;     // per sample: lower node, or -1 when not used
+};
+
+Selection select_samples(const VelocitySamples& s, const Parameters& p, const GlobalFitOptions& opt,
+                         const std::vector<double>& node_r, const std::vector<double>& robust) {
+  const int N = static_cast<int>(node_r.size()) - 1;
+  const double w = opt.ring_width_arcsec;
+  const double sin_wedge = std::sin(std::clamp(opt.wedge_deg, 0.0, 89.0) * kRad);
+  Selection sel;
+  sel.bracket.assign(s.size(), -1);
+  std::vector<PixelGroup*> by_node(N, nullptr);
+  for (std::size_t i = 0; i < s.size(); ++i) {
+    const SampleState st = disc_state(p, s.east[i], s.north[i]);
+    if (!(st.R > opt.min_radius_arcsec) || st.R > node_r[N] || std::abs(st.cos_t) < sin_wedge) continue;
+    const int k = std::min(N - 1, static_cast<int>(st.R / w));
+    sel.bracket[i] = k;
+    if (!by_node[k]) {
+      sel.groups.push_back(std::make_unique<PixelGroup>());
+      sel.group_node.push_back(k);
+      by_node[k] = sel.groups.back().get();
+    }
+    PixelGroup& g = *by_node[k];
+    g.east.push_back(s.east[i]);
+    g.north.push_back(s.north[i]);
+    g.velocity.push_back(s.velocity[i]);
+    const double wt = std::pow(std::abs(st.cos_t), opt.weight_power) * robust[i];
+    g.scale.push_back(std::sqrt(wt) / s.sigma[i]);
+    g.index.push_back(i);
+  }
+  return sel;
+}
+
+// The least-squares problem of one pass: one residual block per ring pair,
+// node 0 held at zero, held parameters constant, the priors added.
+std::unique_ptr<ceres::Problem> build_problem(const Selection& sel, Parameters& p, const GlobalFitOptions& opt,
+                                              const std::vector<double>& node_r, bool hold_inc) {
+  const bool radial = opt.fit_radial;
+  auto problem = std::make_unique<ceres::Problem>();
+  for (std::size_t gi = 0; gi < sel.groups.size(); ++gi) {
+    const int k = sel.group_node[gi];
+    auto* cf = new RingPairCostFunction(sel.groups[gi].get(), node_r[k], node_r[k + 1], radial);
+    if (radial)
+      problem->AddResidualBlock(cf, nullptr, p.centre, &p.pa, &p.inc, &p.vsys, &p.vrot[k], &p.vrot[k + 1],
+                                &p.vrad[k], &p.vrad[k + 1]);
+    else
+      problem->AddResidualBlock(cf, nullptr, p.centre, &p.pa, &p.inc, &p.vsys, &p.vrot[k], &p.vrot[k + 1]);
+  }
+  if (problem->HasParameterBlock(&p.vrot[0])) problem->SetParameterBlockConstant(&p.vrot[0]);
+  if (radial && problem->HasParameterBlock(&p.vrad[0])) problem->SetParameterBlockConstant(&p.vrad[0]);
+  if (opt.fix_centre) problem->SetParameterBlockConstant(p.centre);
+  if (opt.fix_pa) problem->SetParameterBlockConstant(&p.pa);
+  if (opt.fix_vsys) problem->SetParameterBlockConstant(&p.vsys);
+  if (hold_inc) problem->SetParameterBlockConstant(&p.inc);
+  add_priors(*problem, p, opt);
+  return problem;
+}
+
+// Levenberg-Marquardt settings: the final pass converges tightly, earlier
+// passes (which only fix the selection) stop at a looser tolerance.
+ceres::Solver::Options solver_options(const GlobalFitOptions& opt, bool final_pass) {
+  ceres::Solver::Options so;
+  so.minimizer_type = ceres::TRUST_REGION;
+  so.trust_region_strategy_type = ceres::LEVENBERG_MARQUARDT;
+  so.linear_solver_type = ceres::SPARSE_NORMAL_CHOLESKY;
+  so.max_num_iterations = opt.max_iterations;
+  so.function_tolerance = final_pass ? opt.function_tolerance : 1e-6;
+  so.parameter_tolerance = final_pass ? opt.parameter_tolerance : 1e-6;
+  so.gradient_tolerance = final_pass ? opt.gradient_tolerance : 1e-10;
+  so.num_threads = 1;
+  so.logging_type = ceres::SILENT;
+  so.minimizer_progress_to_stdout = false;
+  return so;
+}
+
+// The parameter vector (ce, cn, pa, inc, vsys, vrot[1..N], vrad[1..N] when
+// radial), as RecordedProblem stores it.
+std::vector<double> parameter_vector(const Parameters& p, int N, bool radial) {
+  std::vector<double> v = {p.centre[0], p.centre[1], p.pa, p.inc, p.vsys};
+  for (int k = 1; k <= N; ++k) v.push_back(p.vrot[k]);
+  if (radial)
+    for (int k = 1; k <= N; ++k) v.push_back(p.vrad[k]);
+  return v;
+}
+
+// Scaled covariance of the geometry (ce, cn, pa, inc, vsys; deg for angles)
+// and the node speed errors, from Ceres. Leaves covariance_ok false (and
+// says so in the message) when the problem is rank deficient.
+void fill_covariance(GlobalFitSummary& out, ceres::Problem& problem, Parameters& p, const GlobalFitOptions& opt,
+                     int N) {
+  const bool radial = opt.fit_radial;
+  ceres::Covariance::Options co;
+  co.algorithm_type = ceres::SPARSE_QR;
+  co.num_threads = 1;
+  ceres::Covariance cov(co);
+  std::vector<const double*> blocks;
+  if (!opt.fix_centre) blocks.push_back(p.centre);
+  if (!opt.fix_pa) blocks.push_back(&p.pa);
+  if (!opt.fix_inc) blocks.push_back(&p.inc);
+  if (!opt.fix_vsys) blocks.push_back(&p.vsys);
+  std::vector<int> node_blocks;
+  for (int k = 1; k <= N; ++k)
+    if (problem.HasParameterBlock(&p.vrot[k])) {
+      blocks.push_back(&p.vrot[k]);
+      node_blocks.push_back(k);
+    }
+  if (radial)
+    for (int k = 1; k <= N; ++k)
+      if (problem.HasParameterBlock(&p.vrad[k])) blocks.push_back(&p.vrad[k]);
+  bool cov_ok = false;
+  {
+    const QuietSolverLog quiet;  // the failure is reported in the summary, not by the solver
+    cov_ok = cov.Compute(blocks, &problem);
+  }
+  const int np = static_cast<int>(blocks.size());
+  std::vector<int> offset(np + 1, 0);
+  for (int b = 0; b < np; ++b) offset[b + 1] = offset[b] + problem.ParameterBlockSize(blocks[b]);
+  const int dim = offset[np];
+  std::vector<double> full(static_cast<std::size_t>(dim) * dim);
+  if (cov_ok && cov.GetCovarianceMatrix(blocks, full.data())) {
+    auto at = [&](int i, int j) { return full[static_cast<std::size_t>(i) * dim + j]; };
+    // Map the geometry rows (present ones) into the 5x5 (ce, cn, pa, inc, vsys).
+    std::vector<int> where(5, -1);  // index in `full` of each of the 5
+    int b = 0;
+    if (!opt.fix_centre) { where[0] = offset[b]; where[1] = offset[b] + 1; ++b; }
+    if (!opt.fix_pa) { where[2] = offset[b]; ++b; }
+    if (!opt.fix_inc) { where[3] = offset[b]; ++b; }
+    if (!opt.fix_vsys) { where[4] = offset[b]; ++b; }
+    const double unit[5] = {1.0, 1.0, 1.0 / kRad, 1.0 / kRad, 1.0};
+    const double f = out.scaling.factor();
+    for (int i = 0; i < 5; ++i)
+      for (int j = 0; j < 5; ++j)
+        out.covariance(i, j) =
+            (where[i] >= 0 && where[j] >= 0) ? at(where[i], where[j]) * unit[i] * unit[j] * f : 0.0;
+    for (std::size_t q = 0; q < node_blocks.size(); ++q, ++b)
+      out.nodes[node_blocks[q] - 1].vrot_err_kms = std::sqrt(at(offset[b], offset[b]) * f);
+    if (radial)
+      for (int k = 1; k <= N; ++k)
+        if (problem.HasParameterBlock(&p.vrad[k])) {
+          out.nodes[k - 1].vrad_err_kms = std::sqrt(at(offset[b], offset[b]) * f);
+          ++b;
+        }
+    out.covariance_ok = out.covariance.allFinite();
+  }
+  if (!out.covariance_ok) out.message += " (covariance could not be computed: the problem is rank deficient)";
+}
+
+// Fit statistics, geometry and the node table of the solved problem.
+void fill_solution(GlobalFitSummary& out, const VelocitySamples& s, const Parameters& p, const ceres::Problem& problem,
+                   const GlobalFitOptions& opt, const std::vector<double>& node_r, const std::vector<int>& bracket) {
+  const int N = static_cast<int>(node_r.size()) - 1;
+  const bool radial = opt.fit_radial;
+  const std::size_t n = s.size();
+  out.used.assign(n, 0);
+  double ss = 0;
+  for (std::size_t i = 0; i < n; ++i)
+    if (bracket[i] >= 0) {
+      out.used[i] = 1;
+      const double r = s.velocity[i] - model_of(p, node_r, s.east[i], s.north[i], bracket[i]);
+      ss += r * r;
+    }
+  out.residual_rms_kms = out.n_used > 0 ? std::sqrt(ss / out.n_used) : 0.0;
+  int np = (opt.fix_centre ? 0 : 2) + (opt.fix_pa ? 0 : 1) + (opt.fix_inc ? 0 : 1) + (opt.fix_vsys ? 0 : 1);
+  for (int k = 1; k <= N; ++k) {
+    np += problem.HasParameterBlock(&p.vrot[k]) ? 1 : 0;
+    np += radial && problem.HasParameterBlock(&p.vrad[k]) ? 1 : 0;
+  }
+  out.n_parameters = np;
+  out.geometry.centre = {p.centre[0], p.centre[1]};
+  out.geometry.pa_deg = wrap_pa_deg(p.pa / kRad);
+  out.geometry.inc_deg = p.inc / kRad;
+  out.geometry.vsys_kms = p.vsys;
+
+  out.nodes.resize(N);
+  for (int k = 1; k <= N; ++k) {
+    out.nodes[k - 1].radius_arcsec = node_r[k];
+    out.nodes[k - 1].vrot_kms = p.vrot[k];
+    out.nodes[k - 1].vrad_kms = p.vrad[k];
+    out.nodes[k - 1].vrot_err_kms = std::numeric_limits<double>::quiet_NaN();
+    out.nodes[k - 1].vrad_err_kms = radial ? std::numeric_limits<double>::quiet_NaN() : 0.0;
+  }
+  for (std::size_t i = 0; i < n; ++i)
+    if (bracket[i] >= 0) {
+      if (bracket[i] >= 1) out.nodes[bracket[i] - 1].n_pixels++;
+      out.nodes[bracket[i]].n_pixels++;
+    }
+}
+
+// The final pass's problem as data, for checks against an outside solver.
+RecordedProblem recorded_problem(const Selection& sel, const std::vector<double>& node_r, bool radial,
+                                 std::vector<double> start, std::vector<double> solution) {
+  RecordedProblem r;
+  r.radial = radial;
+  r.node_radius = node_r;
+  for (std::size_t gi = 0; gi < sel.groups.size(); ++gi) {
+    const PixelGroup& g = *sel.groups[gi];
+    for (std::size_t i = 0; i < g.size(); ++i) {
+      r.east.push_back(g.east[i]);
+      r.north.push_back(g.north[i]);
+      r.velocity.push_back(g.velocity[i]);
+      r.scale.push_back(g.scale[i]);
+      r.bracket.push_back(sel.group_node[gi]);
+    }
+  }
+  r.start = std::move(start);
+  r.solution = std::move(solution);
+  return r;
+}
+
 }  // namespace
 
 double rotation_at(const std::vector<RingNode>& nodes, double R, bool radial) {
@@ -216,291 +466,70 @@ GlobalFitSummary fit_global_rings(const VelocitySamples& s, const DiscGeometry& 
   }
   std::vector<double> node_r(N + 1);
   for (int k = 0; k <= N; ++k) node_r[k] = k * w;
+  Parameters p = initial_parameters(s, start, opt, node_r);
 
-  Parameters p;
-  p.centre[0] = start.centre.east;
-  p.centre[1] = start.centre.north;
-  p.pa = start.pa_deg * kRad;
-  p.inc = std::clamp(start.inc_deg, opt.min_inc_deg, opt.max_inc_deg) * kRad;
-  p.vsys = start.vsys_kms;
-  p.vrot.assign(N + 1, 0.0);
-  p.vrad.assign(N + 1, 0.0);
-  if (static_cast<int>(opt.start_vrot.size()) == N) {
-    for (int k = 1; k <= N; ++k) p.vrot[k] = opt.start_vrot[k - 1];
-    if (static_cast<int>(opt.start_vrad.size()) == N)
-      for (int k = 1; k <= N; ++k) p.vrad[k] = opt.start_vrad[k - 1];
-  } else {
-    guess_speeds(s, p, node_r);
-  }
-
+  // Passes: select the samples and weight them under the current geometry,
+  // solve, repeat until the geometry and the selection settle.
   const std::size_t n = s.size();
-  std::vector<int> bracket(n, -1);
-  std::vector<double> robust(n, 1.0);
-  std::vector<double> norm_resid(n, 0.0);
-  const double sin_wedge = std::sin(std::clamp(opt.wedge_deg, 0.0, 89.0) * kRad);
   const bool radial = opt.fit_radial;
   const int max_passes = std::max(1, opt.max_passes);
-  std::vector<std::unique_ptr<PixelGroup>> groups;
-  std::vector<int> group_node;  // lower node of each group
-  std::vector<double> pass_start;
+  std::vector<double> robust(n, 1.0), norm_resid(n, 0.0), pass_start;
+  Selection sel;
+  sel.bracket.assign(n, -1);
   double prev_moved = std::numeric_limits<double>::infinity();
-  bool done = false;
   ceres::Solver::Summary last_summary;
   std::unique_ptr<ceres::Problem> problem;
-
   for (int pass = 0; pass < max_passes; ++pass) {
     const bool hold_inc = opt.fix_inc || (pass == 0 && max_passes > 2 && opt.hold_inc_first_pass);
-    // (1) Selection, brackets, weights from the current geometry.
-    if (opt.loss != RobustLoss::none && pass > 0) {
-      std::vector<double> a;
-      for (std::size_t i = 0; i < n; ++i)
-        if (bracket[i] >= 0) a.push_back(std::abs(norm_resid[i]));
-      const double scale = std::max(1e-12, 1.4826 * median_abs(a)) * opt.loss_scale;
-      for (std::size_t i = 0; i < n; ++i) {
-        const double u = std::abs(norm_resid[i]) / scale;
-        robust[i] = opt.loss == RobustLoss::huber ? (u <= 1 ? 1.0 : 1.0 / u) : 1.0 / (1.0 + u * u);
-      }
-    }
-    std::vector<std::unique_ptr<PixelGroup>> new_groups;
-    std::vector<int> new_group_node;
-    std::vector<int> new_bracket(n, -1);
-    std::vector<PixelGroup*> by_node(N, nullptr);
-    for (std::size_t i = 0; i < n; ++i) {
-      const SampleState st = disc_state(p, s.east[i], s.north[i]);
-      if (!(st.R > opt.min_radius_arcsec) || st.R > node_r[N] || std::abs(st.cos_t) < sin_wedge)
-        continue;
-      const int k = std::min(N - 1, static_cast<int>(st.R / w));
-      new_bracket[i] = k;
-      if (!by_node[k]) {
-        new_groups.push_back(std::make_unique<PixelGroup>());
-        new_group_node.push_back(k);
-        by_node[k] = new_groups.back().get();
-      }
-      PixelGroup& g = *by_node[k];
-      g.east.push_back(s.east[i]);
-      g.north.push_back(s.north[i]);
-      g.velocity.push_back(s.velocity[i]);
-      const double wt = std::pow(std::abs(st.cos_t), opt.weight_power) * robust[i];
-      g.scale.push_back(std::sqrt(wt) / s.sigma[i]);
-      g.index.push_back(i);
-    }
+    if (opt.loss != RobustLoss::none && pass > 0) update_robust_weights(opt, sel.bracket, norm_resid, robust);
+    Selection next = select_samples(s, p, opt, node_r, robust);
     // The final, tightly converged pass: when the geometry has settled (the
     // last pass moved it by < 1e-3 arcsec / deg and the pixel brackets did
-    // not change), or when the passes run out. Earlier passes stop at a
-    // looser tolerance: they only fix the selection.
+    // not change), or when the passes run out.
     const bool final_pass = pass == max_passes - 1 ||
-                            (pass > 0 && !hold_inc && opt.loss == RobustLoss::none &&
-                             prev_moved < 1e-3 && changed_fraction(new_bracket, bracket) < 1e-3);
-    groups = std::move(new_groups);
-    group_node = std::move(new_group_node);
-    bracket = std::move(new_bracket);
-
-    // (2) The problem.
-    problem = std::make_unique<ceres::Problem>();
-    pass_start.clear();
-    int n_used = 0;
-    for (std::size_t gi = 0; gi < groups.size(); ++gi) {
-      const PixelGroup* g = groups[gi].get();
-      const int k = group_node[gi];
-      const int m = static_cast<int>(g->size());
-      n_used += m;
-      auto* cf = new RingPairCostFunction(g, node_r[k], node_r[k + 1], radial);
-      if (radial)
-        problem->AddResidualBlock(cf, nullptr, p.centre, &p.pa, &p.inc, &p.vsys, &p.vrot[k],
-                                  &p.vrot[k + 1], &p.vrad[k], &p.vrad[k + 1]);
-      else
-        problem->AddResidualBlock(cf, nullptr, p.centre, &p.pa, &p.inc, &p.vsys, &p.vrot[k],
-                                  &p.vrot[k + 1]);
-    }
-    if (groups.empty()) {
+                            (pass > 0 && !hold_inc && opt.loss == RobustLoss::none && prev_moved < 1e-3 &&
+                             changed_fraction(next.bracket, sel.bracket) < 1e-3);
+    sel = std::move(next);
+    if (sel.groups.empty()) {
       out.message = "no pixels inside the rings";
       out.used.assign(n, 0);
       return out;
     }
-    if (problem->HasParameterBlock(&p.vrot[0])) problem->SetParameterBlockConstant(&p.vrot[0]);
-    if (radial && problem->HasParameterBlock(&p.vrad[0]))
-      problem->SetParameterBlockConstant(&p.vrad[0]);
-    if (opt.fix_centre) problem->SetParameterBlockConstant(p.centre);
-    if (opt.fix_pa) problem->SetParameterBlockConstant(&p.pa);
-    if (opt.fix_vsys) problem->SetParameterBlockConstant(&p.vsys);
-    if (hold_inc) {
-      problem->SetParameterBlockConstant(&p.inc);
-    }
-    add_priors(*problem, p, opt);
-    if (opt.record_problem) {
-      pass_start = {p.centre[0], p.centre[1], p.pa, p.inc, p.vsys};
-      for (int k = 1; k <= N; ++k) pass_start.push_back(p.vrot[k]);
-      if (radial)
-        for (int k = 1; k <= N; ++k) pass_start.push_back(p.vrad[k]);
-    }
+    problem = build_problem(sel, p, opt, node_r, hold_inc);
+    if (opt.record_problem) pass_start = parameter_vector(p, N, radial);
 
-    // (3) Solve.
-    ceres::Solver::Options so;
-    so.minimizer_type = ceres::TRUST_REGION;
-    so.trust_region_strategy_type = ceres::LEVENBERG_MARQUARDT;
-    so.linear_solver_type = ceres::SPARSE_NORMAL_CHOLESKY;
-    so.max_num_iterations = opt.max_iterations;
-    so.function_tolerance = final_pass ? opt.function_tolerance : 1e-6;
-    so.parameter_tolerance = final_pass ? opt.parameter_tolerance : 1e-6;
-    so.gradient_tolerance = final_pass ? opt.gradient_tolerance : 1e-10;
-    so.num_threads = 1;
-    so.logging_type = ceres::SILENT;
-    so.minimizer_progress_to_stdout = false;
     const Parameters before = p;
-    ceres::Solve(so, problem.get(), &last_summary);
+    ceres::Solve(solver_options(opt, final_pass), problem.get(), &last_summary);
     out.iterations += static_cast<int>(last_summary.iterations.size());
     out.passes = pass + 1;
-    out.n_used = n_used;
+    out.n_used = 0;
+    for (const auto& g : sel.groups) out.n_used += static_cast<int>(g->size());
 
     // Normalised residuals for the robust weights of the next pass.
     for (std::size_t i = 0; i < n; ++i)
-      norm_resid[i] = bracket[i] >= 0
-                          ? (s.velocity[i] - model_of(p, node_r, s.east[i], s.north[i], bracket[i])) /
-                                s.sigma[i]
+      norm_resid[i] = sel.bracket[i] >= 0
+                          ? (s.velocity[i] - model_of(p, node_r, s.east[i], s.north[i], sel.bracket[i])) / s.sigma[i]
                           : 0.0;
     normalise(p);
-    prev_moved = std::max({std::abs(p.centre[0] - before.centre[0]),
-                           std::abs(p.centre[1] - before.centre[1]),
+    prev_moved = std::max({std::abs(p.centre[0] - before.centre[0]), std::abs(p.centre[1] - before.centre[1]),
                            std::abs(angle_diff_deg(p.pa / kRad, before.pa / kRad)),
                            std::abs(p.inc - before.inc) / kRad});
-    if (!last_summary.IsSolutionUsable() || final_pass) {
-      done = final_pass;
-      break;
-    }
+    if (!last_summary.IsSolutionUsable() || final_pass) break;
   }
-  (void)done;
 
   out.message = last_summary.message;
-  out.converged = last_summary.IsSolutionUsable() &&
-                  last_summary.termination_type == ceres::CONVERGENCE;
+  out.converged = last_summary.IsSolutionUsable() && last_summary.termination_type == ceres::CONVERGENCE;
   out.chi2 = 2.0 * last_summary.final_cost;
-  out.used.assign(n, 0);
-  double ss = 0;
-  for (std::size_t i = 0; i < n; ++i)
-    if (bracket[i] >= 0) {
-      out.used[i] = 1;
-      const double r = s.velocity[i] - model_of(p, node_r, s.east[i], s.north[i], bracket[i]);
-      ss += r * r;
-    }
-  out.residual_rms_kms = out.n_used > 0 ? std::sqrt(ss / out.n_used) : 0.0;
-  {
-    int np = (opt.fix_centre ? 0 : 2) + (opt.fix_pa ? 0 : 1) + (opt.fix_inc ? 0 : 1) +
-             (opt.fix_vsys ? 0 : 1);
-    for (int k = 1; k <= N; ++k) {
-      np += problem->HasParameterBlock(&p.vrot[k]) ? 1 : 0;
-      np += radial && problem->HasParameterBlock(&p.vrad[k]) ? 1 : 0;
-    }
-    out.n_parameters = np;
-  }
-  out.geometry.centre = {p.centre[0], p.centre[1]};
-  out.geometry.pa_deg = wrap_pa_deg(p.pa / kRad);
-  out.geometry.inc_deg = p.inc / kRad;
-  out.geometry.vsys_kms = p.vsys;
-
-  // Node table.
-  out.nodes.resize(N);
-  for (int k = 1; k <= N; ++k) {
-    out.nodes[k - 1].radius_arcsec = node_r[k];
-    out.nodes[k - 1].vrot_kms = p.vrot[k];
-    out.nodes[k - 1].vrad_kms = p.vrad[k];
-    out.nodes[k - 1].vrot_err_kms = std::numeric_limits<double>::quiet_NaN();
-    out.nodes[k - 1].vrad_err_kms = radial ? std::numeric_limits<double>::quiet_NaN() : 0.0;
-  }
-  for (std::size_t i = 0; i < n; ++i)
-    if (bracket[i] >= 0) {
-      if (bracket[i] >= 1) out.nodes[bracket[i] - 1].n_pixels++;
-      out.nodes[bracket[i]].n_pixels++;
-    }
+  fill_solution(out, s, p, *problem, opt, node_r, sel.bracket);
 
   // Covariance (Ceres), scaled.
   const int dof = out.n_used - out.n_parameters;
   out.scaling.reduced_chi2 = dof > 0 ? out.chi2 / dof : std::numeric_limits<double>::infinity();
   out.scaling.correlation_factor = opt.correlation_factor;
   out.scaling.pixels_per_beam = pixels_per_beam(s.beam, s.pixel_area_arcsec2);
-  if (out.converged && dof > 0) {
-    ceres::Covariance::Options co;
-    co.algorithm_type = ceres::SPARSE_QR;
-    co.num_threads = 1;
-    ceres::Covariance cov(co);
-    std::vector<const double*> blocks;
-    if (!opt.fix_centre) blocks.push_back(p.centre);
-    if (!opt.fix_pa) blocks.push_back(&p.pa);
-    if (!opt.fix_inc) blocks.push_back(&p.inc);
-    if (!opt.fix_vsys) blocks.push_back(&p.vsys);
-    std::vector<int> node_blocks;
-    for (int k = 1; k <= N; ++k)
-      if (problem->HasParameterBlock(&p.vrot[k])) {
-        blocks.push_back(&p.vrot[k]);
-        node_blocks.push_back(k);
-      }
-    if (radial)
-      for (int k = 1; k <= N; ++k)
-        if (problem->HasParameterBlock(&p.vrad[k])) blocks.push_back(&p.vrad[k]);
-    bool cov_ok = false;
-    {
-      const QuietSolverLog quiet;  // the failure is reported in the summary, not by the solver
-      cov_ok = cov.Compute(blocks, problem.get());
-    }
-    if (cov_ok) {
-      const int np = static_cast<int>(blocks.size());
-      std::vector<int> offset(np + 1, 0), sizes(np);
-      for (int b = 0; b < np; ++b) {
-        sizes[b] = problem->ParameterBlockSize(blocks[b]);
-        offset[b + 1] = offset[b] + sizes[b];
-      }
-      std::vector<double> full(static_cast<std::size_t>(offset[np]) * offset[np]);
-      if (cov.GetCovarianceMatrix(blocks, full.data())) {
-        const int dim = offset[np];
-        auto at = [&](int i, int j) { return full[static_cast<std::size_t>(i) * dim + j]; };
-        // Map the geometry rows (present ones) into the 5x5 (ce, cn, pa, inc, vsys).
-        std::vector<int> where(5, -1);  // index in `full` of each of the 5
-        int b = 0;
-        if (!opt.fix_centre) { where[0] = offset[b]; where[1] = offset[b] + 1; ++b; }
-        if (!opt.fix_pa) { where[2] = offset[b]; ++b; }
-        if (!opt.fix_inc) { where[3] = offset[b]; ++b; }
-        if (!opt.fix_vsys) { where[4] = offset[b]; ++b; }
-        const double unit[5] = {1.0, 1.0, 1.0 / kRad, 1.0 / kRad, 1.0};
-        const double f = out.scaling.factor();
-        for (int i = 0; i < 5; ++i)
-          for (int j = 0; j < 5; ++j)
-            out.covariance(i, j) =
-                (where[i] >= 0 && where[j] >= 0) ? at(where[i], where[j]) * unit[i] * unit[j] * f
-                                                 : 0.0;
-        for (std::size_t q = 0; q < node_blocks.size(); ++q, ++b)
-          out.nodes[node_blocks[q] - 1].vrot_err_kms = std::sqrt(at(offset[b], offset[b]) * f);
-        if (radial)
-          for (int k = 1; k <= N; ++k)
-            if (problem->HasParameterBlock(&p.vrad[k])) {
-              out.nodes[k - 1].vrad_err_kms = std::sqrt(at(offset[b], offset[b]) * f);
-              ++b;
-            }
-        out.covariance_ok = out.covariance.allFinite();
-      }
-    }
-    if (!out.covariance_ok) out.message += " (covariance could not be computed: the problem is "
-                                           "rank deficient)";
-  }
+  if (out.converged && dof > 0) fill_covariance(out, *problem, p, opt, N);
 
-  if (opt.record_problem) {
-    RecordedProblem& r = out.problem;
-    r.radial = radial;
-    r.node_radius = node_r;
-    for (std::size_t gi = 0; gi < groups.size(); ++gi) {
-      const PixelGroup& g = *groups[gi];
-      for (std::size_t i = 0; i < g.size(); ++i) {
-        r.east.push_back(g.east[i]);
-        r.north.push_back(g.north[i]);
-        r.velocity.push_back(g.velocity[i]);
-        r.scale.push_back(g.scale[i]);
-        r.bracket.push_back(group_node[gi]);
-      }
-    }
-    r.start = pass_start;
-    r.solution = {p.centre[0], p.centre[1], p.pa, p.inc, p.vsys};
-    for (int k = 1; k <= N; ++k) r.solution.push_back(p.vrot[k]);
-    if (radial)
-      for (int k = 1; k <= N; ++k) r.solution.push_back(p.vrad[k]);
-  }
+  if (opt.record_problem) out.problem = recorded_problem(sel, node_r, radial, pass_start, parameter_vector(p, N, radial));
   return out;
 }
 

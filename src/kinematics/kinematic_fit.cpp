@@ -3,6 +3,8 @@
 // centre, refusals, JSON and model maps.
 // Units: arcsec (east, north offsets), degrees, km/s; FITS pixels 1-based in
 // the JSON, 0-based inside.
+#include "fulcrum/core/number_text.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/kinematics/kinematic_fit.hpp"
 
 #include <Eigen/Dense>
@@ -24,14 +26,6 @@ namespace fulcrum::kinematics {
 namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
-
-std::string fmt(double v, int prec = 3) {
-  std::ostringstream os;
-  os.setf(std::ios::fixed);
-  os.precision(prec);
-  os << v;
-  return os.str();
-}
 
 CentreEstimate make_centre(SkyOffset o, const Eigen::Matrix2d& cov, const OffsetFrame& frame,
                            const CelestialWcs& wcs) {
@@ -370,14 +364,14 @@ std::string pre_fit_refusal(const FirstGuess& g, const KinematicOptions& opt, do
   const double snr = g.gradient_snr / std::sqrt(eta);
   if (!user_geometry && snr < opt.min_rotation_snr)
     return "no measurable rotation (the velocity gradient across the footprint is " +
-           fmt(snr, 1) + " sigma, at least " + fmt(opt.min_rotation_snr, 1) + " needed)";
+           fixed_text(snr, 1) + " sigma, at least " + fixed_text(opt.min_rotation_snr, 1) + " needed)";
   if (!opt.inc_guess_deg && g.axis_ratio > std::cos(opt.min_inc_deg * std::numbers::pi / 180.0))
-    return "the disc is nearly face-on (footprint axis ratio " + fmt(g.axis_ratio, 3) +
-           ", rounder than a disc inclined by " + fmt(opt.min_inc_deg, 1) +
-           " deg; give --inc to override)";
+    return "the disc is nearly face-on (footprint axis ratio " + fixed_text(g.axis_ratio, 3) +
+           ", rounder than a disc inclined by " + fixed_text(opt.min_inc_deg, 1) +
+           " deg; give " + setting_ref("inc") + " to override)";
   if (opt.inc_guess_deg && *opt.inc_guess_deg < opt.min_inc_deg)
-    return "the disc is nearly face-on (inclination guess " + fmt(*opt.inc_guess_deg, 1) +
-           " deg, below " + fmt(opt.min_inc_deg, 1) + " deg)";
+    return "the disc is nearly face-on (inclination guess " + fixed_text(*opt.inc_guess_deg, 1) +
+           " deg, below " + fixed_text(opt.min_inc_deg, 1) + " deg)";
   return "";
 }
 
@@ -478,10 +472,10 @@ void fit_best_solution(KinematicFit& fit, const VelocitySamples& s, const FirstG
                                                 other.geometry.centre.north - best.geometry.centre.north);
       amb.ambiguous = delta < amb.threshold;
       if (amb.ambiguous)
-        amb.note = "kinematic solution ambiguous: a second solution (PA " + fmt(other.geometry.pa_deg, 1) +
-                   " deg, inclination " + fmt(other.geometry.inc_deg, 1) + " deg, centre " +
-                   fmt(amb.centre_separation_arcsec, 2) + " arcsec away) fits almost as well "
-                   "(scaled chi2 difference " + fmt(delta, 2) + " < " + fmt(amb.threshold, 1) +
+        amb.note = "kinematic solution ambiguous: a second solution (PA " + fixed_text(other.geometry.pa_deg, 1) +
+                   " deg, inclination " + fixed_text(other.geometry.inc_deg, 1) + " deg, centre " +
+                   fixed_text(amb.centre_separation_arcsec, 2) + " arcsec away) fits almost as well "
+                   "(scaled chi2 difference " + fixed_text(delta, 2) + " < " + fixed_text(amb.threshold, 1) +
                    "); the centre covariance includes the separation";
     }
   }
@@ -541,7 +535,7 @@ std::pair<std::string, std::string> post_fit_problem(const KinematicFit& fit,
   if (!gl.converged) return {"failed", "the tilted-ring fit did not converge: " + gl.message};
   if (gl.geometry.inc_deg < opt.min_inc_deg)
     return {"refused", "the disc is nearly face-on (fitted inclination " +
-                           fmt(gl.geometry.inc_deg, 1) + " deg, below " + fmt(opt.min_inc_deg, 1) +
+                           fixed_text(gl.geometry.inc_deg, 1) + " deg, below " + fixed_text(opt.min_inc_deg, 1) +
                            " deg)"};
   if (auto p = covariance_problem(gl, go); !p.empty())
     return {"failed", "the tilted-ring fit is degenerate: " + p};
@@ -552,8 +546,8 @@ std::pair<std::string, std::string> post_fit_problem(const KinematicFit& fit,
     if (n.n_pixels > 0 && n.vrot_err_kms > 0 && std::isfinite(n.vrot_err_kms))
       best_snr = std::max(best_snr, std::abs(n.vrot_kms) / n.vrot_err_kms);
   if (best_snr < opt.min_rotation_snr)
-    return {"refused", "no measurable rotation (largest ring rotation is " + fmt(best_snr, 1) +
-                           " sigma, at least " + fmt(opt.min_rotation_snr, 1) + " needed)"};
+    return {"refused", "no measurable rotation (largest ring rotation is " + fixed_text(best_snr, 1) +
+                           " sigma, at least " + fixed_text(opt.min_rotation_snr, 1) + " needed)"};
   return {"", ""};
 }
 
@@ -629,7 +623,7 @@ std::optional<VelocitySamples> correct_smearing(KinematicFit& fit, const Velocit
   bs.correction = std::move(delta);
   if (!bs.converged)
     fit.notes.push_back("beam-smearing correction: the geometry still moved by " +
-                        fmt(bs.last_change_sigma, 2) + " sigma in the last of " +
+                        fixed_text(bs.last_change_sigma, 2) + " sigma in the last of " +
                         std::to_string(bs.refits) + " refits");
   return corrected;
 }
@@ -701,7 +695,7 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   const double width = ring_width_for(s, opt, fit);
   if (!(g.max_radius_arcsec >= 2 * width)) {
     refuse(fit, "the footprint is too small for two rings (outer radius " +
-                    fmt(g.max_radius_arcsec, 2) + " arcsec, ring width " + fmt(width, 2) +
+                    fixed_text(g.max_radius_arcsec, 2) + " arcsec, ring width " + fixed_text(width, 2) +
                     " arcsec)");
     return fit;
   }

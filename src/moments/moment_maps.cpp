@@ -121,6 +121,298 @@ NoiseModel measure_noise(const std::vector<double>& data, int nx, int ny, int nz
   return nm;
 }
 
+// The cube's smoothed copy used to find emission: smoothed spatially to
+// smooth_factor x the beam (with `kernel`, arcsec), then by a boxcar of
+// smooth_channels channels.
+struct SmoothedCube {
+  std::vector<double> data;
+  Beam kernel;
+  double pixel_scale = 1.0;  // arcsec per pixel
+  int half_channels = 0;
+};
+
+SmoothedCube smooth_cube(const Cube& cube, const MomentOptions& opt, const std::string& src) {
+  const int nx = cube.nx, ny = cube.ny, nz = cube.nz;
+  const std::size_t plane = static_cast<std::size_t>(nx) * ny;
+  SmoothedCube sc;
+  // One pixel-space kernel for every channel (the grid's Jacobian is the
+  // same for all planes).
+  const PixelOffsets off(nx, ny, cube.wcs, cube.wcs.pixel_to_world({0.5 * (nx - 1), 0.5 * (ny - 1)}));
+  sc.pixel_scale = off.pixel_scale_arcsec();
+  if (cube.beam) {
+    Beam target{opt.smooth_factor * cube.beam->bmaj_arcsec, opt.smooth_factor * cube.beam->bmin_arcsec,
+                cube.beam->bpa_deg};
+    sc.kernel = kernel_between(*cube.beam, target);
+  } else {
+    warn(src + ": no beam (BMAJ/BMIN) in the header; smoothing the mask with a 3-pixel kernel");
+    sc.kernel = Beam{3.0 * sc.pixel_scale, 3.0 * sc.pixel_scale, 0.0};
+  }
+  const Eigen::Matrix2d kcov = pixel_covariance(sc.kernel, off.jacobian());
+  std::vector<double>& sm = sc.data;
+  sm.resize(plane * nz);
+  SmoothOptions so;
+  so.normalise_missing = true;
+  so.fill_missing = false;
+  std::vector<double> chan(plane);
+  for (int z = 0; z < nz; ++z) {
+    std::copy(cube.data.begin() + static_cast<std::ptrdiff_t>(plane * z),
+              cube.data.begin() + static_cast<std::ptrdiff_t>(plane * (z + 1)), chan.begin());
+    auto s = convolve_gaussian(chan, nx, ny, kcov, so);
+    std::copy(s.begin(), s.end(), sm.begin() + static_cast<std::ptrdiff_t>(plane * z));
+  }
+  const int half = opt.smooth_channels / 2;
+  sc.half_channels = half;
+  if (half > 0) {
+    std::vector<double> sp(plane * nz, NAN);
+    for (std::size_t p = 0; p < plane; ++p)
+      for (int z = 0; z < nz; ++z) {
+        double s = 0.0;
+        int n = 0;
+        for (int k = std::max(0, z - half); k <= std::min(nz - 1, z + half); ++k) {
+          const double x = sm[p + plane * k];
+          if (std::isfinite(x)) { s += x; ++n; }
+        }
+        if (n > 0 && std::isfinite(sm[p + plane * z])) sp[p + plane * z] = s / n;
+      }
+    sm.swap(sp);
+  }
+  return sc;
+}
+
+// The mask of the smooth-and-mask or moment-masking method: voxels of the
+// smoothed cube above the threshold, grown; its settings go to mask_json.
+std::vector<unsigned char> emission_mask(const Cube& cube, const MomentOptions& opt, const std::string& src,
+                                         nlohmann::json& mask_json) {
+  const int nx = cube.nx, ny = cube.ny, nz = cube.nz;
+  const std::size_t plane = static_cast<std::size_t>(nx) * ny;
+  const SmoothedCube sc = smooth_cube(cube, opt, src);
+  const std::vector<double>& sm = sc.data;
+  NoiseModel snoise = measure_noise(sm, nx, ny, nz, opt.noise);
+  const double t = opt.mask == MaskMethod::SmoothAndMask ? opt.threshold_sigma : opt.dame_threshold_sigma;
+  std::vector<unsigned char> seed(plane * nz, 0);
+  for (int z = 0; z < nz; ++z)
+    for (std::size_t p = 0; p < plane; ++p) {
+      const double s = snoise.at(p, z), x = sm[p + plane * z];
+      if (std::isfinite(x) && std::isfinite(s) && s > 0.0 && x > t * s) seed[p + plane * z] = 1;
+    }
+  int dz = 0;
+  double r = 0.0;
+  if (opt.mask == MaskMethod::SmoothAndMask) {
+    dz = opt.grow_channels;
+    r = opt.grow_pixels;
+    mask_json["threshold_sigma"] = opt.threshold_sigma;
+    mask_json["grow_channels"] = opt.grow_channels;
+    mask_json["grow_pixels"] = opt.grow_pixels;
+  } else {
+    // Dame (2011): every voxel that contributes to an above-threshold
+    // smoothed voxel, i.e. within the smoothing kernel.
+    dz = sc.half_channels;
+    r = sc.kernel.fwhm_arcsec() / sc.pixel_scale;
+    mask_json["threshold_sigma"] = opt.dame_threshold_sigma;
+    mask_json["footprint_radius_pixels"] = r;
+    mask_json["footprint_half_channels"] = dz;
+  }
+  std::vector<unsigned char> mask = dilate(seed, nx, ny, nz, dz, r);
+  for (std::size_t i = 0; i < mask.size(); ++i)
+    if (!std::isfinite(cube.data[i])) mask[i] = 0;
+  mask_json["smooth_factor"] = opt.smooth_factor;
+  mask_json["smooth_channels"] = opt.smooth_channels;
+  mask_json["smoothing_kernel_arcsec"] = {{"bmaj", sc.kernel.bmaj_arcsec}, {"bmin", sc.kernel.bmin_arcsec},
+                                          {"bpa_deg", sc.kernel.bpa_deg}};
+  std::vector<double> finite;
+  for (double s : snoise.chan)
+    if (std::isfinite(s)) finite.push_back(s);
+  mask_json["smoothed_noise_median"] = finite.empty() ? 0.0 : median_of(finite);
+  return mask;
+}
+
+// The voxel mask of the chosen method (1 = use the voxel).
+std::vector<unsigned char> voxel_mask(const Cube& cube, const MomentOptions& opt, const std::string& src,
+                                      nlohmann::json& mask_json) {
+  const std::size_t nvox = cube.data.size();
+  mask_json = {{"method", mask_method_name(opt.mask)}};
+  if (opt.mask == MaskMethod::SmoothAndMask || opt.mask == MaskMethod::MomentMasking)
+    return emission_mask(cube, opt, src, mask_json);
+  std::vector<unsigned char> mask(nvox, 0);
+  if (opt.mask == MaskMethod::None) {
+    for (std::size_t i = 0; i < nvox; ++i) mask[i] = std::isfinite(cube.data[i]) ? 1 : 0;
+    return mask;
+  }
+  if (!opt.external_mask) throw InputError("", "the external mask method needs a mask cube");
+  const Cube& m = *opt.external_mask;
+  if (m.nx != cube.nx || m.ny != cube.ny || m.nz != cube.nz)
+    throw InputError(m.path, "the mask cube is " + std::to_string(m.nx) + " x " + std::to_string(m.ny) + " x " +
+                                 std::to_string(m.nz) + " but the cube is " + std::to_string(cube.nx) + " x " +
+                                 std::to_string(cube.ny) + " x " + std::to_string(cube.nz));
+  for (std::size_t i = 0; i < nvox; ++i)
+    mask[i] = (std::isfinite(m.data[i]) && m.data[i] != 0.0 && std::isfinite(cube.data[i])) ? 1 : 0;
+  mask_json["file"] = m.path;
+  return mask;
+}
+
+// The noise again, from the emission-free voxels (outside the mask), so
+// that emission filling much of a channel does not inflate it. Channels with
+// fewer than kMinFreeVoxels unmasked finite voxels (pixels with fewer than 8
+// free channels) keep the first estimate.
+void remeasure_noise_outside_mask(const Cube& cube, const std::vector<unsigned char>& mask, const MomentOptions& opt,
+                                  NoiseModel& noise) {
+  if (opt.mask == MaskMethod::None) return;
+  constexpr std::size_t kMinFreeVoxels = 30;
+  const int nz = cube.nz;
+  const std::size_t plane = static_cast<std::size_t>(cube.nx) * cube.ny;
+  std::vector<double> buf;
+  auto update = [&](double& target) {
+    bool hit = false;
+    const double s = robust_sigma(buf, opt.noise, &hit);
+    noise.at_bound += hit;
+    if (std::isfinite(s) && s > 0.0) target = s;
+  };
+  for (int z = 0; z < nz; ++z) {
+    buf.clear();
+    for (std::size_t p = 0; p < plane; ++p) {
+      const double x = cube.data[p + plane * z];
+      if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
+    }
+    if (buf.size() >= kMinFreeVoxels) update(noise.chan[z]);
+  }
+  if (!opt.noise.per_pixel) return;
+  for (std::size_t p = 0; p < plane; ++p) {
+    buf.clear();
+    for (int z = 0; z < nz; ++z) {
+      const double x = cube.data[p + plane * z];
+      if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
+    }
+    if (buf.size() >= 8) update(noise.pixel[p]);
+  }
+}
+
+// The moment planes of the masked cube and their errors (formulas in
+// moment_maps.hpp).
+struct MomentPlanes {
+  std::vector<double> m0, e0, m1, e1, m2, peak, nchan;
+  std::size_t mask_voxels = 0;
+};
+
+MomentPlanes moment_planes(const Cube& cube, const SpectralAxis& axis, const NoiseModel& noise,
+                           const std::vector<unsigned char>& mask, const MomentOptions& opt) {
+  const int nz = cube.nz;
+  const std::size_t plane = static_cast<std::size_t>(cube.nx) * cube.ny;
+  const auto& v = axis.velocity_kms;
+  const auto& dv = axis.width_kms;
+  MomentPlanes mp;
+  for (auto* m : {&mp.m0, &mp.e0, &mp.m1, &mp.e1, &mp.m2, &mp.peak}) m->assign(plane, NAN);
+  mp.nchan.assign(plane, 0.0);
+  std::vector<double> w = dv;
+  const double dv_med = median_of(w);
+  for (std::size_t p = 0; p < plane; ++p) {
+    bool any_finite = false;
+    double s0 = 0.0, s1 = 0.0, var0 = 0.0, peak = -INFINITY;
+    int n = 0;
+    double floor_sigma = NAN;
+    for (int z = 0; z < nz; ++z) {
+      const double x = cube.data[p + plane * z];
+      if (!std::isfinite(x)) continue;
+      any_finite = true;
+      const double s = noise.at(p, z);
+      if (std::isfinite(s) && !std::isfinite(floor_sigma)) floor_sigma = s;
+      if (!mask[p + plane * z]) continue;
+      ++n;
+      s0 += x * dv[z];
+      s1 += x * v[z] * dv[z];
+      if (std::isfinite(s)) var0 += s * s * dv[z] * dv[z];
+      peak = std::max(peak, x);
+    }
+    if (!any_finite) continue;
+    mp.mask_voxels += static_cast<std::size_t>(n);
+    mp.nchan[p] = n;
+    if (n == 0) {
+      mp.m0[p] = 0.0;
+      mp.e0[p] = std::isfinite(floor_sigma) ? floor_sigma * dv_med : NAN;
+      continue;
+    }
+    mp.m0[p] = s0;
+    mp.e0[p] = std::sqrt(var0);
+    mp.peak[p] = peak;
+    if (n >= opt.min_channels_velocity && s0 > 0.0) {
+      const double mean = s1 / s0;
+      double var1 = 0.0, s2 = 0.0;
+      for (int z = 0; z < nz; ++z) {
+        const double x = cube.data[p + plane * z];
+        if (!std::isfinite(x) || !mask[p + plane * z]) continue;
+        const double s = noise.at(p, z);
+        const double d = v[z] - mean;
+        if (std::isfinite(s)) var1 += s * s * dv[z] * dv[z] * d * d;
+        s2 += x * d * d * dv[z];
+      }
+      mp.m1[p] = mean;
+      mp.e1[p] = std::sqrt(var1) / s0;
+      if (n >= opt.min_channels_dispersion && s2 > 0.0) mp.m2[p] = std::sqrt(s2 / s0);
+    }
+  }
+  return mp;
+}
+
+// Total line flux of the moment-0 map and its error, in Jy km/s when the
+// cube is in Jy/beam with a beam, else summed over pixels.
+void set_total_flux(const Cube& cube, const MomentPlanes& mp, const std::string& m0_unit, MomentProducts& out) {
+  const std::size_t plane = static_cast<std::size_t>(cube.nx) * cube.ny;
+  PixelOffsets off(cube.nx, cube.ny, cube.wcs, cube.wcs.pixel_to_world({0.5 * (cube.nx - 1), 0.5 * (cube.ny - 1)}));
+  const double pixel_area = off.pixel_area_arcsec2();
+  double sum = 0.0, var = 0.0;
+  for (std::size_t p = 0; p < plane; ++p)
+    if (std::isfinite(mp.m0[p]) && mp.nchan[p] > 0) {
+      sum += mp.m0[p];
+      var += mp.e0[p] * mp.e0[p];
+    }
+  if (cube.beam && is_jy_per_beam(cube.unit)) {
+    const double ppb = cube.beam->solid_angle_arcsec2() / pixel_area;
+    out.total_flux = sum / ppb;
+    // Beam-correlated noise: one independent value per beam area (approximate, common practice).
+    out.total_flux_err = std::sqrt(var * ppb) / ppb;
+    out.flux_unit = "Jy km/s";
+  } else {
+    out.total_flux = sum;
+    out.total_flux_err = std::sqrt(var);
+    out.flux_unit = m0_unit + " (summed over pixels)";
+  }
+}
+
+nlohmann::json moment_summary(const Cube& cube, const MomentOptions& opt, const MomentProducts& out,
+                              const NoiseModel& noise, const nlohmann::json& mask_json, const MomentPlanes& mp,
+                              const std::string& m0_unit) {
+  nlohmann::json j;
+  j["cube"] = {{"path", cube.path}, {"nx", cube.nx}, {"ny", cube.ny}, {"nchan", cube.nz}, {"unit", cube.unit}};
+  j["spectral_axis"] = {{"ctype", out.axis.axis_ctype},
+                        {"velocity_ctype", out.axis.velocity_ctype},
+                        {"convention", convention_name(out.axis.convention)},
+                        {"rest_frequency_hz", out.axis.rest_frequency_hz},
+                        {"channel_velocity_kms", out.axis.velocity_kms},
+                        {"channel_width_kms", out.axis.width_kms}};
+  std::vector<double> rms_json;
+  for (double s : noise.chan) rms_json.push_back(std::isfinite(s) ? s : -1.0);
+  std::vector<double> finite;
+  for (double s : noise.chan)
+    if (std::isfinite(s)) finite.push_back(s);
+  j["noise"] = {{"method", "1.4826 x median absolute deviation, iterated with clipping"},
+                {"clip_sigma", opt.noise.clip_sigma},
+                {"max_iterations", opt.noise.max_iterations},
+                {"estimates_stopped_at_iteration_bound", noise.at_bound},
+                {"per_pixel", opt.noise.per_pixel},
+                {"unit", cube.unit},
+                {"channel_rms", rms_json},
+                {"channel_rms_note", "-1 marks a channel with fewer than three finite pixels"},
+                {"median_channel_rms", median_of(finite)}};
+  j["mask"] = mask_json;
+  j["mask"]["voxels"] = mp.mask_voxels;
+  std::size_t nvel = 0;
+  for (double x : mp.m1) nvel += std::isfinite(x) ? 1 : 0;
+  j["maps"] = {{"mom0_unit", m0_unit}, {"pixels_with_velocity", nvel},
+               {"min_channels_velocity", opt.min_channels_velocity},
+               {"min_channels_dispersion", opt.min_channels_dispersion}};
+  j["total_flux"] = {{"value", out.total_flux}, {"error", out.total_flux_err}, {"unit", out.flux_unit}};
+  return j;
+}
+
 }  // namespace
 
 const char* mask_method_name(MaskMethod m) {
@@ -182,225 +474,28 @@ MomentProducts make_moment_maps(const Cube& cube, const MomentOptions& opt) {
   MomentProducts out;
   out.axis = spectral_axis_of(cube, opt.spectral);
   out.spectral_cards = spectral_cards_as_axis3(cube.header, cube.spectral_axis);
-  const auto& v = out.axis.velocity_kms;
-  const auto& dv = out.axis.width_kms;
 
-  // ---- noise of the cube
+  // ---- noise of the cube, the mask, then the noise outside the mask
   NoiseModel noise = measure_noise(cube.data, nx, ny, nz, opt.noise);
+  if (std::none_of(noise.chan.begin(), noise.chan.end(), [](double s) { return std::isfinite(s); }))
+    throw InputError(src, "cannot measure the noise: no channel has three finite pixels");
+  nlohmann::json mask_json;
+  const std::vector<unsigned char> mask = voxel_mask(cube, opt, src, mask_json);
+  remeasure_noise_outside_mask(cube, mask, opt, noise);
   out.channel_rms = noise.chan;
   if (opt.noise.per_pixel) out.pixel_rms = plane_image(cube, noise.pixel, cube.unit);
-  {
-    std::vector<double> finite;
-    for (double s : noise.chan)
-      if (std::isfinite(s)) finite.push_back(s);
-    if (finite.empty()) throw InputError(src, "cannot measure the noise: no channel has three finite pixels");
-  }
-
-  // ---- mask
-  std::vector<unsigned char> mask(plane * nz, 0);
-  nlohmann::json mask_json = {{"method", mask_method_name(opt.mask)}};
-  if (opt.mask == MaskMethod::None) {
-    for (std::size_t i = 0; i < mask.size(); ++i) mask[i] = std::isfinite(cube.data[i]) ? 1 : 0;
-  } else if (opt.mask == MaskMethod::External) {
-    if (!opt.external_mask) throw InputError("", "the external mask method needs a mask cube");
-    const Cube& m = *opt.external_mask;
-    if (m.nx != nx || m.ny != ny || m.nz != nz)
-      throw InputError(m.path, "the mask cube is " + std::to_string(m.nx) + " x " + std::to_string(m.ny) + " x " +
-                                   std::to_string(m.nz) + " but the cube is " + std::to_string(nx) + " x " +
-                                   std::to_string(ny) + " x " + std::to_string(nz));
-    for (std::size_t i = 0; i < mask.size(); ++i)
-      mask[i] = (std::isfinite(m.data[i]) && m.data[i] != 0.0 && std::isfinite(cube.data[i])) ? 1 : 0;
-    mask_json["file"] = m.path;
-  } else {
-    // Smooth spatially to smooth_factor x the beam, then spectrally.
-    Beam kernel;
-    double pixel_scale = 1.0;
-    {
-      PixelOffsets off(nx, ny, cube.wcs, cube.wcs.pixel_to_world({0.5 * (nx - 1), 0.5 * (ny - 1)}));
-      pixel_scale = off.pixel_scale_arcsec();
-    }
-    if (cube.beam) {
-      Beam target{opt.smooth_factor * cube.beam->bmaj_arcsec, opt.smooth_factor * cube.beam->bmin_arcsec,
-                  cube.beam->bpa_deg};
-      kernel = kernel_between(*cube.beam, target);
-    } else {
-      warn(src + ": no beam (BMAJ/BMIN) in the header; smoothing the mask with a 3-pixel kernel");
-      kernel = Beam{3.0 * pixel_scale, 3.0 * pixel_scale, 0.0};
-    }
-    // One pixel-space kernel for every channel (the grid's Jacobian is the
-    // same for all planes).
-    Eigen::Matrix2d jac;
-    {
-      PixelOffsets off(nx, ny, cube.wcs, cube.wcs.pixel_to_world({0.5 * (nx - 1), 0.5 * (ny - 1)}));
-      jac = off.jacobian();
-    }
-    const Eigen::Matrix2d kcov = pixel_covariance(kernel, jac);
-    std::vector<double> sm(plane * nz);
-    SmoothOptions so;
-    so.normalise_missing = true;
-    so.fill_missing = false;
-    std::vector<double> chan(plane);
-    for (int z = 0; z < nz; ++z) {
-      std::copy(cube.data.begin() + static_cast<std::ptrdiff_t>(plane * z),
-                cube.data.begin() + static_cast<std::ptrdiff_t>(plane * (z + 1)), chan.begin());
-      auto s = convolve_gaussian(chan, nx, ny, kcov, so);
-      std::copy(s.begin(), s.end(), sm.begin() + static_cast<std::ptrdiff_t>(plane * z));
-    }
-    const int half = opt.smooth_channels / 2;
-    if (half > 0) {
-      std::vector<double> sp(plane * nz, NAN);
-      for (std::size_t p = 0; p < plane; ++p)
-        for (int z = 0; z < nz; ++z) {
-          double s = 0.0;
-          int n = 0;
-          for (int k = std::max(0, z - half); k <= std::min(nz - 1, z + half); ++k) {
-            const double x = sm[p + plane * k];
-            if (std::isfinite(x)) { s += x; ++n; }
-          }
-          if (n > 0 && std::isfinite(sm[p + plane * z])) sp[p + plane * z] = s / n;
-        }
-      sm.swap(sp);
-    }
-    NoiseModel snoise = measure_noise(sm, nx, ny, nz, opt.noise);
-    const double t = opt.mask == MaskMethod::SmoothAndMask ? opt.threshold_sigma : opt.dame_threshold_sigma;
-    std::vector<unsigned char> seed(plane * nz, 0);
-    for (int z = 0; z < nz; ++z)
-      for (std::size_t p = 0; p < plane; ++p) {
-        const double s = snoise.at(p, z), x = sm[p + plane * z];
-        if (std::isfinite(x) && std::isfinite(s) && s > 0.0 && x > t * s) seed[p + plane * z] = 1;
-      }
-    int dz = 0;
-    double r = 0.0;
-    if (opt.mask == MaskMethod::SmoothAndMask) {
-      dz = opt.grow_channels;
-      r = opt.grow_pixels;
-      mask_json["threshold_sigma"] = opt.threshold_sigma;
-      mask_json["grow_channels"] = opt.grow_channels;
-      mask_json["grow_pixels"] = opt.grow_pixels;
-    } else {
-      // Dame (2011): every voxel that contributes to an above-threshold
-      // smoothed voxel, i.e. within the smoothing kernel.
-      dz = half;
-      r = kernel.fwhm_arcsec() / pixel_scale;
-      mask_json["threshold_sigma"] = opt.dame_threshold_sigma;
-      mask_json["footprint_radius_pixels"] = r;
-      mask_json["footprint_half_channels"] = dz;
-    }
-    mask = dilate(seed, nx, ny, nz, dz, r);
-    for (std::size_t i = 0; i < mask.size(); ++i)
-      if (!std::isfinite(cube.data[i])) mask[i] = 0;
-    mask_json["smooth_factor"] = opt.smooth_factor;
-    mask_json["smooth_channels"] = opt.smooth_channels;
-    mask_json["smoothing_kernel_arcsec"] = {{"bmaj", kernel.bmaj_arcsec}, {"bmin", kernel.bmin_arcsec},
-                                            {"bpa_deg", kernel.bpa_deg}};
-    std::vector<double> finite;
-    for (double s : snoise.chan)
-      if (std::isfinite(s)) finite.push_back(s);
-    mask_json["smoothed_noise_median"] = finite.empty() ? 0.0 : median_of(finite);
-  }
-
-  // ---- noise again, from the emission-free voxels (outside the mask), so
-  // that emission filling much of a channel does not inflate it. Channels
-  // with fewer than kMinFreeVoxels unmasked finite voxels keep the first
-  // estimate.
-  {
-    constexpr std::size_t kMinFreeVoxels = 30;
-    std::vector<double> buf;
-    for (int z = 0; z < nz; ++z) {
-      buf.clear();
-      for (std::size_t p = 0; p < plane; ++p) {
-        const double x = cube.data[p + plane * z];
-        if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
-      }
-      if (buf.size() >= kMinFreeVoxels && opt.mask != MaskMethod::None) {
-        bool hit = false;
-        const double s = robust_sigma(buf, opt.noise, &hit);
-        noise.at_bound += hit;
-        if (std::isfinite(s) && s > 0.0) noise.chan[z] = s;
-      }
-    }
-    if (opt.noise.per_pixel && opt.mask != MaskMethod::None) {
-      for (std::size_t p = 0; p < plane; ++p) {
-        buf.clear();
-        for (int z = 0; z < nz; ++z) {
-          const double x = cube.data[p + plane * z];
-          if (!mask[p + plane * z] && std::isfinite(x)) buf.push_back(x);
-        }
-        if (buf.size() >= 8) {
-          bool hit = false;
-          const double s = robust_sigma(buf, opt.noise, &hit);
-          noise.at_bound += hit;
-          if (std::isfinite(s) && s > 0.0) noise.pixel[p] = s;
-        }
-      }
-      out.pixel_rms = plane_image(cube, noise.pixel, cube.unit);
-    }
-    out.channel_rms = noise.chan;
-  }
 
   // ---- moments
   const std::string m0_unit = cube.unit.empty() ? "km/s" : cube.unit + ".km/s";
-  std::vector<double> m0(plane, NAN), e0(plane, NAN), m1(plane, NAN), e1(plane, NAN), m2(plane, NAN),
-      pk(plane, NAN), nc(plane, 0.0);
-  double dv_med = 0.0;
-  {
-    std::vector<double> w = dv;
-    dv_med = median_of(w);
-  }
-  std::size_t nmask = 0;
-  for (std::size_t p = 0; p < plane; ++p) {
-    bool any_finite = false;
-    double s0 = 0.0, s1 = 0.0, var0 = 0.0, peak = -INFINITY;
-    int n = 0;
-    double floor_sigma = NAN;
-    for (int z = 0; z < nz; ++z) {
-      const double x = cube.data[p + plane * z];
-      if (!std::isfinite(x)) continue;
-      any_finite = true;
-      const double s = noise.at(p, z);
-      if (std::isfinite(s) && !std::isfinite(floor_sigma)) floor_sigma = s;
-      if (!mask[p + plane * z]) continue;
-      ++n;
-      s0 += x * dv[z];
-      s1 += x * v[z] * dv[z];
-      if (std::isfinite(s)) var0 += s * s * dv[z] * dv[z];
-      peak = std::max(peak, x);
-    }
-    if (!any_finite) continue;
-    nmask += static_cast<std::size_t>(n);
-    nc[p] = n;
-    if (n == 0) {
-      m0[p] = 0.0;
-      e0[p] = std::isfinite(floor_sigma) ? floor_sigma * dv_med : NAN;
-      continue;
-    }
-    m0[p] = s0;
-    e0[p] = std::sqrt(var0);
-    pk[p] = peak;
-    if (n >= opt.min_channels_velocity && s0 > 0.0) {
-      const double mean = s1 / s0;
-      double var1 = 0.0, s2 = 0.0;
-      for (int z = 0; z < nz; ++z) {
-        const double x = cube.data[p + plane * z];
-        if (!std::isfinite(x) || !mask[p + plane * z]) continue;
-        const double s = noise.at(p, z);
-        const double d = v[z] - mean;
-        if (std::isfinite(s)) var1 += s * s * dv[z] * dv[z] * d * d;
-        s2 += x * d * d * dv[z];
-      }
-      m1[p] = mean;
-      e1[p] = std::sqrt(var1) / s0;
-      if (n >= opt.min_channels_dispersion && s2 > 0.0) m2[p] = std::sqrt(s2 / s0);
-    }
-  }
-  out.mask_voxels = nmask;
-  out.mom0 = plane_image(cube, m0, m0_unit);
-  out.mom0_err = plane_image(cube, e0, m0_unit);
-  out.mom1 = plane_image(cube, m1, "km/s");
-  out.mom1_err = plane_image(cube, e1, "km/s");
-  out.mom2 = plane_image(cube, m2, "km/s");
-  out.peak = plane_image(cube, pk, cube.unit);
-  out.nchan = plane_image(cube, nc, "");
+  const MomentPlanes mp = moment_planes(cube, out.axis, noise, mask, opt);
+  out.mask_voxels = mp.mask_voxels;
+  out.mom0 = plane_image(cube, mp.m0, m0_unit);
+  out.mom0_err = plane_image(cube, mp.e0, m0_unit);
+  out.mom1 = plane_image(cube, mp.m1, "km/s");
+  out.mom1_err = plane_image(cube, mp.e1, "km/s");
+  out.mom2 = plane_image(cube, mp.m2, "km/s");
+  out.peak = plane_image(cube, mp.peak, cube.unit);
+  out.nchan = plane_image(cube, mp.nchan, "");
   out.mask.nx = nx;
   out.mask.ny = ny;
   out.mask.nz = nz;
@@ -410,59 +505,8 @@ MomentProducts make_moment_maps(const Cube& cube, const MomentOptions& opt) {
   out.mask.spectral_axis = cube.spectral_axis;
   out.mask.data.assign(mask.begin(), mask.end());
 
-  // ---- total flux
-  PixelOffsets off(nx, ny, cube.wcs, cube.wcs.pixel_to_world({0.5 * (nx - 1), 0.5 * (ny - 1)}));
-  const double pixel_area = off.pixel_area_arcsec2();
-  double sum = 0.0, var = 0.0;
-  for (std::size_t p = 0; p < plane; ++p)
-    if (std::isfinite(m0[p]) && nc[p] > 0) {
-      sum += m0[p];
-      var += e0[p] * e0[p];
-    }
-  if (cube.beam && is_jy_per_beam(cube.unit)) {
-    const double ppb = cube.beam->solid_angle_arcsec2() / pixel_area;
-    out.total_flux = sum / ppb;
-    // Beam-correlated noise: one independent value per beam area (approximate, common practice).
-    out.total_flux_err = std::sqrt(var * ppb) / ppb;
-    out.flux_unit = "Jy km/s";
-  } else {
-    out.total_flux = sum;
-    out.total_flux_err = std::sqrt(var);
-    out.flux_unit = m0_unit + " (summed over pixels)";
-  }
-
-  // ---- summary
-  nlohmann::json j;
-  j["cube"] = {{"path", cube.path}, {"nx", nx}, {"ny", ny}, {"nchan", nz}, {"unit", cube.unit}};
-  j["spectral_axis"] = {{"ctype", out.axis.axis_ctype},
-                        {"velocity_ctype", out.axis.velocity_ctype},
-                        {"convention", convention_name(out.axis.convention)},
-                        {"rest_frequency_hz", out.axis.rest_frequency_hz},
-                        {"channel_velocity_kms", v},
-                        {"channel_width_kms", dv}};
-  std::vector<double> rms_json;
-  for (double s : noise.chan) rms_json.push_back(std::isfinite(s) ? s : -1.0);
-  std::vector<double> finite;
-  for (double s : noise.chan)
-    if (std::isfinite(s)) finite.push_back(s);
-  j["noise"] = {{"method", "1.4826 x median absolute deviation, iterated with clipping"},
-                {"clip_sigma", opt.noise.clip_sigma},
-                {"max_iterations", opt.noise.max_iterations},
-                {"estimates_stopped_at_iteration_bound", noise.at_bound},
-                {"per_pixel", opt.noise.per_pixel},
-                {"unit", cube.unit},
-                {"channel_rms", rms_json},
-                {"channel_rms_note", "-1 marks a channel with fewer than three finite pixels"},
-                {"median_channel_rms", median_of(finite)}};
-  j["mask"] = mask_json;
-  j["mask"]["voxels"] = nmask;
-  std::size_t nvel = 0;
-  for (double x : m1) nvel += std::isfinite(x) ? 1 : 0;
-  j["maps"] = {{"mom0_unit", m0_unit}, {"pixels_with_velocity", nvel},
-               {"min_channels_velocity", opt.min_channels_velocity},
-               {"min_channels_dispersion", opt.min_channels_dispersion}};
-  j["total_flux"] = {{"value", out.total_flux}, {"error", out.total_flux_err}, {"unit", out.flux_unit}};
-  out.summary = std::move(j);
+  set_total_flux(cube, mp, m0_unit, out);
+  out.summary = moment_summary(cube, opt, out, noise, mask_json, mp, m0_unit);
   return out;
 }
 

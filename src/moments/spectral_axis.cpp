@@ -1,5 +1,6 @@
 // Spectral axis of a cube through wcslib (see spectral_axis.hpp for the
 // conventions and their source). Velocities km/s, frequencies Hz.
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/moments/spectral_axis.hpp"
 
 #include <wcslib/wcs.h>
@@ -109,7 +110,7 @@ SpectralAxis spectral_axis_from_header(const std::string& header, int spectral_a
   if (needs_rest_frequency(type4) && !have_rest)
     throw InputError(source, "the spectral axis is " + type4 +
                                  " but the header gives no rest frequency (RESTFRQ or RESTFREQ); give "
-                                 "one with --rest-frequency");
+                                 "one with " + setting_ref("rest_frequency"));
 
   SpectralAxis out;
   out.axis_ctype = ctype;

@@ -1,5 +1,6 @@
 // Running every photometric centre estimator and putting the results on the
 // sky (see photometric_centres.hpp).
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/photometry/photometric_centres.hpp"
 
 #include <cmath>
@@ -133,7 +134,7 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
     for (double m : mask->data) user_mask.push_back((!std::isfinite(m) || m != 0.0) ? 1 : 0);
   const PsfSize psf = determine_psf_size(optical, o.psf_fwhm_arcsec, mask ? &user_mask : nullptr, o.psf_estimate);
   if (!psf.known) return refused_summary(optical, psf, "the PSF size is unknown: " + psf.detail +
-                                                           "; give --psf-fwhm ARCSEC", o);
+                                                           "; give " + setting_ref("psf_fwhm_arcsec"), o);
   o.psf_fwhm_arcsec = psf.fwhm_arcsec;
   o.preparation.psf_fwhm_arcsec = o.psf_fwhm_arcsec;
   const PreparedImage p = prepare_image(optical, mask, o.preparation);

@@ -1,4 +1,5 @@
 // The image made ready for the centre estimators (see prepared_image.hpp).
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/photometry/prepared_image.hpp"
 
 #include <Eigen/Eigenvalues>
@@ -32,12 +33,6 @@ double bilinear(const std::vector<double>& d, int nx, int ny, double x, double y
 namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
-
-std::string fmt(double v) {
-  char b[48];
-  std::snprintf(b, sizeof b, "%.6g", v);
-  return b;
-}
 
 // Largest connected (8-neighbour) group of galaxy pixels whose raw value is
 // at least `level`.
@@ -112,7 +107,7 @@ void check_saturation(const Image& image, const PreparationOptions& o, PreparedI
       p.saturated = true;
       p.saturated_pixels = count;
       p.reason = "saturated: " + std::to_string(count) +
-                 " galaxy pixel(s) at or above the saturation level " + fmt(sat);
+                 " galaxy pixel(s) at or above the saturation level " + significant_text(sat, 6);
     }
   } else {
     double gmax = -std::numeric_limits<double>::infinity();
@@ -123,7 +118,7 @@ void check_saturation(const Image& image, const PreparationOptions& o, PreparedI
       p.saturated = true;
       p.saturated_pixels = plateau;
       p.reason = "saturated: " + std::to_string(plateau) +
-                 " connected galaxy pixels sit at the same maximum value " + fmt(gmax) +
+                 " connected galaxy pixels sit at the same maximum value " + significant_text(gmax, 6) +
                  " (a clipped core)";
     }
   }
@@ -139,7 +134,7 @@ PreparedImage prepare_image(const Image& image, const Image* mask, const Prepara
   if (!image.wcs.valid()) throw InputError(src, "the optical image has no celestial WCS");
   if (!(o.psf_fwhm_arcsec > 0.0) || !std::isfinite(o.psf_fwhm_arcsec))
     throw InputError(src, "the PSF FWHM must be a positive number of arcsec (got " +
-                              fmt(o.psf_fwhm_arcsec) + "); give the psf_fwhm_arcsec setting");
+                              significant_text(o.psf_fwhm_arcsec, 6) + "); give the psf_fwhm_arcsec setting");
   if (mask && (mask->nx != image.nx || mask->ny != image.ny)) {
     const std::string msrc = mask->path.empty() ? std::string("mask") : mask->path;
     throw InputError(msrc, "the mask is " + std::to_string(mask->nx) + "x" +
@@ -182,7 +177,7 @@ PreparedImage prepare_image(const Image& image, const Image* mask, const Prepara
     }
   p.data.assign(n, kNaN);
   if (!(vmax > vmin)) {
-    p.reason = "flat image: every usable pixel has the value " + fmt(vmin);
+    p.reason = "flat image: every usable pixel has the value " + significant_text(vmin, 6);
     return p;
   }
 
@@ -196,7 +191,7 @@ PreparedImage prepare_image(const Image& image, const Image* mask, const Prepara
                       : kNaN;
     if (!(p.background.rms > 0.0)) {
       p.reason = "flat image: the sky has no measurable noise (rms 0 about " +
-                 fmt(p.background.level) + ")";
+                 significant_text(p.background.level, 6) + ")";
       return p;
     }
     SourceMaskOptions so = o.sources;

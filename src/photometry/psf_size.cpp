@@ -1,5 +1,7 @@
 // Choosing the PSF size of an optical image: given, header beam, seeing
 // card, or measured from its stars (see psf_size.hpp).
+#include "fulcrum/core/number_text.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/photometry/psf_size.hpp"
 
 #include <algorithm>
@@ -20,11 +22,6 @@ std::string trim(const std::string& s) {
 std::string lower(std::string s) {
   for (char& c : s) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
   return s;
-}
-std::string fmt(double v) {
-  char b[40];
-  std::snprintf(b, sizeof b, "%.4g", v);
-  return b;
 }
 }  // namespace
 
@@ -118,11 +115,11 @@ PsfSize determine_psf_size(const Image& image, double given, const std::vector<s
     p.fwhm_err_arcsec = p.measured->fwhm_err_arcsec;
     p.source = "measured";
     p.detail = "median FWHM of " + std::to_string(p.measured->stars_used) + " star(s) of " +
-               std::to_string(p.measured->candidates) + " candidate peak(s): " + fmt(p.fwhm_arcsec) +
-               " +- " + fmt(p.fwhm_err_arcsec) + " arcsec";
+               std::to_string(p.measured->candidates) + " candidate peak(s): " + significant_text(p.fwhm_arcsec, 4) +
+               " +- " + significant_text(p.fwhm_err_arcsec, 4) + " arcsec";
     return p;
   }
-  p.detail = "no --psf-fwhm, no BMAJ/BMIN" + std::string(why_card.empty() ? ", no seeing card" : " (" + why_card + ")") +
+  p.detail = "no " + setting_ref("psf_fwhm_arcsec") + ", no BMAJ/BMIN" + std::string(why_card.empty() ? ", no seeing card" : " (" + why_card + ")") +
              ", and no usable star: " + p.measured->reason;
   return p;
 }

@@ -1,6 +1,7 @@
 // One galaxy, the whole chain, as a sequence of typed stages (see
 // include/fulcrum/pipeline/galaxy_analysis.hpp). Each step below runs one
 // stage of galaxy_stages.hpp, records its status and fills the summary.
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
 
 #include <filesystem>
@@ -102,7 +103,7 @@ void robustness_step(const GalaxyMaps& maps, const AnalysisOptions& opt, GalaxyS
       s.undetermined_reason = "the split could not be measured: " + why;
       return;
     }
-    s.input.rms = ne.rms;  // used by the split, the bootstrap and the calibration alike
+    s.estimated_rms = ne.rms;  // used by the split, the bootstrap and the calibration alike
     s.notes.push_back(ne.sentence(maps.intensity->unit) + (ne.check.empty() ? "" : "; " + ne.check));
   }
   s.aperture = disc_aperture(s.kinematics ? &*s.kinematics : nullptr, s.beam);
@@ -161,7 +162,7 @@ void stage_notes(GalaxySummary& s) {
 bool bootstrap_centres_from_estimates(const std::string& name) {
   if (name == "adopted") return false;
   if (name == "all-estimates") return true;
-  throw InputError("", "--bootstrap-centres must be adopted or all-estimates (got '" + name + "')");
+  throw SettingError("bootstrap_centres", "'" + name + "'", "adopted or all-estimates");
 }
 
 robustness::ChainSettings chain_settings(const AnalysisOptions& o) {

@@ -93,6 +93,12 @@ json split_json(const GalaxySummary& s) {
         break;
       }
   sj["at_centres"] = at;
+  // Where the line map's noise came from: the user's rms, the intensity
+  // error map, or an estimate from the emission-free pixels.
+  sj["line_noise"] = {{"rms", s.input.rms || s.estimated_rms ? json(s.line_rms()) : json(nullptr)},
+                      {"source", s.input.rms       ? "given (rms)"
+                                 : s.estimated_rms ? "estimated from the emission-free pixels"
+                                                   : "intensity error map"}};
   return sj;
 }
 

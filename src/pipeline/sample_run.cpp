@@ -1,4 +1,6 @@
 // A sample run, merging shards, and the sample products (see the header).
+#include "fulcrum/core/number_text.hpp"
+#include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/pipeline/sample_run.hpp"
 
 #include <algorithm>
@@ -82,7 +84,7 @@ GalaxySummary failed_galaxy(const GalaxyInput& g, const std::string& reason, con
   return s;
 }
 
-std::string fmt_or_dash(double v, int d) { return std::isfinite(v) ? report::fmt(v, d) : "-"; }
+std::string fmt_or_dash(double v, int d) { return std::isfinite(v) ? fixed_text(v, d) : "-"; }
 
 using Getter = std::function<double(const GalaxySummary&)>;
 
@@ -395,7 +397,7 @@ void write_sample_html(const fs::path& dir, const std::string& sample_name, cons
   h.table = paper;
   const json& a = stats["all_determined"];
   const json& s = stats["secure_only"];
-  auto p = [](const json& v) { return v.is_number() ? report::fmt(v.get<double>(), 4) : std::string("-"); };
+  auto p = [](const json& v) { return v.is_number() ? fixed_text(v.get<double>(), 4) : std::string("-"); };
   h.stats = {
       {"galaxies measured", std::to_string(a.value("n", 0)) + " of " + std::to_string(galaxies.size())},
       {"leading excess (A > 0)", std::to_string(a.value("n_leading", 0)) + " of " + std::to_string(a.value("n", 0))},
@@ -485,12 +487,12 @@ GalaxySummary run_one(const GalaxyInput& g, const AnalysisOptions& ao, const Sam
 }  // namespace
 
 RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
-  if (o.out_dir.empty()) throw InputError("", "--out DIR is required");
+  if (o.out_dir.empty()) throw SettingError("out", "''", "the name of a folder");
   fs::path out(o.out_dir);
   if (fs::exists(out / "sample.json") && !o.overwrite)
-    throw InputError(o.out_dir, "already holds a sample run (sample.json); use --force to overwrite");
+    throw InputError(o.out_dir, "already holds a sample run (sample.json); allow overwriting (" + setting_ref("overwrite") + ") or choose another folder");
   auto selected = select_galaxies(manifest, o.selection);
-  if (selected.empty()) throw InputError(manifest.path, "the selection (--only/--shard) leaves no galaxy to run");
+  if (selected.empty()) throw InputError(manifest.path, "the selection (" + setting_ref("only") + ", " + setting_ref("shard") + ") leaves no galaxy to run");
   std::map<std::string, int> index;
   for (std::size_t i = 0; i < manifest.galaxies.size(); ++i) index[manifest.galaxies[i].name] = static_cast<int>(i);
   fs::create_directories(out);
@@ -527,7 +529,7 @@ RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string
   fs::path out(out_dir);
   if (fs::exists(out / "sample.json") && !overwrite &&
       std::find(dirs.begin(), dirs.end(), out_dir) == dirs.end())
-    throw InputError(out_dir, "already holds a sample run (sample.json); use --force to overwrite");
+    throw InputError(out_dir, "already holds a sample run (sample.json); allow overwriting (" + setting_ref("overwrite") + ") or choose another folder");
   std::vector<GalaxySummary> galaxies;
   std::map<std::string, std::string> seen;
   std::set<std::string> sample_names;

@@ -21,7 +21,7 @@ calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMa
   in.galaxy = who;
   in.intensity = &*maps.intensity;
   in.intensity_error = maps.intensity_error ? &*maps.intensity_error : nullptr;
-  in.rms = s.input.rms.value_or(0.0);
+  in.rms = s.line_rms();
   in.velocity = maps.velocity ? &*maps.velocity : nullptr;
   in.velocity_error = maps.velocity_error ? &*maps.velocity_error : nullptr;
   in.centre = *rings;

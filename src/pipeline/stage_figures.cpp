@@ -4,6 +4,7 @@
 #include <cmath>
 #include <numbers>
 
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/pipeline/galaxy_stages.hpp"
 #include "fulcrum/pipeline/sky_grid.hpp"
@@ -112,7 +113,7 @@ FigureFile intensity_figure(const GalaxyMaps& maps, const GalaxySummary& s, cons
   }
   const std::string caption =
       "Line intensity about the adopted centre (east left, north up), every centre estimate with its " +
-      report::fmt(opt.error_ellipse_sigma, 0) +
+      fixed_text(opt.error_ellipse_sigma, 0) +
       "\u03c3 error ellipse, the split line perpendicular to the tail and the tail direction.";
   return {"intensity", caption, report::intensity_figure(f)};
 }

@@ -35,7 +35,7 @@ robustness::AnalysisSummary measure_robustness(const GalaxyMaps& maps, const Gal
   ao.tail_pa_err_deg = s.input.tail_pa_err_deg;
   ao.tail_image = maps.tail_image ? &*maps.tail_image : nullptr;
   if (s.aperture) ao.aperture = s.aperture->spec;
-  ao.rms = s.input.rms.value_or(0.0);
+  ao.rms = s.line_rms();
   ao.error_map = maps.intensity_error ? &*maps.intensity_error : nullptr;
   ao.failures = s.failures;
   ao.settings = settings;

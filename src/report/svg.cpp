@@ -17,7 +17,6 @@ namespace fulcrum::report {
 
 // Kept for the two pipeline call sites that still use this name; new code
 // calls fixed_text (core/number_text.hpp) directly.
-std::string fmt(double v, int decimals) { return fixed_text(v, decimals); }
 
 namespace {
 std::string n2(double v) { return fixed_text(v, 2); }

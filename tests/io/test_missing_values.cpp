@@ -12,7 +12,7 @@
 
 #include "../support/test_support.hpp"
 #include "fulcrum/io/fits_image.hpp"
-#include "fulcrum/io/inspect.hpp"
+#include "fulcrum/imaging/inspect.hpp"
 #include "fulcrum/io/missing_values.hpp"
 
 using namespace fulcrum;

@@ -34,7 +34,7 @@ TEST_CASE("prepare_output_folder refuses to overwrite without force", "[io][outp
   // Holding files: refused without force, naming the folder and the flag.
   touch(dir / "a" / "b" / "report.json");
   CHECK_THROWS_WITH(fulcrum::prepare_output_folder((dir / "a" / "b").string(), false),
-                    Catch::Contains((dir / "a" / "b").string()) && Catch::Contains("--force"));
+                    Catch::Contains((dir / "a" / "b").string()) && Catch::Contains("`overwrite`"));
   CHECK_NOTHROW(fulcrum::prepare_output_folder((dir / "a" / "b").string(), true));
   // A file where the folder should be.
   touch(dir / "plain");

@@ -209,7 +209,7 @@ TEST_CASE("an unusable image is an InputError", "[photometry][refusal]") {
   const PhotometrySummary no_psf = measure_photometric_centres(im, nullptr, quick_options(0.0));
   CHECK_FALSE(no_psf.ok);
   CHECK(no_psf.psf.source == "not-available");
-  CHECK(no_psf.reason.find("--psf-fwhm") != std::string::npos);
+  CHECK(no_psf.reason.find("`psf_fwhm_arcsec`") != std::string::npos);
   Image with_beam = im;
   with_beam.beam = Beam{1.0, 1.0, 0.0};
   CHECK(measure_photometric_centres(with_beam, nullptr, quick_options(0.0)).psf_fwhm_arcsec == 1.0);

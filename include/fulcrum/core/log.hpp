@@ -12,6 +12,9 @@
 namespace fulcrum {
 
 void set_quiet(bool quiet);
+// How warnings and notes are worded for this front end: the command line
+// shows settings named with setting_ref() as its flags. Default: unchanged.
+void set_message_wording(std::string (*reword)(const std::string&));
 bool quiet();
 void warn(const std::string& message);
 void note(const std::string& message);  // a line of information on stderr

@@ -13,6 +13,11 @@
 // command line prints the flag instead of the setting name (setting_flag()
 // in src/cli). Library code never names command-line flags.
 //
+// A message that points the user to a setting (a hint, not a refusal of its
+// value) names it with setting_ref(): `name` in backquotes. The command line
+// shows such names as its flags (cli::with_flags), a manifest user reads the
+// key itself.
+//
 // Units are the caller's: the checkers only compare numbers. Values are
 // printed with the shortest text that reads back to the same double.
 #pragma once
@@ -28,6 +33,9 @@ namespace fulcrum {
 
 // A setting outside its allowed range: an InputError (no file) whose problem
 // is "<setting> = <value> is not allowed: must be <rule>".
+// "`setting`": a setting named in a message (see above).
+std::string setting_ref(std::string_view setting);
+
 class SettingError : public InputError {
  public:
   SettingError(std::string setting, std::string value, std::string rule);

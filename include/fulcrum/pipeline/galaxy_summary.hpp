@@ -86,7 +86,10 @@ struct SampleRef {
 };
 
 struct GalaxySummary {
-  GalaxyInput input;                     // as analysed
+  GalaxyInput input;                     // as analysed (as the user gave it)
+  // The line map's noise when neither an rms nor an error map was given:
+  // estimated from the emission-free pixels (imaging/noise_estimate.hpp).
+  std::optional<double> estimated_rms;
   std::uint64_t seed = 1;
   int draws = 20000;
   bool bootstrap_from_estimates = false;
@@ -111,6 +114,9 @@ struct GalaxySummary {
   std::optional<SampleRef> sample;       // set by a sample run
 
   const Centre* adopted_centre() const { return adopted ? &centres[*adopted] : nullptr; }
+  // The rms of the line map per pixel (map units): given, else estimated,
+  // else 0 (the intensity error map is used).
+  double line_rms() const { return input.rms ? *input.rms : estimated_rms.value_or(0.0); }
 };
 
 }  // namespace fulcrum::pipeline

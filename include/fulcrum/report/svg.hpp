@@ -100,10 +100,6 @@ struct Axes {
 std::vector<double> nice_ticks(double lo, double hi, int target = 5);
 // A tick label with just enough decimals for the step.
 std::string tick_label(double v, double step);
-// Number with fixed decimals: the same as fixed_text (core/number_text.hpp),
-// kept under this name only for the pipeline's two remaining call sites;
-// new code calls fixed_text.
-std::string fmt(double v, int decimals);
 
 // A grid of values over a rectangle of data coordinates: value(i, j) with i
 // along x (xmin at i = 0) and j along y (ymin at j = 0), values at cell

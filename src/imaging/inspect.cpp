@@ -1,5 +1,5 @@
 // `fulcrum inspect`: describe a FITS file for a person.
-#include "fulcrum/io/inspect.hpp"
+#include "fulcrum/imaging/inspect.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -22,17 +22,6 @@ std::string lower(std::string s) {
   return s;
 }
 
-std::string fixed(double v, int decimals) {
-  char b[64];
-  std::snprintf(b, sizeof b, "%.*f", decimals, std::abs(v) < 0.5 * std::pow(10.0, -decimals) ? 0.0 : v);
-  return b;
-}
-
-std::string fmt(double v, int prec = 4) {
-  char b[64];
-  std::snprintf(b, sizeof b, "%.*g", prec, v);
-  return b;
-}
 
 nlohmann::json value_stats(const std::vector<double>& data) {
   std::vector<double> v;
@@ -103,7 +92,7 @@ std::string error_map_reason(const std::string& path, const std::string& header,
   const bool long_tail = hi - med > 5.0 * (med - lo);
   const std::string hint = error_name_hint(path);
   const std::string shape = "its values are all non-negative with a long upper tail (median " +
-                            fmt(med) + ", 99th percentile " + fmt(hi) + ")";
+                            significant_text(med, 4) + ", 99th percentile " + significant_text(hi, 4) + ")";
   if (is_velocity_unit(unit)) return long_tail ? shape + (hint.empty() ? "" : "; " + hint) : "";
   if (!hint.empty() && long_tail) return shape + "; " + hint;
   return "";
@@ -231,8 +220,8 @@ std::string format_inspection(const nlohmann::json& j) {
                          significant_text(j["centre_pixel_fits"][1].get<double>(), 4) + ")");
   line("pixel scale", significant_text(j["pixel_scale_arcsec"][0].get<double>(), 4) + " x " +
                           significant_text(j["pixel_scale_arcsec"][1].get<double>(), 4) + " arcsec");
-  line("orientation", "+y pixel axis points to PA " + fixed(j["pa_of_plus_y_deg"].get<double>(), 3) +
-                          " deg, +x to PA " + fixed(j["pa_of_plus_x_deg"].get<double>(), 3) + " deg (" +
+  line("orientation", "+y pixel axis points to PA " + fixed_text(j["pa_of_plus_y_deg"].get<double>(), 3) +
+                          " deg, +x to PA " + fixed_text(j["pa_of_plus_x_deg"].get<double>(), 3) + " deg (" +
                           (j["east_left_when_north_up"].get<bool>() ? "east left of north, as on the sky"
                                                                    : "mirrored: east right of north") +
                           ")");
@@ -243,7 +232,7 @@ std::string format_inspection(const nlohmann::json& j) {
   } else {
     const auto& b = j["beam"];
     line("beam", significant_text(b["bmaj_arcsec"].get<double>(), 4) + " x " + significant_text(b["bmin_arcsec"].get<double>(), 4) +
-                     " arcsec FWHM, PA " + fixed(b["bpa_deg"].get<double>(), 1) + " deg; " +
+                     " arcsec FWHM, PA " + fixed_text(b["bpa_deg"].get<double>(), 1) + " deg; " +
                      significant_text(b["solid_angle_arcsec2"].get<double>(), 4) + " arcsec^2 = " +
                      significant_text(b["pixels_per_beam"].get<double>(), 4) + " pixels per beam");
   }
@@ -257,7 +246,7 @@ std::string format_inspection(const nlohmann::json& j) {
     std::string t = std::to_string(m["not_a_number"].get<std::size_t>()) + " NaN";
     if (!m["blank_value"].is_null())
       t += ", " + std::to_string(m["blank_pixels"].get<std::size_t>()) + " equal to BLANK = " +
-           fmt(m["blank_value"].get<double>(), 9) + " (honoured on floats)";
+           significant_text(m["blank_value"].get<double>(), 9) + " (honoured on floats)";
     t += ", " + std::to_string(m["infinite"].get<std::size_t>()) + " infinite, " +
          std::to_string(m["absurd_ge_1e30"].get<std::size_t>()) + " with |value| >= 1e30";
     line("missing pixels", t);
