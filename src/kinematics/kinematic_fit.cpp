@@ -504,7 +504,7 @@ VelocitySamples refit_with_scatter(KinematicFit& fit, const VelocitySamples& s,
   }
   GlobalFitSummary next = fit_global_rings(sw, fit.global.geometry, ro);
   if (!next.converged || !next.covariance_ok) {
-    fit.notes.push_back("velocity scatter of " + fmt(fit.scatter.scatter_kms, 2) +
+    fit.notes.push_back("velocity scatter of " + fixed_text(fit.scatter.scatter_kms, 2) +
                         " km/s beyond the error map not used: the refit with it " +
                         (next.converged ? "has a singular covariance" : "did not converge") +
                         " (" + next.message + ")");
@@ -512,10 +512,10 @@ VelocitySamples refit_with_scatter(KinematicFit& fit, const VelocitySamples& s,
     fit.scatter.reason = "the refit with the scatter failed";
     return s;
   }
-  fit.notes.push_back("velocity scatter beyond the error map: " + fmt(fit.scatter.scatter_kms, 2) +
-                      " km/s (reduced chi2 " + fmt(fit.scatter.reduced_chi2_before, 2) +
+  fit.notes.push_back("velocity scatter beyond the error map: " + fixed_text(fit.scatter.scatter_kms, 2) +
+                      " km/s (reduced chi2 " + fixed_text(fit.scatter.reduced_chi2_before, 2) +
                       " with the stated errors, median error " +
-                      fmt(fit.scatter.median_sigma_kms, 2) +
+                      fixed_text(fit.scatter.median_sigma_kms, 2) +
                       " km/s), added to every pixel's error in quadrature");
   adopt_global(fit, std::move(next));
   return sw;
