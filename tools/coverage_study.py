@@ -18,7 +18,7 @@ temporary folder, and prints one table row per preset:
 
 usage:
   /usr/bin/python3 tools/coverage_study.py --fulcrum build/fulcrum --n 40 --jobs 2 \
-      [--presets bright,faint,null,centre-trap] [--kinematics-only] [--clip-snr 3] [--json OUT.json]
+      [--presets bright,faint,null,centre-trap] [--kinematics-only] [--clip-snr 3] [--set scatter_kms=8] [--json OUT.json]
 
 The mocks are made by tests/python/mockgen.py (numpy/scipy/astropy), not by
 fulcrum. Nothing here is timed; it is a benchmark-sized study (minutes), and
@@ -123,10 +123,10 @@ def drop_islands(d, min_pixels):
 
 def one_realisation(args):
     """Generate, fit and analyse one realisation; returns a result dict."""
-    preset, seed, fulcrum, kin_only, draws, keep, islands, clip_snr, tail_err = args
+    preset, seed, fulcrum, kin_only, draws, keep, islands, clip_snr, tail_err, overrides = args
     d = tempfile.mkdtemp(prefix=f"cov_{preset}_{seed}_")
     try:
-        truth = mockgen.generate(preset, seed, d)
+        truth = mockgen.generate(preset, seed, d, **overrides)
         if islands > 0:
             drop_islands(d, islands)
         log = os.path.join(d, "log.txt")
@@ -228,6 +228,8 @@ def main(argv):
     ap.add_argument("--tail-pa-err", type=float, default=0.0,
                     help="tail PA error given to fulcrum analyse, deg (0: the truth's tail PA is exact, so the "
                          "interval of A is compared with A_expected at that angle)")
+    ap.add_argument("--set", action="append", default=[], metavar="KEY=VALUE",
+                    help="override a mockgen.py parameter of every preset (numbers), e.g. scatter_kms=8")
     ap.add_argument("--json", help="write the per-run results and the summary here")
     a = ap.parse_args(argv)
     if not os.access(a.fulcrum, os.X_OK):
@@ -238,9 +240,19 @@ def main(argv):
         if p not in mockgen.PRESETS:
             print(f"coverage_study.py: --presets: unknown preset '{p}'", file=sys.stderr)
             return 2
+    overrides = {}
+    for kv in a.set:
+        key, _, value = kv.partition("=")
+        if key not in mockgen.BASE or not value:
+            print(f"coverage_study.py: --set: '{kv}' is not KEY=VALUE with a mockgen.py parameter", file=sys.stderr)
+            return 2
+        try:
+            overrides[key] = float(value)
+        except ValueError:
+            print(f"coverage_study.py: --set: '{kv}': the value is not a number", file=sys.stderr)
+            return 2
     tasks = [(p, a.first_seed + i, os.path.abspath(a.fulcrum), a.kinematics_only, a.draws, a.keep, a.drop_islands,
-              a.clip_snr, a.tail_pa_err)
-             for p in presets for i in range(a.n)]
+              a.clip_snr, a.tail_pa_err, overrides) for p in presets for i in range(a.n)]
     with cf.ProcessPoolExecutor(max_workers=max(1, a.jobs)) as ex:
         results = list(ex.map(one_realisation, tasks))
     summary = {p: summarise([r for r in results if r["preset"] == p]) for p in presets}

@@ -79,6 +79,10 @@ for g, p in rows.items():
                  f"fit, reduced chi2 {j['diagnostics']['reduced_chi2']:.2f}, beam smearing "
                  f"{'applied' if j['beam_smearing']['applied'] else 'not applied'}"
                  + (f" (max |correction| {j['beam_smearing']['max_abs_correction_kms']:.1f} km/s)" if j['beam_smearing']['applied'] else "")
+                 + (f"; velocity scatter beyond the error map {j['velocity_scatter']['scatter_kms']:.1f} km/s "
+                    f"(reduced chi2 {j['velocity_scatter']['reduced_chi2_stated_errors']:.1f} with the stated errors, "
+                    f"median stated error {j['velocity_scatter']['median_stated_error_kms']:.1f} km/s)"
+                    if j.get('velocity_scatter', {}).get('estimated') else "")
                  + f"; {j['starts']['scouts']} scout starts.")
 print("\nFootprint and fit:\n")
 for n in notes:

@@ -485,6 +485,45 @@ void fit_best_solution(KinematicFit& fit, const VelocitySamples& s, const FirstG
   adopt_global(fit, std::move(best));
 }
 
+// The velocity scatter beyond the error map (velocity_scatter.hpp): measured
+// on the adopted fit's residuals, added to every pixel's error, and the
+// global fit repeated from the adopted solution with those errors. Returns
+// the samples every later step uses (the inflated ones when the refit was
+// adopted).
+VelocitySamples refit_with_scatter(KinematicFit& fit, const VelocitySamples& s,
+                                   const GlobalFitOptions& go, const KinematicOptions& opt) {
+  if (!opt.scatter_term) {
+    fit.scatter.reason = "turned off";
+    return s;
+  }
+  fit.scatter = measure_velocity_scatter(s, fit.global, go.weight_power);
+  if (!(fit.scatter.scatter_kms > 0)) return s;
+  VelocitySamples sw = with_scatter(s, fit.scatter.scatter_kms);
+  GlobalFitOptions ro = go;
+  ro.hold_inc_first_pass = false;
+  for (const auto& node : fit.global.nodes) {
+    ro.start_vrot.push_back(node.vrot_kms);
+    ro.start_vrad.push_back(node.vrad_kms);
+  }
+  GlobalFitSummary next = fit_global_rings(sw, fit.global.geometry, ro);
+  if (!next.converged || !next.covariance_ok) {
+    fit.notes.push_back("velocity scatter of " + fixed_text(fit.scatter.scatter_kms, 2) +
+                        " km/s beyond the error map not used: the refit with it " +
+                        (next.converged ? "has a singular covariance" : "did not converge") +
+                        " (" + next.message + ")");
+    fit.scatter.scatter_kms = 0.0;
+    fit.scatter.reason = "the refit with the scatter failed";
+    return s;
+  }
+  fit.notes.push_back("velocity scatter beyond the error map: " + fixed_text(fit.scatter.scatter_kms, 2) +
+                      " km/s (reduced chi2 " + fixed_text(fit.scatter.reduced_chi2_before, 2) +
+                      " with the stated errors, median error " +
+                      fixed_text(fit.scatter.median_sigma_kms, 2) +
+                      " km/s), added to every pixel's error in quadrature");
+  adopt_global(fit, std::move(next));
+  return sw;
+}
+
 // Why a converged fit cannot be used, with the status it gets; empty when
 // it can.
 std::pair<std::string, std::string> post_fit_problem(const KinematicFit& fit,
@@ -695,9 +734,17 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
       return fit;
     }
   }
-  finish_centres(fit, s, corrected ? *corrected : s, wcs, opt, width, g.max_radius_arcsec);
-  if (opt.residual_covariance)
-    apply_centre_error_terms(fit, corrected ? *corrected : s, go, corrected ? smearing : nullptr);
+  // The scatter beyond the error map, measured on the residuals of the
+  // (smearing-corrected) fit; with it every later step uses inflated errors.
+  const VelocitySamples fitted = refit_with_scatter(fit, corrected ? *corrected : s, go, opt);
+  if (auto [status, why] = post_fit_problem(fit, go, opt); !status.empty()) {
+    if (status == "refused") refuse(fit, why);
+    else { fit.status = status; fit.reason = why; }
+    return fit;
+  }
+  const VelocitySamples observed = with_scatter(s, fit.scatter.scatter_kms);
+  finish_centres(fit, observed, fitted, wcs, opt, width, g.max_radius_arcsec);
+  if (opt.residual_covariance) apply_centre_error_terms(fit, fitted, go, corrected ? smearing : nullptr);
   if (opt.method == Method::harmonic) {
     if (!fit.harmonic_centre) {
       refuse(fit, "the harmonic centre failed: " + fit.harmonic_status);
@@ -831,6 +878,12 @@ nlohmann::json to_json(const KinematicFit& fit) {
   j["footprint"] = footprint_json(fit.footprint);
   j["starts"] = starts_json(fit.starts);
   j["ambiguity"] = ambiguity_json(fit.ambiguity);
+  j["velocity_scatter"] = {{"estimated", fit.scatter.estimated},
+                           {"scatter_kms", fit.scatter.scatter_kms},
+                           {"reduced_chi2_stated_errors", fit.scatter.reduced_chi2_before},
+                           {"median_stated_error_kms", fit.scatter.median_sigma_kms},
+                           {"pixels", fit.scatter.pixels}};
+  if (!fit.scatter.reason.empty()) j["velocity_scatter"]["reason"] = fit.scatter.reason;
   const WorldCoord gw = fit.frame.to_world(fit.guess.centre);
   j["first_guess"] = {{"ra_deg", gw.ra_deg},
                       {"dec_deg", gw.dec_deg},

@@ -26,6 +26,8 @@ std::vector<KinematicSetting> kinematic_settings(KinematicSettings& s) {
       {"smearing_correction", "Correct the fit for beam smearing (on by default)", &s.smearing_correction, true},
       {"footprint_cleaning", "Remove velocity outliers, isolated pixels and islands smaller than a beam (on by default)",
        &s.footprint_cleaning, true},
+      {"scatter_term", "Add the velocity scatter the error map does not describe to every pixel's error and refit "
+       "(on by default)", &s.scatter_term, true},
       {"pa_starts", "PA starts of the multi-start fit, evenly spaced (8)", &s.pa_starts},
   };
 }
@@ -89,6 +91,7 @@ void apply_kinematic_settings(const KinematicSettings& s, KinematicOptions& o,
   apply_priors(s, o, n);
   o.correct_beam_smearing = s.smearing_correction;
   o.footprint.enabled = s.footprint_cleaning;
+  o.scatter_term = s.scatter_term;
   if (s.pa_starts) {
     need(*s.pa_starts >= 1 && *s.pa_starts <= 72 && std::floor(*s.pa_starts) == *s.pa_starts,
          n("pa_starts") + " must be a whole number in [1, 72]");

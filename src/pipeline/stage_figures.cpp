@@ -127,6 +127,21 @@ double median_finite(const std::vector<double>& data) {
   return f[f.size() / 2];
 }
 
+// The pixels the footprint cleaning left out, as offsets from `c0`.
+std::vector<report::RejectedPixel> rejected_pixels(const Image& velocity, const KinematicsResult* k,
+                                                   WorldCoord c0) {
+  std::vector<report::RejectedPixel> out;
+  if (!k) return out;
+  const kinematics::FootprintSummary& f = k->fit.footprint;
+  const OffsetFrame frame(c0);
+  for (std::size_t i = 0; i < f.rejected_x.size(); ++i) {
+    const SkyOffset o = frame.to_offset(
+        velocity.wcs.pixel_to_world({static_cast<double>(f.rejected_x[i]), static_cast<double>(f.rejected_y[i])}));
+    out.push_back({o.east, o.north, f.rejected_why[i] == 'o'});
+  }
+  return out;
+}
+
 FigureFile velocity_figure(const GalaxyMaps& maps, const GalaxySummary& s, const AnalysisOptions& opt,
                            WorldCoord c0, double cap, const std::vector<report::CentreMark>& marks) {
   const Image& velocity = *maps.velocity;
@@ -141,10 +156,15 @@ FigureFile velocity_figure(const GalaxyMaps& maps, const GalaxySummary& s, const
   if (k && k->residual) vf.residual = sky_grid(*k->residual, c0, half, n);
   vf.vsys = k && k->ok() ? k->fit.vsys_kms : median_finite(velocity.data);
   vf.centres = marks;
-  return {"velocity",
-          model ? "Observed velocity field, the tilted-ring model and the residual (observed \u2212 model)."
-                : "Observed velocity field about its median (no kinematic model in this run).",
-          report::velocity_figure(vf)};
+  vf.rejected = rejected_pixels(velocity, k, c0);
+  std::string caption =
+      model ? "Observed velocity field, the tilted-ring model and the residual (observed \u2212 model)."
+            : "Observed velocity field about its median (no kinematic model in this run).";
+  if (!vf.rejected.empty())
+    caption += " Crosses on the observed panel mark the " + std::to_string(vf.rejected.size()) +
+               " pixels the footprint cleaning left out (black: velocity outliers; grey: isolated "
+               "pixels and islands smaller than a beam).";
+  return {"velocity", caption, report::velocity_figure(vf)};
 }
 
 FigureFile rotation_curve(const GalaxySummary& s) {

@@ -391,6 +391,9 @@ std::string velocity_figure(const VelocityFigure& f) {
       c.stroke_width = 0.8;
       for (double lev : nice_ticks(-m, m, 8)) draw_contours(svg, ax, shifted, lev, c);
     }
+    if (!is_resid && &g == &f.velocity)  // the observed panel: what the cleaning left out
+      for (const auto& rp : f.rejected)
+        svg.marker(ax.at(rp.east, rp.north), "cross", 3.5, rp.outlier ? "#000000" : "#8a8a8a", 0.7);
     for (const auto& cm : f.centres)
       if (cm.ok && cm.id.rfind("kinematic", 0) == 0) svg.marker(ax.at(cm.east, cm.north), "plus", 10, "#111111", 1.6);
     svg.end_clip();
@@ -415,6 +418,15 @@ std::string velocity_figure(const VelocityFigure& f) {
                         " km/s (contours every tick step); cool-warm map (Moreland 2009)";
   if (f.residual) caption += "; observed/model colour range \u00b1" + fixed_text(m, 0) + " km/s";
   svg.text({72, 350}, caption, 10.5, "start", 0, "#444444");
+  if (!f.rejected.empty()) {
+    std::size_t outliers = 0;
+    for (const auto& rp : f.rejected) outliers += rp.outlier ? 1 : 0;
+    svg.text({72, 364},
+             "\u00d7 left out by the footprint cleaning: " + std::to_string(outliers) +
+                 " velocity outliers (black), " + std::to_string(f.rejected.size() - outliers) +
+                 " isolated or small-island pixels (grey)",
+             10.5, "start", 0, "#444444");
+  }
   return svg.str();
 }
 

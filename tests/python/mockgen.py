@@ -100,6 +100,12 @@ BASE = {
     "optical_offset_beams": 0.0,    # optical centre, beam FWHM towards lead_pa
     "psf_fwhm_arcsec": 1.0,
     "optical_scale_arcsec": 4.0,
+    # Non-circular motions the velocity error map does not describe (real
+    # discs: streaming, turbulence): a Gaussian random field of this rms
+    # (km/s), correlated like the beam scaled by scatter_scale_beams, added
+    # to the velocities only. 0: off (the presets).
+    "scatter_kms": 0.0,
+    "scatter_scale_beams": 1.0,
 }
 
 PRESETS = {
@@ -364,6 +370,11 @@ def make_maps(p, seed):
         "velocity_error": np.where(keep, sigma_v, np.nan).astype(np.float32),
         "optical": (optical0 + 0.5 * rng.standard_normal(optical0.shape)).astype(np.float32),
     }
+    if p["scatter_kms"] > 0:  # drawn last: the other maps keep their noise
+        f = p["scatter_scale_beams"]
+        wide = dict(p, bmaj_arcsec=f * p["bmaj_arcsec"], bmin_arcsec=f * p["bmin_arcsec"])
+        extra = p["scatter_kms"] * correlated_noise(wide, rng, jac, line0.shape)
+        maps["velocity"] = np.where(keep, vel + extra, np.nan).astype(np.float32)
     truth = dict(truth0)
     truth["seed"] = seed
     truth["pixels_detected"] = int(np.sum(keep))

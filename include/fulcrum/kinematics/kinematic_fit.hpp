@@ -55,6 +55,7 @@
 #include "fulcrum/kinematics/solution_ambiguity.hpp"
 #include "fulcrum/kinematics/harmonic_centre.hpp"
 #include "fulcrum/kinematics/ring_fit.hpp"
+#include "fulcrum/kinematics/velocity_scatter.hpp"
 
 namespace fulcrum::kinematics {
 
@@ -120,6 +121,10 @@ struct KinematicOptions {
   // A second distinct solution within this scaled chi^2 difference makes the
   // solution "ambiguous" (solution_ambiguity.hpp).
   double ambiguity_delta_chi2 = 4.0;
+  // Add the velocity scatter the error map does not describe (non-circular
+  // motions) to every pixel's error in quadrature and refit
+  // (velocity_scatter.hpp); off: pixels weighted by the error map alone.
+  bool scatter_term = true;
   bool record_problem = false;              // keep the global problem (tests)
 };
 
@@ -198,6 +203,7 @@ struct KinematicFit {
   FootprintSummary footprint;       // what the footprint cleaning removed
   MultiStartSummary starts;         // the scouts
   SolutionAmbiguity ambiguity;      // a second distinct solution, if one was fitted
+  VelocityScatter scatter;          // the scatter added to the pixel errors
 };
 
 // `intensity` (optional, may be null) is the line-intensity (moment-0) map

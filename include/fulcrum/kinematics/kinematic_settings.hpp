@@ -6,7 +6,7 @@
 // Names: the manifest key is the name (`max_radius`); the command-line
 // option is "--" and the name with '_' written '-' (`--max-radius`), except
 // the on/off switches, which are on by default and turned off by a flag
-// ("--no-smearing-correction", "--no-footprint-cleaning").
+// ("--no-smearing-correction", "--no-footprint-cleaning", "--no-scatter-term").
 // Units: RA/Dec in degrees, PA (receding half, north through east) and
 // inclination in degrees, vsys in km/s, radii and centre errors in arcsec.
 //
@@ -39,6 +39,7 @@ struct KinematicSettings {
   std::optional<double> noise_correlation;  // eta; 0: 2 x pixels per beam
   bool smearing_correction = true;
   bool footprint_cleaning = true;
+  bool scatter_term = true;                 // velocity_scatter.hpp
   std::optional<double> pa_starts;          // number of PA starts (integer)
 };
 

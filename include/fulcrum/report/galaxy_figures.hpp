@@ -77,12 +77,22 @@ struct BootstrapFigure {
 };
 std::string bootstrap_figure(const BootstrapFigure& f);
 
+// A velocity pixel the footprint cleaning left out (kinematics/footprint.hpp),
+// at (east, north) arcsec from the adopted centre; `outlier`: a velocity
+// outlier against its neighbours, else an isolated pixel or a pixel of an
+// island smaller than a beam.
+struct RejectedPixel {
+  double east = 0, north = 0;
+  bool outlier = false;
+};
+
 struct VelocityFigure {
   std::string galaxy;
   Grid velocity;                   // km/s
   std::optional<Grid> model, residual;
   double vsys = 0;
   std::vector<CentreMark> centres;
+  std::vector<RejectedPixel> rejected;  // crossed out on the observed panel
 };
 std::string velocity_figure(const VelocityFigure& f);
 
