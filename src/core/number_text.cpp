@@ -37,4 +37,12 @@ std::string significant_text(double value, int digits) {
   return buf;
 }
 
+std::string probability_text(double p, int decimals) {
+  if (!std::isfinite(p)) return fixed_text(p, decimals);
+  const double step = std::pow(10.0, -decimals);
+  if (p > 1.0 - 0.5 * step) return "> " + fixed_text(1.0 - step, decimals);
+  if (p < 0.5 * step) return "< " + fixed_text(step, decimals);
+  return fixed_text(p, decimals);
+}
+
 }  // namespace fulcrum

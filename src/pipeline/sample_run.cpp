@@ -389,14 +389,18 @@ std::string summary_text(const std::vector<GalaxySummary>& galaxies) {
   std::size_t w = 6;
   for (const auto& r : galaxies) w = std::max(w, r.input.name.size());
   char line[512];
-  std::snprintf(line, sizeof line, "%-*s  %-16s  %7s  %6s  %8s  %9s\n", static_cast<int>(w), "galaxy", "verdict", "A",
+  std::snprintf(line, sizeof line, "%-*s  %-16s  %7s  %7s  %8s  %9s\n", static_cast<int>(w), "galaxy", "verdict", "A",
                 "P(A>0)", "flip(\")", "plaus.(\")");
   os << line;
   for (const auto& r : galaxies) {
-    std::snprintf(line, sizeof line, "%-*s  %-16s  %7s  %6s  %8s  %9s\n", static_cast<int>(w), r.input.name.c_str(),
-                  verdict_of(r).c_str(), fmt_or_dash(split_value(r, &split::SplitSummary::asymmetry), 3).c_str(),
-                  fmt_or_dash(boot_value(r, &robustness::BootstrapSummary::p_positive), 3).c_str(),
-                  fmt_or_dash(flip_arcsec(r), 2).c_str(), fmt_or_dash(farthest(r), 2).c_str());
+    // An undetermined galaxy shows no numbers (its reason is in the report).
+    const bool none = r.verdict == robustness::Verdict::undetermined;
+    auto shown = [&](double v, int d) { return none ? std::string("-") : fmt_or_dash(v, d); };
+    const double p = boot_value(r, &robustness::BootstrapSummary::p_positive);
+    std::snprintf(line, sizeof line, "%-*s  %-16s  %7s  %7s  %8s  %9s\n", static_cast<int>(w), r.input.name.c_str(),
+                  verdict_of(r).c_str(), shown(split_value(r, &split::SplitSummary::asymmetry), 3).c_str(),
+                  none || !std::isfinite(p) ? "-" : probability_text(p, 3).c_str(), shown(flip_arcsec(r), 2).c_str(),
+                  shown(farthest(r), 2).c_str());
     os << line;
   }
   return os.str();

@@ -197,12 +197,7 @@ std::string cell_human(const Column& c, std::size_t row) {
     case 0: {
       const double v = std::get<0>(c.values)[row];
       if (!std::isfinite(v)) return "";
-      std::string t = fixed(v, c.digits);
-      if (c.probability) {
-        const double step = std::pow(10.0, -c.digits);
-        if (v > 1.0 - 0.5 * step) t = "> " + fixed(1.0 - step, c.digits);
-        else if (v < 0.5 * step) t = "< " + fixed(step, c.digits);
-      }
+      std::string t = c.probability ? probability_text(v, c.digits) : fixed(v, c.digits);
       if (row < c.errors.size() && std::isfinite(c.errors[row])) t += " ± " + fixed(c.errors[row], c.digits);
       return t;
     }

@@ -19,5 +19,8 @@ namespace fulcrum {
 std::string shortest_text(double value);
 std::string fixed_text(double value, int decimals);
 std::string significant_text(double value, int digits);
+// A probability with the precision its draws support: fixed_text, except
+// "> 0.999" and "< 0.001" (for 3 decimals) where it would round to 1 or 0.
+std::string probability_text(double p, int decimals);
 
 }  // namespace fulcrum
