@@ -132,9 +132,21 @@ Image model_on_grid(const Image& grid, const MatchedInputs& in, const RadialProf
   PixelOffsets off(grid, in.centre.position);
   const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
   const double phi_lead = (in.tail_pa_deg + 180.0) * kDeg;
+  // A blank pixel of the data is outside the observed field, and stays blank
+  // in the model, unless the map was blanked by clipping (clip_blank) and the
+  // pixel has a finite noise: then it is a clipped pixel inside the field,
+  // and the model is evaluated there (the mocks clip themselves). Inheriting
+  // the data's clip mask would give the "symmetric" model the data's
+  // asymmetry: a lopsided disc clips further out on its bright side.
+  auto in_field = [&](int x, int y) {
+    if (std::isfinite(grid.at(x, y))) return true;
+    if (!in.clip_blank) return false;
+    const double sig = in.intensity_error ? in.intensity_error->at(x, y) : in.rms;
+    return std::isfinite(sig) && sig > 0.0;
+  };
   for (int y = 0; y < grid.ny; ++y)
     for (int x = 0; x < grid.nx; ++x) {
-      if (!std::isfinite(grid.at(x, y))) {
+      if (!in_field(x, y)) {
         m.at(x, y) = std::nan("");
         continue;
       }

@@ -228,3 +228,44 @@ TEST_CASE("calibration says so when the amplitude tuning cannot reach the measur
   CHECK(s.statement.find("warning: the lopsided mocks reach A =") != std::string::npos);
   CHECK(calibration::to_json(s, false)["tuning_converged"] == false);
 }
+
+TEST_CASE("a map blanked by clipping: the symmetric mock model does not inherit the data's asymmetric mask",
+          "[calibration]") {
+  // A strongly lopsided disc, clipped at 3 sigma with blanks: the bright side
+  // keeps pixels further out, so the data's blank mask is itself lopsided.
+  // The symmetric model must still split into equal halves (A = 0 up to the
+  // pixel grid), because clipped pixels inside the field are evaluated.
+  const auto g = small_galaxy(0.6, 21);
+  const auto p = synth::make_mock(g);
+  Image map = p.intensity;
+  std::size_t blanked = 0;
+  for (std::size_t i = 0; i < map.size(); ++i)
+    if (map.data[i] < 3.0 * p.intensity_error.data[i]) {
+      map.data[i] = std::nan("");
+      ++blanked;
+    }
+  REQUIRE(blanked > 100);
+  auto in = inputs_for(g, p, map, 0.3);
+  in.clip_snr = 3.0;
+  const auto profile = calibration::gas_profile(map, in.centre.position, in.pa_deg, in.inc_deg, 1.0);
+  split::SplitOptions so;
+  so.centre = in.centre.position;
+  so.tail_pa_deg = in.tail_pa_deg;
+  so.aperture = in.aperture;
+  // Inheriting the clip mask (what the calibration did before): the
+  // "symmetric" model is lopsided.
+  in.clip_blank = false;
+  const double inherited = split::split_halves(calibration::mock_intensity_model(in, profile, 0.0), so).asymmetry;
+  in.clip_blank = true;
+  const double evaluated = split::split_halves(calibration::mock_intensity_model(in, profile, 0.0), so).asymmetry;
+  // The same model on the unclipped map (no blanks at all): what is left is
+  // the pixel grid's and the map edge's own asymmetry.
+  const Image whole = p.intensity;
+  auto in_whole = inputs_for(g, p, whole, 0.3);
+  const double grid_only = split::split_halves(calibration::mock_intensity_model(in_whole, profile, 0.0), so).asymmetry;
+  INFO("A of the symmetric model: " << inherited << " with the data's clip mask, " << evaluated << " without, "
+                                    << grid_only << " on the unblanked map");
+  CHECK(std::abs(inherited) > 0.1);
+  CHECK(evaluated == Approx(grid_only).margin(1e-12));
+  CHECK(std::abs(evaluated) < 0.01);
+}
