@@ -322,11 +322,12 @@ report::Table paper_table(const std::vector<GalaxySummary>& galaxies, bool wide)
                    : "Leading-side excess A = (L - T)/(L + T) at the kinematic and optical centres (1-sigma errors "
                      "from the map noise), P = P(A > 0), the smallest centre shift that reverses A, and the verdict.";
   auto take = [&](const std::string& name, const std::string& heading, int digits = -1,
-                  const std::string& error_column = "") {
+                  const std::string& error_column = "", const std::string& human = "") {
     const report::Column* c = full.find(name);
     if (!c) return;
     report::Column copy = *c;
     copy.latex_heading = heading;
+    copy.heading = human;
     if (digits >= 0) copy.digits = digits;
     if (const report::Column* e = error_column.empty() ? nullptr : full.find(error_column))
       copy.errors = std::get<0>(e->values);
@@ -336,23 +337,23 @@ report::Table paper_table(const std::vector<GalaxySummary>& galaxies, bool wide)
   for (const auto& g : galaxies)
     if (g.verdict == robustness::Verdict::undetermined)
       t.notes.push_back(g.input.name + ": no verdict (undetermined): " + g.undetermined_reason + ".");
-  take("galaxy", "Galaxy");
+  take("galaxy", "Galaxy", -1, "", "Galaxy");
   if (wide) {
-    take("verdict", "Verdict");
-    take("asymmetry", "$A$");
-    take("asymmetry_ci95_lo", "$A_{2.5\\%}$");
-    take("asymmetry_ci95_hi", "$A_{97.5\\%}$");
+    take("verdict", "Verdict", -1, "", "Verdict");
+    take("asymmetry", "$A$", -1, "", "A");
+    take("asymmetry_ci95_lo", "$A_{2.5\\%}$", -1, "", "A 2.5%");
+    take("asymmetry_ci95_hi", "$A_{97.5\\%}$", -1, "", "A 97.5%");
   }
-  take("asymmetry_kinematic", "$A_{\\rm kin}$", wide ? 3 : 2, "asymmetry_kinematic_err");
-  take("asymmetry_optical", "$A_{\\rm opt}$", wide ? 3 : 2, "asymmetry_optical_err");
-  take("p_leading", "$P(A{>}0)$");
-  take("flip_distance_arcsec", "$d_{\\rm flip}$", wide ? 2 : 1);
+  take("asymmetry_kinematic", "$A_{\\rm kin}$", wide ? 3 : 2, "asymmetry_kinematic_err", "A at the kinematic centre");
+  take("asymmetry_optical", "$A_{\\rm opt}$", wide ? 3 : 2, "asymmetry_optical_err", "A at the optical centre");
+  take("p_leading", "$P(A{>}0)$", -1, "", "P(A > 0)");
+  take("flip_distance_arcsec", "$d_{\\rm flip}$", wide ? 2 : 1, "", "Shift that reverses A");
   if (wide) {
-    take("flip_distance_beams", "$d_{\\rm flip}/\\theta_{\\rm beam}$");
-    take("farthest_plausible_arcsec", "$d_{\\rm plaus}$");
-    take("adopted_centre", "Centre");
+    take("flip_distance_beams", "$d_{\\rm flip}/\\theta_{\\rm beam}$", -1, "", "Shift in beams");
+    take("farthest_plausible_arcsec", "$d_{\\rm plaus}$", -1, "", "Farthest plausible centre");
+    take("adopted_centre", "Centre", -1, "", "Adopted centre");
   } else {
-    take("verdict", "Verdict");
+    take("verdict", "Verdict", -1, "", "Verdict");
   }
   return t;
 }

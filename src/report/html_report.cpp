@@ -54,14 +54,8 @@ std::string anchor(const std::string& s) {
 }
 
 std::string cell(const Column& c, std::size_t i) {
-  switch (c.values.index()) {
-    case 0: {
-      double v = std::get<0>(c.values)[i];
-      return std::isfinite(v) ? fixed_text(v, c.digits) : "\u2013";
-    }
-    case 1: return std::to_string(std::get<1>(c.values)[i]);
-    default: return std::get<2>(c.values)[i];
-  }
+  const std::string v = human_cell(c, i);
+  return v.empty() ? "\u2013" : v;
 }
 
 }  // namespace
@@ -77,7 +71,7 @@ std::string sample_html(const HtmlSample& s) {
   os << "<div class=\"scroll\"><table class=\"results\">\n<tr>";
   for (const auto& c : s.table.columns) {
     os << "<th class=\"" << (c.is_string() ? "text" : "num") << "\" title=\"" << html_escape(c.description) << "\">"
-       << html_escape(c.name);
+       << html_escape(c.heading.empty() ? c.name : c.heading);
     if (!c.unit.empty()) os << "<span class=\"unit\">" << html_escape(c.unit) << "</span>";
     os << "</th>";
   }

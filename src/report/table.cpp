@@ -192,7 +192,9 @@ std::string latex_number(const std::string& cell) {
   return out;
 }
 
-std::string cell_human(const Column& c, std::size_t row) {
+}  // namespace
+
+std::string human_cell(const Column& c, std::size_t row) {
   switch (c.values.index()) {
     case 0: {
       const double v = std::get<0>(c.values)[row];
@@ -205,8 +207,6 @@ std::string cell_human(const Column& c, std::size_t row) {
     default: return std::get<2>(c.values)[row];
   }
 }
-
-}  // namespace
 
 std::string to_ecsv(const Table& table) {
   const std::size_t n = table.rows();
@@ -307,7 +307,7 @@ std::string to_latex(const Table& table) {
   for (std::size_t i = 0; i < n; ++i) {
     for (std::size_t j = 0; j < table.columns.size(); ++j) {
       const auto& c = table.columns[j];
-      std::string cell = cell_human(c, i);
+      std::string cell = human_cell(c, i);
       // \hspace{0pt} lets TeX hyphenate the first word of a p{} cell.
       if (c.is_string()) cell = (j > 0 && !cell.empty() ? "\\hspace{0pt}" : "") + latex_escape(cell);
       else if (cell.empty()) cell = "\\nodata";
@@ -332,7 +332,7 @@ std::string to_markdown(const Table& table) {
   if (!table.caption.empty()) os << md_escape(table.caption) << "\n\n";
   os << "|";
   for (const auto& c : table.columns) {
-    os << " " << md_escape(c.name);
+    os << " " << md_escape(c.heading.empty() ? c.name : c.heading);
     if (!c.unit.empty()) os << " (" << md_escape(c.unit) << ")";
     os << " |";
   }
@@ -342,7 +342,7 @@ std::string to_markdown(const Table& table) {
   for (std::size_t i = 0; i < n; ++i) {
     os << "|";
     for (const auto& c : table.columns) {
-      std::string cell = cell_human(c, i);
+      std::string cell = human_cell(c, i);
       os << " " << (cell.empty() ? "–" : md_escape(cell)) << " |";
     }
     os << "\n";

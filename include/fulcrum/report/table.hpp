@@ -38,6 +38,7 @@ struct Column {
   std::variant<std::vector<double>, std::vector<std::int64_t>, std::vector<std::string>> values;
   int digits = 3;              // decimals shown in LaTeX and Markdown (floats only)
   std::string latex_heading;   // heading in the LaTeX table; empty: the name, escaped
+  std::string heading;         // heading for people (Markdown, HTML); empty: the name
   // Human formats only (LaTeX, Markdown): each value followed by "+- error"
   // when `errors` holds one per row (the machine formats carry the error as
   // a column of its own).
@@ -75,6 +76,10 @@ struct Table {
 // Shortest round-trip decimal for a double ("nan", "inf", "-inf" for
 // non-finite values).
 std::string format_double(double v);
+
+// One cell as people read it (LaTeX, Markdown, HTML): fixed decimals, the
+// error after "±", probabilities at their precision; "" when not available.
+std::string human_cell(const Column& column, std::size_t row);
 
 std::string to_ecsv(const Table& table);
 std::string to_csv(const Table& table);
