@@ -7,6 +7,7 @@
 #include "fulcrum/sky/angle.hpp"
 #include "fulcrum/sky/offset_frame.hpp"
 #include "fulcrum/split/half_split.hpp"
+#include "fulcrum/split/projection_engine.hpp"
 
 namespace fulcrum::pipeline {
 
@@ -20,21 +21,29 @@ CentreCurves centre_curves(const GalaxySummary& s) {
     const OffsetFrame frame(adopted->position);
     const double beam = s.beam ? s.beam->fwhm_arcsec() : 1.0;
     const SkyOffset lead = direction_of(Angle::from_degrees(r.tail_pa_deg + 180.0));
+    // One projection engine per split angle, shared by every centre (the
+    // engine is the per-angle cost; each centre is then a look-up).
+    std::vector<double> angles;
+    std::vector<split::ProjectionEngine> engines;
+    for (int k = -45; k <= 45; ++k) {
+      angles.push_back(r.tail_pa_deg + 2.0 * k);
+      engines.emplace_back(r.problem.pixels, Angle::from_degrees(angles.back()));
+    }
+    const split::ProjectionEngine& nominal = engines[45];
     for (const Centre& c : s.centres) {
       if (!c.ok()) continue;
       const SkyOffset o = frame.to_offset(c.position);
-      for (int k = -45; k <= 45; ++k) {
-        const double angle = r.tail_pa_deg + 2.0 * k;
-        const auto x = split::split_at(r.problem, Angle::from_degrees(angle), o);
+      for (std::size_t j = 0; j < engines.size(); ++j) {
+        const auto x = split::summarise_halves(r.problem, engines[j].halves(o), engines[j].tail_pa(), o);
         id_a.push_back(c.id());
-        pa.push_back(std::fmod(angle + 720.0, 360.0));
+        pa.push_back(std::fmod(angles[j] + 720.0, 360.0));
         a_a.push_back(x.asymmetry);
         e_a.push_back(x.asymmetry_err);
       }
       for (int k = -30; k <= 30; ++k) {
         const double d = 0.1 * k * beam;
-        const auto x = split::split_at(r.problem, Angle::from_degrees(r.tail_pa_deg),
-                                       {o.east + d * lead.east, o.north + d * lead.north});
+        const SkyOffset p{o.east + d * lead.east, o.north + d * lead.north};
+        const auto x = split::summarise_halves(r.problem, nominal.halves(p), nominal.tail_pa(), p);
         id_o.push_back(c.id());
         off.push_back(d);
         a_o.push_back(x.asymmetry);
