@@ -56,7 +56,7 @@ int main(int argc, char** argv) {
                 repeats, fit.status.c_str(),
                 fit.diagnostics.pixels_used, fit.diagnostics.rings_used, fit.diagnostics.passes,
                 fit.diagnostics.iterations,
-                fit.centre ? separation_arcsec(fit.centre->world, mock.true_centre) : -1.0);
+                fit.centre ? separation_arcsec(fit.centre->position, mock.true_centre) : -1.0);
   }
   return 0;
 }

@@ -286,9 +286,9 @@ std::vector<double> noisy_velocity(const MockSetup& m, int set, const std::vecto
 void refit_centre(const MockSetup& m, const std::vector<double>& vel, int set, MockCentres& mc, MockOutcome& out) {
   const auto fit = m.refitter->fit(vel, set);
   if (fit.status == "ok" && fit.centre) {
-    mc.adopted.position = fit.centre->world;
+    mc.adopted.position = fit.centre->position;
     mc.adopted.covariance = fit.centre->covariance;
-    const SkyOffset d = OffsetFrame(fit.centre->world).to_offset(m.in.centre.position);
+    const SkyOffset d = OffsetFrame(fit.centre->position).to_offset(m.in.centre.position);
     Eigen::Vector2d dv(d.east, d.north);
     const Eigen::Matrix2d& C = fit.centre->covariance;
     out.centre_mahalanobis = C.determinant() > 0 ? std::sqrt(dv.dot(C.inverse() * dv)) : INFINITY;

@@ -139,8 +139,9 @@ void run(const KinematicsArgs& a) {
   if (fit.status != "ok") throw InputError(a.velocity, fit.reason);
   const auto& c = *fit.centre;
   std::printf("dynamical centre (%s): RA %.7f  Dec %.7f deg  pixel (%.2f, %.2f)\n",
-              method_name(fit.method) == "harmonic" ? "harmonic" : "tilted rings", c.world.ra_deg,
-              c.world.dec_deg, fits_pixel(c.pixel.x), fits_pixel(c.pixel.y));
+              method_name(fit.method) == "harmonic" ? "harmonic" : "tilted rings", c.position.ra_deg,
+              c.position.dec_deg, c.pixel_fits ? c.pixel_fits->x : std::nan(""),
+              c.pixel_fits ? c.pixel_fits->y : std::nan(""));
   std::printf("  error (1 sigma): east %.3f  north %.3f arcsec\n", std::sqrt(c.covariance(0, 0)),
               std::sqrt(c.covariance(1, 1)));
   std::printf("  PA %.2f +- %.2f deg   inclination %.2f +- %.2f deg   vsys %.2f +- %.2f km/s\n",
@@ -148,10 +149,10 @@ void run(const KinematicsArgs& a) {
               fit.vsys_err_kms);
   if (fit.harmonic_centre && fit.method == Method::both) {
     const auto& h = *fit.harmonic_centre;
+    const SkyOffset d = OffsetFrame(c.position).to_offset(h.position);
     std::printf("harmonic centre: RA %.7f  Dec %.7f deg  (%.3f, %.3f arcsec east, north of the "
                 "tilted-ring centre)\n",
-                h.world.ra_deg, h.world.dec_deg, h.offset.east - c.offset.east,
-                h.offset.north - c.offset.north);
+                h.position.ra_deg, h.position.dec_deg, d.east, d.north);
   } else if (fit.method == Method::both) {
     std::printf("harmonic centre: not found (%s)\n", fit.harmonic_status.c_str());
   }

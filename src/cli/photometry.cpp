@@ -67,16 +67,17 @@ void run_photometry(const PhotometryArgs& a, CLI::App* cmd) {
   // Given: must be usable (never silently replaced by the header's beam).
   if (cmd->count("--psf-fwhm")) pipeline::setting::psf_fwhm_arcsec(a.psf_fwhm);
 
-  std::optional<DynamicalCentre> dyn;
+  std::optional<Centre> dyn;
   if (!a.dynamical_centre.empty() || !a.dynamical_cov.empty()) {
     if (a.dynamical_centre.empty() || a.dynamical_cov.empty())
       throw InputError("", "--dynamical-centre and --dynamical-cov go together");
     const auto c = parse_list(a.dynamical_centre, 2, "--dynamical-centre");
     const auto v = parse_list(a.dynamical_cov, 3, "--dynamical-cov");
     if (c[1] < -90 || c[1] > 90) throw InputError("", "--dynamical-centre: Dec must be in [-90, 90]");
-    DynamicalCentre d;
-    d.position = {c[0], c[1]};
-    d.cov_arcsec2 << v[0], v[1], v[1], v[2];
+    Eigen::Matrix2d cov;
+    cov << v[0], v[1], v[1], v[2];
+    Centre d = measured_centre(CentreMethod::external, {c[0], c[1]}, cov, "given");
+    d.label = "dynamical";
     if (v[0] < 0 || v[2] < 0 || v[0] * v[2] - v[1] * v[1] < 0)
       throw InputError("", "--dynamical-cov: EE,EN,NN is not a covariance (it must be positive "
                            "semi-definite)");
@@ -109,7 +110,7 @@ void run_photometry(const PhotometryArgs& a, CLI::App* cmd) {
          std::to_string(st.pixel_fits.y) + ")");
   if (!s.ok) warn(a.image + ": no photometric centre: " + s.reason);
   for (const auto& c : s.centres)
-    if (s.ok && !c.ok) warn(a.image + ": " + c.id + " failed: " + c.reason);
+    if (s.ok && !c.ok()) warn(a.image + ": " + c.id() + " failed: " + c.centre.reason);
 
   nlohmann::json j = to_json(s);
   if (!a.mask.empty()) j["mask"] = a.mask;

@@ -27,16 +27,15 @@ namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
-CentreEstimate make_centre(SkyOffset o, const Eigen::Matrix2d& cov, const OffsetFrame& frame,
-                           const CelestialWcs& wcs) {
-  CentreEstimate c;
-  c.offset = o;
-  c.covariance = cov;
-  c.world = frame.to_world(o);
-  c.pixel = {kNaN, kNaN};
+// A kinematic centre at offset `o` of the fit's frame, with its FITS pixel
+// on the velocity map when the WCS gives one.
+Centre make_centre(CentreMethod method, SkyOffset o, const Eigen::Matrix2d& cov, const OffsetFrame& frame,
+                   const CelestialWcs& wcs) {
+  Centre c = measured_centre(method, frame.to_world(o), cov, "velocity map");
   if (wcs.valid()) {
     try {
-      c.pixel = wcs.world_to_pixel(c.world);
+      const PixelCoord p = wcs.world_to_pixel(c.position);
+      c.pixel_fits = PixelCoord{fits_pixel(p.x), fits_pixel(p.y)};
     } catch (const InputError&) {
     }
   }
@@ -45,14 +44,15 @@ CentreEstimate make_centre(SkyOffset o, const Eigen::Matrix2d& cov, const Offset
 
 nlohmann::json num_or_null(double v) { return std::isfinite(v) ? nlohmann::json(v) : nlohmann::json(); }
 
-nlohmann::json centre_json(const CentreEstimate& c) {
+nlohmann::json centre_json(const Centre& c, const OffsetFrame& frame) {
   nlohmann::json j;
-  j["ra_deg"] = c.world.ra_deg;
-  j["dec_deg"] = c.world.dec_deg;
-  j["x_pix"] = num_or_null(fits_pixel(c.pixel.x));
-  j["y_pix"] = num_or_null(fits_pixel(c.pixel.y));
-  j["east_arcsec"] = c.offset.east;
-  j["north_arcsec"] = c.offset.north;
+  j["ra_deg"] = c.position.ra_deg;
+  j["dec_deg"] = c.position.dec_deg;
+  j["x_pix"] = c.pixel_fits ? num_or_null(c.pixel_fits->x) : nlohmann::json();
+  j["y_pix"] = c.pixel_fits ? num_or_null(c.pixel_fits->y) : nlohmann::json();
+  const SkyOffset o = frame.to_offset(c.position);
+  j["east_arcsec"] = o.east;
+  j["north_arcsec"] = o.north;
   j["cov_arcsec2"] = {{num_or_null(c.covariance(0, 0)), num_or_null(c.covariance(0, 1))},
                       {num_or_null(c.covariance(1, 0)), num_or_null(c.covariance(1, 1))}};
   j["err_east_arcsec"] = num_or_null(std::sqrt(c.covariance(0, 0)));
@@ -85,7 +85,8 @@ void apply_centre_error_terms(KinematicFit& fit, const VelocitySamples& fitted, 
   co.radial = go.fit_radial;
   std::optional<MethodCentre> harmonic;
   if (fit.harmonic_centre)
-    harmonic = MethodCentre{"harmonic", fit.harmonic_centre->offset, fit.harmonic_centre->covariance, 0.0};
+    harmonic = MethodCentre{"harmonic", fit.frame.to_offset(fit.harmonic_centre->position),
+                            fit.harmonic_centre->covariance, 0.0};
   std::vector<RingFit> rings;
   for (const auto& r : fit.rings)
     if (r.free) rings.push_back(*r.free);
@@ -640,7 +641,7 @@ void finish_centres(KinematicFit& fit, const VelocitySamples& s, const VelocityS
   Eigen::Matrix2d ring_cov = gl.centre_covariance();
   if (fit.ambiguity.ambiguous)
     ring_cov = add_ambiguity_spread(ring_cov, gl.geometry.centre, fit.ambiguity.second.centre);
-  fit.ring_centre = make_centre(gl.geometry.centre, ring_cov, fit.frame, wcs);
+  fit.ring_centre = make_centre(CentreMethod::kinematic_rings, gl.geometry.centre, ring_cov, fit.frame, wcs);
   if (opt.ring_by_ring) {
     RingFitOptions ro;
     ro.free_vsys = opt.ring_free_vsys;
@@ -664,7 +665,7 @@ void finish_centres(KinematicFit& fit, const VelocitySamples& s, const VelocityS
       Eigen::Matrix2d hcov = hc.covariance;
       if (fit.ambiguity.ambiguous)
         hcov = add_ambiguity_spread(hcov, gl.geometry.centre, fit.ambiguity.second.centre);
-      fit.harmonic_centre = make_centre(hc.centre, hcov, fit.frame, wcs);
+      fit.harmonic_centre = make_centre(CentreMethod::kinematic_harmonic, hc.centre, hcov, fit.frame, wcs);
     } else {
       fit.harmonic_status = hc.reason;
     }
@@ -765,7 +766,7 @@ nlohmann::json to_json(const KinematicFit& fit) {
   j["reason"] = fit.reason;
   j["source"] = fit.source;
   j["reference"] = {{"ra_deg", fit.reference.ra_deg}, {"dec_deg", fit.reference.dec_deg}};
-  j["centre"] = fit.centre ? centre_json(*fit.centre) : nlohmann::json();
+  j["centre"] = fit.centre ? centre_json(*fit.centre, fit.frame) : nlohmann::json();
   if (fit.centre) j["centre"]["from"] = fit.method == Method::harmonic ? "harmonic" : "rings";
   const bool ok = fit.status == "ok";
   j["pa_deg"] = ok ? nlohmann::json(fit.pa_deg) : nlohmann::json();
@@ -776,10 +777,10 @@ nlohmann::json to_json(const KinematicFit& fit) {
   j["vsys_err_kms"] = ok ? num_or_null(fit.vsys_err_kms) : nlohmann::json();
   if (fit.method != Method::rings) {
     j["harmonic_centre"] =
-        fit.harmonic_centre ? centre_json(*fit.harmonic_centre) : nlohmann::json();
+        fit.harmonic_centre ? centre_json(*fit.harmonic_centre, fit.frame) : nlohmann::json();
     j["harmonic_status"] = fit.harmonic_status;
   }
-  if (fit.method == Method::harmonic && fit.ring_centre) j["ring_centre"] = centre_json(*fit.ring_centre);
+  if (fit.method == Method::harmonic && fit.ring_centre) j["ring_centre"] = centre_json(*fit.ring_centre, fit.frame);
   if (ok && fit.ring_centre) j["centre_error_terms"] = to_json(fit.centre_errors);
   nlohmann::json rings = nlohmann::json::array();
   for (const auto& r : fit.rings) {

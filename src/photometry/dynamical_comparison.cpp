@@ -21,12 +21,11 @@ double beam_fwhm_along(const Beam& b, double pa_deg) {
   return 2.0 / std::sqrt(ca * ca / (hm * hm) + sa * sa / (hn * hn));
 }
 
-CentreOffset offset_from_dynamical(const std::string& id, WorldCoord position,
-                                   const Eigen::Matrix2d& cov, const DynamicalCentre& k,
-                                   const ComparisonOptions& o) {
+CentreOffset offset_from_dynamical(const Centre& p, const Centre& k, const ComparisonOptions& o) {
   CentreOffset r;
-  r.id = id;
+  r.id = p.id();
   r.ok = true;
+  const WorldCoord position = p.position;
   const OffsetFrame frame(k.position);
   const SkyOffset d = frame.to_offset(position);
   r.east_arcsec = d.east;
@@ -39,7 +38,7 @@ CentreOffset offset_from_dynamical(const std::string& id, WorldCoord position,
   }
   if (o.distance_mpc && *o.distance_mpc > 0)
     r.offset_kpc = r.offset_arcsec * kpc_per_arcsec(*o.distance_mpc);
-  const Eigen::Matrix2d c = cov + k.cov_arcsec2;
+  const Eigen::Matrix2d c = p.covariance + k.covariance;
   const Eigen::Vector2d v(d.east, d.north);
   if (std::abs(c.determinant()) > 0) {
     const double m2 = v.dot(c.ldlt().solve(v));
@@ -51,27 +50,29 @@ CentreOffset offset_from_dynamical(const std::string& id, WorldCoord position,
   return r;
 }
 
-ComparisonSummary compare_with_dynamical(const PhotometrySummary& ph, const DynamicalCentre& k,
+ComparisonSummary compare_with_dynamical(const PhotometrySummary& ph, const Centre& k,
                                          const ComparisonOptions& o) {
   ComparisonSummary s;
   s.dynamical = k;
   s.options = o;
   for (const auto& c : ph.centres) {
-    if (!c.ok) {
+    if (!c.ok()) {
       CentreOffset r;
-      r.id = c.id;
+      r.id = c.id();
       r.ok = false;
       s.offsets.push_back(r);
       continue;
     }
-    s.offsets.push_back(offset_from_dynamical(c.id, c.world, c.cov_arcsec2, k, o));
+    s.offsets.push_back(offset_from_dynamical(c.centre, k, o));
   }
   s.spread = centre_spread(ph.centres);
   if (s.spread.count > 0) {
     // The mean of the photometric centres, with their scatter as its
     // (systematic) covariance.
-    s.mean_offset = offset_from_dynamical("photometric-mean", s.spread.mean,
-                                          s.spread.scatter_cov_arcsec2, k, o);
+    Centre mean = measured_centre(CentreMethod::external, s.spread.mean, s.spread.scatter_cov_arcsec2,
+                                  "mean of the photometric centres");
+    mean.label = "photometric-mean";
+    s.mean_offset = offset_from_dynamical(mean, k, o);
   }
   return s;
 }
@@ -96,8 +97,8 @@ nlohmann::json to_json(const ComparisonSummary& s) {
   j["dynamical_centre"] = {{"ra_deg", s.dynamical.position.ra_deg},
                            {"dec_deg", s.dynamical.position.dec_deg},
                            {"cov_arcsec2",
-                            {{s.dynamical.cov_arcsec2(0, 0), s.dynamical.cov_arcsec2(0, 1)},
-                             {s.dynamical.cov_arcsec2(1, 0), s.dynamical.cov_arcsec2(1, 1)}}}};
+                            {{s.dynamical.covariance(0, 0), s.dynamical.covariance(0, 1)},
+                             {s.dynamical.covariance(1, 0), s.dynamical.covariance(1, 1)}}}};
   if (s.options.beam)
     j["beam"] = {{"bmaj_arcsec", s.options.beam->bmaj_arcsec},
                  {"bmin_arcsec", s.options.beam->bmin_arcsec},

@@ -10,45 +10,45 @@
 
 namespace fulcrum::photometry {
 
-const PhotometricCentre* PhotometrySummary::find(const std::string& id) const {
+const PhotometricMeasurement* PhotometrySummary::find(const std::string& id) const {
   for (const auto& c : centres)
-    if (c.id == id) return &c;
+    if (c.id() == id) return &c;
   return nullptr;
 }
 
 namespace {
 
-PhotometricCentre on_sky(const std::string& id, const PixelEstimate& e, const Image& image,
-                         const PreparedImage& p) {
-  PhotometricCentre c;
-  c.id = id;
+constexpr const char* kOpticalImage = "optical image";
+
+PhotometricMeasurement on_sky(CentreMethod method, const PixelEstimate& e, const Image& image,
+                              const PreparedImage& p) {
+  PhotometricMeasurement c;
   c.details = e.details;
   if (!e.ok) {
-    c.reason = e.reason;
+    c.centre = failed_centre(method, e.reason, kOpticalImage);
     return c;
   }
-  c.ok = true;
-  c.pixel_fits = {fits_pixel(e.centre.x), fits_pixel(e.centre.y)};
-  c.world = image.wcs.pixel_to_world(e.centre);
+  Eigen::Matrix2d cov = Eigen::Matrix2d::Zero();
   if (e.cov_pixels) {
-    c.cov_arcsec2 = p.jacobian * (*e.cov_pixels) * p.jacobian.transpose();
+    cov = p.jacobian * (*e.cov_pixels) * p.jacobian.transpose();
     c.uncertainty_method = "fit-covariance";
   }
+  c.centre = measured_centre(method, image.wcs.pixel_to_world(e.centre), cov, kOpticalImage);
+  c.centre.pixel_fits = PixelCoord{fits_pixel(e.centre.x), fits_pixel(e.centre.y)};
   return c;
 }
 
-void attach_bootstrap(PhotometricCentre& c, const PreparedImage& p, const Estimator& est,
+void attach_bootstrap(PhotometricMeasurement& c, const PreparedImage& p, const Estimator& est,
                       const PhotometryOptions& o) {
-  if (!c.ok) return;
-  const BootstrapSummary b = bootstrap_centre(p, est, p.background.rms, c.id, o.bootstrap);
+  if (!c.ok()) return;
+  const BootstrapSummary b = bootstrap_centre(p, est, p.background.rms, c.id(), o.bootstrap);
   c.uncertainty_method = "noise-bootstrap";
   c.bootstrap_draws = b.succeeded;
   if (!b.ok) {
-    c.ok = false;
-    c.reason = "the noise bootstrap failed: " + b.reason;
+    c.centre = failed_centre(c.centre.method, "the noise bootstrap failed: " + b.reason, kOpticalImage);
     return;
   }
-  c.cov_arcsec2 = p.jacobian * b.cov_pixels * p.jacobian.transpose();
+  c.centre.covariance = p.jacobian * b.cov_pixels * p.jacobian.transpose();
 }
 
 // Every estimator failed with `why`: the image was fine but not measurable.
@@ -58,16 +58,15 @@ PhotometrySummary refused_summary(const Image& optical, const PsfSize& psf, cons
   s.image = optical.path;
   s.psf = psf;
   s.reason = why;
-  const std::pair<const char*, bool> ids[] = {{"photometric-peak", o.peak_enabled},
-                                              {"photometric-centroid", o.centroid_enabled},
-                                              {"photometric-profile", o.profile_enabled},
-                                              {"photometric-isophote", o.isophote_enabled},
-                                              {"photometric-symmetry", o.symmetry_enabled}};
-  for (const auto& [id, on] : ids)
+  const std::pair<CentreMethod, bool> methods[] = {{CentreMethod::photometric_peak, o.peak_enabled},
+                                                   {CentreMethod::photometric_centroid, o.centroid_enabled},
+                                                   {CentreMethod::photometric_profile, o.profile_enabled},
+                                                   {CentreMethod::photometric_isophote, o.isophote_enabled},
+                                                   {CentreMethod::photometric_symmetry, o.symmetry_enabled}};
+  for (const auto& [method, on] : methods)
     if (on) {
-      PhotometricCentre c;
-      c.id = id;
-      c.reason = why;
+      PhotometricMeasurement c;
+      c.centre = failed_centre(method, why, kOpticalImage);
       s.centres.push_back(c);
     }
   return s;
@@ -85,18 +84,18 @@ PhotometrySummary refused_summary(const Image& optical, const PsfSize& psf, cons
 
 }  // namespace
 
-CentreSpread centre_spread(const std::vector<PhotometricCentre>& centres) {
+CentreSpread centre_spread(const std::vector<PhotometricMeasurement>& centres) {
   CentreSpread s;
-  std::vector<const PhotometricCentre*> ok;
+  std::vector<const Centre*> ok;
   for (const auto& c : centres)
-    if (c.ok) ok.push_back(&c);
+    if (c.ok()) ok.push_back(&c.centre);
   s.count = static_cast<int>(ok.size());
   if (ok.empty()) return s;
-  const OffsetFrame f0(ok.front()->world);
+  const OffsetFrame f0(ok.front()->position);
   Eigen::Vector2d mean = Eigen::Vector2d::Zero();
   std::vector<Eigen::Vector2d> v;
   for (auto* c : ok) {
-    const SkyOffset o = f0.to_offset(c->world);
+    const SkyOffset o = f0.to_offset(c->position);
     v.emplace_back(o.east, o.north);
     mean += v.back();
   }
@@ -109,11 +108,11 @@ CentreSpread centre_spread(const std::vector<PhotometricCentre>& centres) {
     s.rms_arcsec = std::sqrt(s.scatter_cov_arcsec2.trace());
     for (std::size_t i = 0; i < ok.size(); ++i)
       for (std::size_t j = i + 1; j < ok.size(); ++j) {
-        const double d = separation_arcsec(ok[i]->world, ok[j]->world);
+        const double d = separation_arcsec(ok[i]->position, ok[j]->position);
         if (d > s.max_separation_arcsec) {
           s.max_separation_arcsec = d;
-          s.farthest_pair[0] = ok[i]->id;
-          s.farthest_pair[1] = ok[j]->id;
+          s.farthest_pair[0] = ok[i]->id();
+          s.farthest_pair[1] = ok[j]->id();
         }
       }
   }
@@ -171,21 +170,21 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
 
   if (o.peak_enabled) {
     auto est = [&](const std::vector<double>& d) { return estimate_peak(p, d, o.peak); };
-    PhotometricCentre c = on_sky("photometric-peak", est(p.data), optical, p);
+    PhotometricMeasurement c = on_sky(CentreMethod::photometric_peak, est(p.data), optical, p);
     attach_bootstrap(c, p, est, o);
     s.centres.push_back(std::move(c));
   }
   if (o.centroid_enabled) {
     auto est = [&](const std::vector<double>& d) { return estimate_centroid(p, d, o.centroid); };
-    PhotometricCentre c = on_sky("photometric-centroid", centroid, optical, p);
+    PhotometricMeasurement c = on_sky(CentreMethod::photometric_centroid, centroid, optical, p);
     attach_bootstrap(c, p, est, o);
     s.centres.push_back(std::move(c));
   }
   if (o.profile_enabled) {
     ProfileFitOptions po = o.profile;
     if (!po.start) po.start = start;
-    PhotometricCentre c =
-        on_sky("photometric-profile", fit_sersic_profile(p, p.data, rms, po), optical, p);
+    PhotometricMeasurement c =
+        on_sky(CentreMethod::photometric_profile, fit_sersic_profile(p, p.data, rms, po), optical, p);
     s.centres.push_back(std::move(c));
   }
   if (o.isophote_enabled) {
@@ -196,7 +195,7 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
     auto est = [&](const std::vector<double>& d) {
       return estimate_isophote_centre(p, d, rms, io);
     };
-    PhotometricCentre c = on_sky("photometric-isophote", est(p.data), optical, p);
+    PhotometricMeasurement c = on_sky(CentreMethod::photometric_isophote, est(p.data), optical, p);
     attach_bootstrap(c, p, est, o);
     s.centres.push_back(std::move(c));
   }
@@ -206,7 +205,7 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
     if (so.aperture_radius_arcsec <= 0)
       so.aperture_radius_arcsec = centroid_aperture_radius(p, o.centroid);
     auto est = [&](const std::vector<double>& d) { return estimate_symmetry_centre(p, d, so); };
-    PhotometricCentre c = on_sky("photometric-symmetry", est(p.data), optical, p);
+    PhotometricMeasurement c = on_sky(CentreMethod::photometric_symmetry, est(p.data), optical, p);
     attach_bootstrap(c, p, est, o);
     s.centres.push_back(std::move(c));
   }
@@ -221,27 +220,28 @@ nlohmann::json cov_json(const Eigen::Matrix2d& c) {
 }
 }  // namespace
 
-nlohmann::json to_json(const PhotometricCentre& c) {
+nlohmann::json to_json(const PhotometricMeasurement& m) {
+  const Centre& c = m.centre;
   nlohmann::json j;
-  j["id"] = c.id;
-  j["status"] = c.status();
-  if (!c.ok) {
+  j["id"] = c.id();
+  j["status"] = c.ok() ? "ok" : "failed";
+  if (!c.ok()) {
     j["reason"] = c.reason;
     j["ra_deg"] = nullptr;
     j["dec_deg"] = nullptr;
     j["cov_arcsec2"] = nullptr;
   } else {
-    j["ra_deg"] = c.world.ra_deg;
-    j["dec_deg"] = c.world.dec_deg;
-    j["x_fits"] = c.pixel_fits.x;
-    j["y_fits"] = c.pixel_fits.y;
-    j["cov_arcsec2"] = cov_json(c.cov_arcsec2);
-    j["sigma_east_arcsec"] = std::sqrt(std::max(c.cov_arcsec2(0, 0), 0.0));
-    j["sigma_north_arcsec"] = std::sqrt(std::max(c.cov_arcsec2(1, 1), 0.0));
-    j["uncertainty_method"] = c.uncertainty_method;
-    if (c.uncertainty_method == "noise-bootstrap") j["bootstrap_draws"] = c.bootstrap_draws;
+    j["ra_deg"] = c.position.ra_deg;
+    j["dec_deg"] = c.position.dec_deg;
+    j["x_fits"] = c.pixel_fits ? c.pixel_fits->x : 0.0;
+    j["y_fits"] = c.pixel_fits ? c.pixel_fits->y : 0.0;
+    j["cov_arcsec2"] = cov_json(c.covariance);
+    j["sigma_east_arcsec"] = std::sqrt(std::max(c.covariance(0, 0), 0.0));
+    j["sigma_north_arcsec"] = std::sqrt(std::max(c.covariance(1, 1), 0.0));
+    j["uncertainty_method"] = m.uncertainty_method;
+    if (m.uncertainty_method == "noise-bootstrap") j["bootstrap_draws"] = m.bootstrap_draws;
   }
-  j["details"] = c.details;
+  j["details"] = m.details;
   return j;
 }
 

@@ -1,5 +1,5 @@
-// The kinematics stage: tilted-ring and harmonic centres of the velocity map,
-// converted to the one centre type at this boundary (see
+// The kinematics stage: tilted-ring and harmonic centres of the velocity map
+// (see
 // include/fulcrum/pipeline/galaxy_stages.hpp).
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/kinematics/kinematic_settings.hpp"
@@ -11,13 +11,10 @@ namespace {
 
 const char* kVelocityMap = "velocity map";
 
-Centre kinematic_centre(CentreMethod m, const kinematics::KinematicFit& fit,
-                        const std::optional<kinematics::CentreEstimate>& c, const std::string& why_not) {
-  if (fit.status == "ok" && c) {
-    Centre k = measured_centre(m, c->world, c->covariance, kVelocityMap);
-    k.pixel_fits = PixelCoord{fits_pixel(c->pixel.x), fits_pixel(c->pixel.y)};
-    return k;
-  }
+// The fit's centre of method `m`, or a failed centre with the reason.
+Centre kinematic_centre(CentreMethod m, const kinematics::KinematicFit& fit, const std::optional<Centre>& c,
+                        const std::string& why_not) {
+  if (fit.status == "ok" && c) return *c;
   return failed_centre(m, why_not.empty() ? (fit.reason.empty() ? "fit " + fit.status : fit.reason) : why_not,
                        kVelocityMap);
 }

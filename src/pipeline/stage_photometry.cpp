@@ -1,5 +1,4 @@
-// The photometry stage: every photometric centre on the optical image,
-// converted to the one centre type at this boundary (see
+// The photometry stage: every photometric centre on the optical image (see
 // include/fulcrum/pipeline/galaxy_stages.hpp).
 #include "fulcrum/pipeline/galaxy_stages.hpp"
 
@@ -8,15 +7,6 @@ namespace fulcrum::pipeline {
 namespace {
 
 constexpr std::uint64_t kPhotometryStream = 0x70686f746f6d6574ull;  // "photomet"
-
-Centre photometric_centre(const photometry::PhotometricCentre& c) {
-  const CentreMethod m = centre_method_from_name(c.id).value_or(CentreMethod::external);
-  Centre p = c.ok ? measured_centre(m, c.world, c.cov_arcsec2, "optical image")
-                  : failed_centre(m, c.reason, "optical image");
-  if (m == CentreMethod::external) p.label = c.id;
-  if (c.ok) p.pixel_fits = c.pixel_fits;
-  return p;
-}
 
 }  // namespace
 
@@ -28,13 +18,12 @@ PhotometryResult measure_photometry(const GalaxyMaps& maps, const GalaxyInput& i
   po.bootstrap.seed = seed ^ kPhotometryStream;  // a stream of its own
   r.summary = photometry::measure_photometric_centres(*maps.optical, maps.optical_mask ? &*maps.optical_mask : nullptr,
                                                       po);
-  for (const auto& c : r.summary.centres) r.centres.push_back(photometric_centre(c));
+  for (const auto& c : r.summary.centres) r.centres.push_back(c.centre);
   if (kinematic_rings && kinematic_rings->ok()) {
-    photometry::DynamicalCentre dc{kinematic_rings->position, kinematic_rings->covariance};
     photometry::ComparisonOptions co;
     co.beam = beam;
     co.distance_mpc = in.distance_mpc;
-    r.comparison = photometry::compare_with_dynamical(r.summary, dc, co);
+    r.comparison = photometry::compare_with_dynamical(r.summary, *kinematic_rings, co);
   }
   return r;
 }

@@ -33,22 +33,6 @@ void place_tail(const split::SplitProblem& pr, const AnalysisOptions& o, Analysi
   a.tail_pa_err_deg = a.tail->tail_pa_err_deg;
 }
 
-// The successful estimates as offsets about the adopted centre.
-std::vector<CentreEstimate> estimates_in_frame(const AnalysisOptions& o) {
-  const OffsetFrame frame(o.adopted.position);
-  std::vector<CentreEstimate> out;
-  for (const auto& e : o.estimates) {
-    if (!e.ok()) continue;
-    CentreEstimate ce;
-    ce.name = e.id();
-    ce.offset = frame.to_offset(e.position);
-    ce.covariance = e.covariance;
-    ce.weight = e.weight;
-    out.push_back(ce);
-  }
-  return out;
-}
-
 // A over the offset plane (half width from the beam, the plausible centres
 // and the flip distance) and the flip distance over a wide angle range.
 RobustnessFigureData figure_data(const split::SplitProblem& pr, const AnalysisSummary& a,
@@ -89,9 +73,9 @@ AnalysisSummary analyse(const Image& map, const AnalysisOptions& o) {
   const Angle tail = a.tail_pa_deg * degrees;
   a.split = split::split_at(pr, tail);
 
-  const std::vector<CentreEstimate> estimates = estimates_in_frame(o);
   a.at_centres.push_back({o.adopted.id(), a.split});
-  for (const auto& e : estimates) a.at_centres.push_back({e.name, split::split_at(pr, tail, e.offset)});
+  for (const auto& e : o.estimates)
+    if (e.ok()) a.at_centres.push_back({e.id(), split::split_at(pr, tail, pr.offset_of(e.position))});
 
   FlipOptions fo;
   fo.tail_pa_deg = a.tail_pa_deg;
@@ -104,7 +88,7 @@ AnalysisSummary analyse(const Image& map, const AnalysisOptions& o) {
   bo.seed = o.settings.seed;
   bo.centre_covariance = o.adopted.covariance;
   bo.use_estimates = o.settings.bootstrap_estimates;
-  bo.estimates = estimates;
+  bo.estimates = o.estimates;
   bo.tail_pa_deg = a.tail_pa_deg;
   bo.tail_pa_err_deg = a.tail_pa_err_deg;
   bo.keep_draws = o.settings.figure_data;
@@ -112,7 +96,7 @@ AnalysisSummary analyse(const Image& map, const AnalysisOptions& o) {
 
   VerdictInput vi;
   vi.centre_covariance = o.adopted.covariance;
-  vi.estimates = estimates;
+  vi.estimates = o.estimates;
   vi.tail_pa_deg = a.tail_pa_deg;
   vi.tail_pa_err_deg = a.tail_pa_err_deg;
   vi.failures = o.failures;

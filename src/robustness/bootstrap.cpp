@@ -61,7 +61,8 @@ BootstrapSummary bootstrap(const split::SplitProblem& pr, const BootstrapOptions
   std::vector<Source> sources{{o.centre, chol2(o.centre_covariance, "the adopted centre's"), 1.0}};
   if (o.use_estimates)
     for (const auto& e : o.estimates)
-      if (e.ok && e.weight > 0.0) sources.push_back({e.offset, chol2(e.covariance, e.name + "'s"), e.weight});
+      if (e.ok() && e.weight > 0.0)
+        sources.push_back({pr.offset_of(e.position), chol2(e.covariance, e.id() + "'s"), e.weight});
   double wsum = 0.0;
   for (const auto& s : sources) wsum += s.w;
 

@@ -71,7 +71,8 @@ PlausibleCheck check_plausible_centres(const split::SplitProblem& pr, const Verd
     pc.farthest_plausible_arcsec = k * std::sqrt(std::max(0.0, es.eigenvalues()(1)));
   }
   for (const auto& e : in.estimates)
-    if (e.ok) pc.farthest_plausible_arcsec = std::max(pc.farthest_plausible_arcsec, (e.offset - in.centre).norm());
+    if (e.ok())
+      pc.farthest_plausible_arcsec = std::max(pc.farthest_plausible_arcsec, (pr.offset_of(e.position) - in.centre).norm());
   int nominal_sign;
   {
     const ProjectionEngine e(pr.pixels, in.tail_pa_deg * degrees, {0.0, false});
@@ -101,11 +102,11 @@ PlausibleCheck check_plausible_centres(const split::SplitProblem& pr, const Verd
                            " arcsec) for tail PA " + f("%.1f", wrap_pa_deg(a)) + " deg";
     }
     for (const auto& est : in.estimates) {
-      if (!est.ok || pc.sign_changes) continue;
-      const int sg = sign_of(e.asymmetry(e.s_of(est.offset)));
+      if (!est.ok() || pc.sign_changes) continue;
+      const int sg = sign_of(e.asymmetry(e.s_of(pr.offset_of(est.position))));
       if (nominal_sign != 0 && sg != nominal_sign) {
         pc.sign_changes = true;
-        pc.where = "at the " + est.name + " centre for tail PA " + f("%.1f", wrap_pa_deg(a)) + " deg";
+        pc.where = "at the " + est.id() + " centre for tail PA " + f("%.1f", wrap_pa_deg(a)) + " deg";
       }
     }
   }

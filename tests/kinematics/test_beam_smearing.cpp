@@ -169,7 +169,7 @@ TEST_CASE("beam-smearing correction removes the inclination bias of a smeared di
   CHECK(std::abs(cor.inc_deg - spec.inc_deg) < 0.3);
   CHECK(cor.beam_smearing.max_abs_correction_kms > 5.0);
   CHECK(cor.beam_smearing.uncorrected.inc_deg == Approx(raw.inc_deg).margin(1e-6));
-  const double sep = separation_arcsec(cor.centre->world, m.true_centre);
+  const double sep = separation_arcsec(cor.centre->position, m.true_centre);
   CHECK(sep < 0.05);
 
   const auto j = to_json(cor);

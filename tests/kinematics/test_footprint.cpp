@@ -131,7 +131,7 @@ TEST_CASE("delivered-style mocks: BLANK -999, infinite errors, scattered pixels,
     REQUIRE(fit.status == "ok");
     CHECK(fit.footprint.pixels_bad_error == bad_err);
     const double beam = spec.beam.fwhm_arcsec();
-    const bool good = separation_arcsec(fit.centre->world, m.true_centre) < 0.5 * beam &&
+    const bool good = separation_arcsec(fit.centre->position, m.true_centre) < 0.5 * beam &&
                       std::abs(angle_diff_deg(fit.pa_deg, spec.pa_deg)) < 6.0 &&
                       std::abs(fit.inc_deg - spec.inc_deg) < 10.0;
     CHECK(good);

@@ -98,9 +98,10 @@ DrawResult one_draw(unsigned seed, bool harmonic, bool smear = true) {
     return d;
   }
   const double beam = s.beam.fwhm_arcsec();
-  auto score = [&](const CentreEstimate& c, double& err_beams, double& m2) {
+  auto score = [&](const Centre& c, double& err_beams, double& m2) {
     const SkyOffset truth = fit.frame.to_offset(m.true_centre);
-    const Eigen::Vector2d dv(c.offset.east - truth.east, c.offset.north - truth.north);
+    const SkyOffset at = fit.frame.to_offset(c.position);
+    const Eigen::Vector2d dv(at.east - truth.east, at.north - truth.north);
     err_beams = dv.norm() / beam;
     m2 = dv.dot(c.covariance.inverse() * dv);
   };

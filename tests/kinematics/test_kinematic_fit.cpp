@@ -27,12 +27,12 @@ TEST_CASE("noise-free, unsmeared field: exact recovery", "[kinematics]") {
   // Tolerance: the model is not exactly representable (arctan curve vs
   // piecewise-linear nodes), so a small bias remains; 0.02 arcsec = 1% of
   // the beam (our choice).
-  CHECK(separation_arcsec(fit.centre->world, m.true_centre) < 0.02);
+  CHECK(separation_arcsec(fit.centre->position, m.true_centre) < 0.02);
   CHECK(std::abs(angle_diff_deg(fit.pa_deg, spec.pa_deg)) < 0.2);
   CHECK(std::abs(fit.inc_deg - spec.inc_deg) < 0.5);
   CHECK(std::abs(fit.vsys_kms - spec.vsys_kms) < 0.1);
   REQUIRE(fit.harmonic_centre);
-  CHECK(separation_arcsec(fit.harmonic_centre->world, m.true_centre) < 0.05);
+  CHECK(separation_arcsec(fit.harmonic_centre->position, m.true_centre) < 0.05);
 }
 
 TEST_CASE("refusals carry a reason instead of a centre", "[kinematics]") {
@@ -103,7 +103,7 @@ TEST_CASE("JSON holds the contract keys", "[kinematics]") {
     CHECK(j.contains(k));
   CHECK(j["method"] == "both");
   // FITS pixel of the centre: the WCS inverse of its RA/Dec, plus 1.
-  const PixelCoord p = m.velocity.wcs.world_to_pixel(fit.centre->world);
+  const PixelCoord p = m.velocity.wcs.world_to_pixel(fit.centre->position);
   CHECK(j["centre"]["x_pix"].get<double>() == Approx(p.x + 1).margin(1e-9));
   CHECK(j["centre"]["cov_arcsec2"][0][1].get<double>() ==
         Approx(j["centre"]["cov_arcsec2"][1][0].get<double>()));

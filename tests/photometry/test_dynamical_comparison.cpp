@@ -13,9 +13,8 @@ using namespace fulcrum;
 using namespace fulcrum::photometry;
 
 TEST_CASE("offset, beams, kpc and significance of a known offset", "[photometry][comparison]") {
-  DynamicalCentre k;
-  k.position = {150.0, 20.0};
-  k.cov_arcsec2 << 0.04, 0.0, 0.0, 0.04;
+  const Centre k = measured_centre(CentreMethod::kinematic_rings, {150.0, 20.0},
+                                   Eigen::Matrix2d::Identity() * 0.04, "test");
   const OffsetFrame f(k.position);
   const WorldCoord p = f.to_world({0.3, 0.4});  // 0.5 arcsec at PA atan2(0.3, 0.4)
   Eigen::Matrix2d cp;
@@ -23,7 +22,7 @@ TEST_CASE("offset, beams, kpc and significance of a known offset", "[photometry]
   ComparisonOptions o;
   o.beam = Beam{2.0, 1.0, 0.0};  // major axis north-south
   o.distance_mpc = 100.0;
-  const CentreOffset r = offset_from_dynamical("x", p, cp, k, o);
+  const CentreOffset r = offset_from_dynamical(measured_centre(CentreMethod::photometric_peak, p, cp, "test"), k, o);
   // Exact by construction (tangent-plane offsets round trip): 1e-9 arcsec.
   CHECK(r.east_arcsec == Approx(0.3).margin(1e-9));
   CHECK(r.north_arcsec == Approx(0.4).margin(1e-9));
@@ -51,20 +50,18 @@ TEST_CASE("comparison summary skips failed centres and reports the spread", "[ph
   const OffsetFrame f({10.0, -30.0});
   const SkyOffset offs[] = {{0.2, 0.0}, {0.0, 0.2}, {-0.2, 0.0}};
   for (int i = 0; i < 3; ++i) {
-    PhotometricCentre c;
-    c.id = "c" + std::to_string(i);
-    c.ok = true;
-    c.world = f.to_world(offs[i]);
-    c.cov_arcsec2 = Eigen::Matrix2d::Identity() * 1e-4;
+    PhotometricMeasurement c;
+    c.centre = measured_centre(CentreMethod::external, f.to_world(offs[i]), Eigen::Matrix2d::Identity() * 1e-4,
+                               "test");
+    c.centre.label = "c" + std::to_string(i);
     s.centres.push_back(c);
   }
-  PhotometricCentre bad;
-  bad.id = "failed";
-  bad.reason = "test";
+  PhotometricMeasurement bad;
+  bad.centre = failed_centre(CentreMethod::external, "test", "test");
+  bad.centre.label = "failed";
   s.centres.push_back(bad);
-  DynamicalCentre k;
-  k.position = f.to_world({0.0, 0.0});
-  k.cov_arcsec2 = Eigen::Matrix2d::Identity() * 1e-4;
+  const Centre k = measured_centre(CentreMethod::kinematic_rings, f.to_world({0.0, 0.0}),
+                                   Eigen::Matrix2d::Identity() * 1e-4, "test");
   const ComparisonSummary cmp = compare_with_dynamical(s, k);
   REQUIRE(cmp.offsets.size() == 4);
   CHECK_FALSE(cmp.offsets[3].ok);
@@ -83,14 +80,15 @@ TEST_CASE("offsets agree with astropy and scipy.stats.chi2", "[photometry][compa
   const double decs[] = {-70.0, -5.0, 20.0, 84.0};
   int i = 0;
   for (double dec : decs) {
-    DynamicalCentre k;
-    k.position = {359.9995 - 100.0 * i, dec};
-    k.cov_arcsec2 << 0.09, 0.02, 0.02, 0.05;
+    Eigen::Matrix2d ck;
+    ck << 0.09, 0.02, 0.02, 0.05;
+    const Centre k = measured_centre(CentreMethod::kinematic_rings, {359.9995 - 100.0 * i, dec}, ck, "test");
     const OffsetFrame f(k.position);
     const WorldCoord p = f.to_world({1.7 - 1.1 * i, -0.6 + 0.9 * i});
     Eigen::Matrix2d cp;
     cp << 0.02, -0.005, -0.005, 0.03;
-    const CentreOffset r = offset_from_dynamical("x", p, cp, k, {});
+    const CentreOffset r =
+        offset_from_dynamical(measured_centre(CentreMethod::photometric_peak, p, cp, "test"), k, {});
     cases.push_back({{"dyn", {k.position.ra_deg, k.position.dec_deg}},
                      {"cdyn", {{0.09, 0.02}, {0.02, 0.05}}},
                      {"pos", {p.ra_deg, p.dec_deg}},

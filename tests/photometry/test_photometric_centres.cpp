@@ -63,19 +63,19 @@ TEST_CASE("every estimator recovers the centre within 0.1 arcsec at high S/N",
         CHECK(s.masked_sources >= 2);
         const WorldCoord truth = test::test_truth(g, im);
         for (const char* id : kIds) {
-          const PhotometricCentre* c = s.find(id);
+          const PhotometricMeasurement* c = s.find(id);
           REQUIRE(c != nullptr);
-          INFO(id << ": " << c->reason);
-          REQUIRE(c->ok);
-          const double err = separation_arcsec(truth, c->world);
+          INFO(id << ": " << c->centre.reason);
+          REQUIRE(c->ok());
+          const double err = separation_arcsec(truth, c->centre.position);
           INFO("error " << err << " arcsec");
           CHECK(err < tol_arcsec);
           worst[id] = std::max(worst[id], err);
           // The covariance is a proper 2x2 covariance on the sky.
-          CHECK(c->cov_arcsec2(0, 0) > 0);
-          CHECK(c->cov_arcsec2(1, 1) > 0);
-          CHECK(c->cov_arcsec2.determinant() >= 0);
-          CHECK(c->cov_arcsec2(0, 1) == Approx(c->cov_arcsec2(1, 0)));
+          CHECK(c->centre.covariance(0, 0) > 0);
+          CHECK(c->centre.covariance(1, 1) > 0);
+          CHECK(c->centre.covariance.determinant() >= 0);
+          CHECK(c->centre.covariance(0, 1) == Approx(c->centre.covariance(1, 0)));
           CHECK(c->uncertainty_method ==
                 (std::string(id) == "photometric-profile" ? "fit-covariance" : "noise-bootstrap"));
         }
@@ -100,11 +100,11 @@ TEST_CASE("rectangular pixels on a rotated grid", "[photometry][centres]") {
   REQUIRE(s.ok);
   const WorldCoord truth = test::test_truth(g, im);
   for (const auto& c : s.centres) {
-    INFO(c.id << ": " << c.reason);
-    REQUIRE(c.ok);
-    CHECK(separation_arcsec(truth, c.world) < 0.1);  // issue tolerance
+    INFO(c.id() << ": " << c.centre.reason);
+    REQUIRE(c.ok());
+    CHECK(separation_arcsec(truth, c.centre.position) < 0.1);  // issue tolerance
   }
-  const PhotometricCentre* prof = s.find("photometric-profile");
+  const PhotometricMeasurement* prof = s.find("photometric-profile");
   CHECK(prof->details["axis_ratio"].get<double>() == Approx(0.5).margin(0.02));
   CHECK(prof->details["pa_deg"].get<double>() == Approx(70.0).margin(1.0));
 }
@@ -125,10 +125,10 @@ TEST_CASE("a mask file removes pixels from every estimator", "[photometry][centr
     for (int x = 0; x < g.nx; ++x)
       if (std::hypot(x - g.stars[0].x, y - g.stars[0].y) < 4.0) mask.at(x, y) = 1.0;
   const auto with_mask = measure_photometric_centres(im, &mask, o);
-  REQUIRE(no_mask.find("photometric-centroid")->ok);
-  REQUIRE(with_mask.find("photometric-centroid")->ok);
-  const double e0 = separation_arcsec(truth, no_mask.find("photometric-centroid")->world);
-  const double e1 = separation_arcsec(truth, with_mask.find("photometric-centroid")->world);
+  REQUIRE(no_mask.find("photometric-centroid")->ok());
+  REQUIRE(with_mask.find("photometric-centroid")->ok());
+  const double e0 = separation_arcsec(truth, no_mask.find("photometric-centroid")->centre.position);
+  const double e1 = separation_arcsec(truth, with_mask.find("photometric-centroid")->centre.position);
   CHECK(e0 > 0.1);
   CHECK(e1 < 0.05);
   CHECK(with_mask.user_masked_pixels > 30);
@@ -144,8 +144,8 @@ TEST_CASE("an image with no galaxy is refused with a reason", "[photometry][refu
   CHECK(s.reason.rfind("no galaxy", 0) == 0);
   REQUIRE(s.centres.size() == 5);
   for (const auto& c : s.centres) {
-    CHECK_FALSE(c.ok);
-    CHECK(c.reason == s.reason);
+    CHECK_FALSE(c.ok());
+    CHECK(c.centre.reason == s.reason);
   }
   // A lone star is not a galaxy.
   g.stars = {{20.0, 20.0, 5e4}};
@@ -162,7 +162,7 @@ TEST_CASE("a flat image is refused with a reason", "[photometry][refusal]") {
   const auto s = measure_photometric_centres(im, nullptr, quick_options(1.0));
   CHECK_FALSE(s.ok);
   CHECK(s.reason.rfind("flat image", 0) == 0);
-  for (const auto& c : s.centres) CHECK_FALSE(c.ok);
+  for (const auto& c : s.centres) CHECK_FALSE(c.ok());
 }
 
 TEST_CASE("a saturated galaxy is refused with a reason", "[photometry][refusal]") {
@@ -178,7 +178,7 @@ TEST_CASE("a saturated galaxy is refused with a reason", "[photometry][refusal]"
   auto s = measure_photometric_centres(clipped, nullptr, quick_options(1.0));
   CHECK_FALSE(s.ok);
   CHECK(s.reason.rfind("saturated", 0) == 0);
-  for (const auto& c : s.centres) CHECK_FALSE(c.ok);
+  for (const auto& c : s.centres) CHECK_FALSE(c.ok());
   // The SATURATE keyword (FITS common practice) is honoured too.
   Image keyword = im;
   std::string card = "SATURATE= " + std::to_string(g.sky + 0.5 * (top - g.sky));
@@ -245,9 +245,9 @@ TEST_CASE("every estimator recovers the centre of synth mock optical images",
       INFO("n " << n << " q " << q << " " << s.reason);
       REQUIRE(s.ok);
       for (const auto& c : s.centres) {
-        INFO(c.id << ": " << c.reason);
-        REQUIRE(c.ok);
-        const double err = separation_arcsec(truth, c.world);
+        INFO(c.id() << ": " << c.centre.reason);
+        REQUIRE(c.ok());
+        const double err = separation_arcsec(truth, c.centre.position);
         INFO("error " << err << " arcsec");
         CHECK(err < 0.1);
       }

@@ -199,9 +199,9 @@ TEST_CASE("photometry without --psf-fwhm measures the stars and says so", "[phot
   CHECK(j["psf"]["stars_used"] == 4);
   const WorldCoord truth = test::test_truth(g, im);
   for (const auto& c : s.centres) {
-    INFO(c.id << " " << c.reason);
-    REQUIRE(c.ok);
-    CHECK(separation_arcsec(c.world, truth) < 0.1);
+    INFO(c.id() << " " << c.centre.reason);
+    REQUIRE(c.ok());
+    CHECK(separation_arcsec(c.centre.position, truth) < 0.1);
   }
 
   // No stars, no card: refused with the reason, not an exception.

@@ -38,7 +38,7 @@ inline nlohmann::json analyse_mockgen(const std::string& dir, const MockgenRun& 
   const Image vel_err = read_image(dir + "/velocity_error.fits");  // read even when unused: the files must be valid
   nlohmann::json out = {{"dir", dir}, {"A_expected", truth["A_expected"]}, {"preset", truth["preset"]}};
   const WorldCoord truth_centre{truth["centre"]["ra_deg"].get<double>(), truth["centre"]["dec_deg"].get<double>()};
-  kinematics::CentreEstimate centre{truth_centre, {}, {}, Eigen::Matrix2d::Zero()};
+  Centre centre = measured_centre(CentreMethod::external, truth_centre, Eigen::Matrix2d::Zero(), "truth");
   if (!run.true_centre) {
     const kinematics::KinematicOptions ko;
     const auto fit = kinematics::fit_kinematics(vel, &vel_err, ko, &line);
@@ -51,7 +51,7 @@ inline nlohmann::json analyse_mockgen(const std::string& dir, const MockgenRun& 
   robustness::AnalysisOptions ao;
   ao.galaxy = dir;
   ao.adopted = measured_centre(run.true_centre ? CentreMethod::external : CentreMethod::kinematic_rings,
-                               centre.world, centre.covariance, run.true_centre ? "truth" : "velocity map");
+                               centre.position, centre.covariance, run.true_centre ? "truth" : "velocity map");
   if (run.true_centre) ao.adopted.label = "true";
   ao.tail_pa_deg = truth["tail_pa_deg"].get<double>();
   ao.tail_pa_err_deg = run.tail_err_deg;
@@ -61,7 +61,7 @@ inline nlohmann::json analyse_mockgen(const std::string& dir, const MockgenRun& 
   ao.settings.n_draws = run.draws;
   ao.settings.seed = 1;
   const auto a = robustness::analyse(line, ao);
-  const SkyOffset d = OffsetFrame(truth_centre).to_offset(centre.world);
+  const SkyOffset d = OffsetFrame(truth_centre).to_offset(centre.position);
   const Eigen::Matrix2d& C = centre.covariance;
   out.update({{"A", a.split.asymmetry}, {"sigma_A_split", a.split.asymmetry_err},
               {"sigma_A_boot", a.bootstrap.stddev}, {"lo68", a.bootstrap.lo68}, {"hi68", a.bootstrap.hi68},

@@ -56,6 +56,7 @@
 #include "fulcrum/kinematics/harmonic_centre.hpp"
 #include "fulcrum/kinematics/ring_fit.hpp"
 #include "fulcrum/kinematics/velocity_scatter.hpp"
+#include "fulcrum/sky/centre.hpp"
 
 namespace fulcrum::kinematics {
 
@@ -146,13 +147,6 @@ struct BeamSmearingSummary {
   std::vector<double> correction;
 };
 
-struct CentreEstimate {
-  WorldCoord world;
-  SkyOffset offset;                 // arcsec from the reference
-  PixelCoord pixel;                 // 0-based
-  Eigen::Matrix2d covariance = Eigen::Matrix2d::Zero();  // arcsec^2 (east, north)
-};
-
 struct KinematicDiagnostics {
   int pixels_input = 0;             // finite velocity pixels
   int pixels_used = 0;              // in the last global pass
@@ -187,9 +181,12 @@ struct KinematicFit {
   WorldCoord reference;
   OffsetFrame frame;
   FirstGuess guess;                 // relative to `reference`
-  std::optional<CentreEstimate> centre;           // adopted (rings or harmonic)
-  std::optional<CentreEstimate> ring_centre;      // global tilted-ring fit
-  std::optional<CentreEstimate> harmonic_centre;  // harmonic method
+  // Centres in the one centre type (sky/centre.hpp): RA/Dec, covariance in
+  // arcsec^2 on (east, north), FITS pixel on the velocity map; their offsets
+  // in the fit's frame are frame.to_offset(position).
+  std::optional<Centre> centre;           // adopted (rings or harmonic)
+  std::optional<Centre> ring_centre;      // global tilted-ring fit
+  std::optional<Centre> harmonic_centre;  // harmonic method
   std::string harmonic_status;      // "ok", "not run", or the reason it failed
   double pa_deg = 0.0, pa_err_deg = 0.0;
   double inc_deg = 0.0, inc_err_deg = 0.0;

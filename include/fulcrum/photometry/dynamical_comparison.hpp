@@ -30,11 +30,6 @@
 
 namespace fulcrum::photometry {
 
-struct DynamicalCentre {
-  WorldCoord position;
-  Eigen::Matrix2d cov_arcsec2 = Eigen::Matrix2d::Zero();  // (east, north)
-};
-
 struct ComparisonOptions {
   std::optional<Beam> beam;            // of the line map
   std::optional<double> distance_mpc;
@@ -54,7 +49,7 @@ struct CentreOffset {
 };
 
 struct ComparisonSummary {
-  DynamicalCentre dynamical;
+  Centre dynamical;                   // the kinematic centre compared with
   ComparisonOptions options;
   std::vector<CentreOffset> offsets;  // in the order of the photometric centres
   CentreSpread spread;                // of the photometric centres
@@ -64,12 +59,11 @@ struct ComparisonSummary {
 // FWHM (arcsec) of `beam` along the sky direction of position angle `pa_deg`.
 double beam_fwhm_along(const Beam& beam, double pa_deg);
 
-CentreOffset offset_from_dynamical(const std::string& id, WorldCoord position,
-                                   const Eigen::Matrix2d& cov_arcsec2, const DynamicalCentre& k,
-                                   const ComparisonOptions& options);
+// The offset of centre `p` (any method; id() names the row) from the
+// dynamical centre `k`; both are centres of sky/centre.hpp.
+CentreOffset offset_from_dynamical(const Centre& p, const Centre& k, const ComparisonOptions& options);
 
-ComparisonSummary compare_with_dynamical(const PhotometrySummary& photometry,
-                                         const DynamicalCentre& dynamical,
+ComparisonSummary compare_with_dynamical(const PhotometrySummary& photometry, const Centre& dynamical,
                                          const ComparisonOptions& options = {});
 
 nlohmann::json to_json(const CentreOffset& o);

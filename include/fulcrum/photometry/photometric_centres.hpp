@@ -38,6 +38,7 @@
 #include "fulcrum/photometry/profile_fit.hpp"
 #include "fulcrum/photometry/psf_size.hpp"
 #include "fulcrum/photometry/symmetry.hpp"
+#include "fulcrum/sky/centre.hpp"
 
 namespace fulcrum::photometry {
 
@@ -58,17 +59,16 @@ struct PhotometryOptions {
        isophote_enabled = true, symmetry_enabled = true;
 };
 
-struct PhotometricCentre {
-  std::string id;
-  bool ok = false;
-  std::string reason;
-  WorldCoord world;
-  PixelCoord pixel_fits;  // 1-based
-  Eigen::Matrix2d cov_arcsec2 = Eigen::Matrix2d::Zero();
+// One estimator's result: the centre in the one centre type (sky/centre.hpp:
+// method photometric_*, RA/Dec, covariance in arcsec^2 on (east, north),
+// FITS pixel, status and reason) and how its uncertainty was found.
+struct PhotometricMeasurement {
+  Centre centre;
   std::string uncertainty_method;  // "fit-covariance" or "noise-bootstrap"
   int bootstrap_draws = 0;         // succeeded draws, for the bootstrap
   nlohmann::json details = nlohmann::json::object();
-  std::string status() const { return ok ? "ok" : "failed"; }
+  bool ok() const { return centre.ok(); }
+  std::string id() const { return centre.id(); }
 };
 
 struct CentreSpread {
@@ -103,19 +103,19 @@ struct PhotometrySummary {
   int masked_sources_on_galaxy = 0;
   std::vector<StarNearCentre> stars_near_centre;
   double galaxy_peak_snr = 0.0;
-  std::vector<PhotometricCentre> centres;
+  std::vector<PhotometricMeasurement> centres;
   CentreSpread spread;
   std::string status() const { return ok ? "measured" : "refused"; }
-  const PhotometricCentre* find(const std::string& id) const;
+  const PhotometricMeasurement* find(const std::string& id) const;
 };
 
 PhotometrySummary measure_photometric_centres(const Image& optical, const Image* mask,
                                               const PhotometryOptions& options);
 
 // Spread of the successful centres among `centres`.
-CentreSpread centre_spread(const std::vector<PhotometricCentre>& centres);
+CentreSpread centre_spread(const std::vector<PhotometricMeasurement>& centres);
 
-nlohmann::json to_json(const PhotometricCentre& c);
+nlohmann::json to_json(const PhotometricMeasurement& c);
 nlohmann::json to_json(const PhotometrySummary& s);
 
 }  // namespace fulcrum::photometry

@@ -38,17 +38,10 @@
 #include <string>
 #include <vector>
 
+#include "fulcrum/sky/centre.hpp"
 #include "fulcrum/split/half_split.hpp"
 
 namespace fulcrum::robustness {
-
-struct CentreEstimate {
-  std::string name;               // e.g. "kinematic", "optical peak"
-  SkyOffset offset;               // in the problem's frame
-  Eigen::Matrix2d covariance = Eigen::Matrix2d::Zero();  // arcsec^2
-  double weight = 1.0;
-  bool ok = true;                 // false: the estimator failed (not used)
-};
 
 struct BootstrapOptions {
   std::size_t n_draws = 10000;
@@ -56,7 +49,9 @@ struct BootstrapOptions {
   SkyOffset centre;                                        // adopted c0
   Eigen::Matrix2d centre_covariance = Eigen::Matrix2d::Zero();  // arcsec^2
   bool use_estimates = false;
-  std::vector<CentreEstimate> estimates;                   // besides the adopted one
+  // Besides the adopted one (sky/centre.hpp; placed in the problem's frame
+  // by SplitProblem::offset_of; failed ones and weight <= 0 are not used).
+  std::vector<Centre> estimates;
   double tail_pa_deg = 0.0;
   double tail_pa_err_deg = 0.0;
   double angle_node_step_deg = 0.0;  // 0: err/10, at most 1 deg

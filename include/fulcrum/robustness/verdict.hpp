@@ -76,7 +76,7 @@ struct CalibrationEvidence {
 struct VerdictInput {
   SkyOffset centre;                     // adopted c0 (problem frame)
   Eigen::Matrix2d centre_covariance = Eigen::Matrix2d::Zero();
-  std::vector<CentreEstimate> estimates;
+  std::vector<Centre> estimates;        // other centres (sky/centre.hpp); failed ones are skipped
   double tail_pa_deg = 0.0, tail_pa_err_deg = 0.0;
   std::vector<std::string> failures;    // reasons the caller already knows (fits failed, ...)
   std::string galaxy = "the galaxy";

@@ -38,6 +38,7 @@
 
 #include "fulcrum/io/image.hpp"
 #include "fulcrum/sky/ellipse.hpp"
+#include "fulcrum/sky/offset_frame.hpp"
 #include "fulcrum/split/pixel_set.hpp"
 #include "fulcrum/split/projection_engine.hpp"
 
@@ -72,6 +73,10 @@ struct SplitProblem {
   std::string noise_source;   // "error map <path>", "rms X", or "none"
   std::string map_path;
   double max_jacobian_variation = 0.0;
+
+  // The (east, north) offset in arcsec of a sky position in this problem's
+  // frame (tangent-plane offsets about `reference`, sky/offset_frame.hpp).
+  SkyOffset offset_of(WorldCoord position) const { return OffsetFrame(reference).to_offset(position); }
 };
 
 struct SplitOptions {
