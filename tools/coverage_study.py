@@ -98,6 +98,8 @@ def analyse_result(rep, truth):
             out["A_pull"] = (a - truth["A_expected"]) / err
     if ci and ci[0] is not None:
         out["A68_covers"] = bool(ci[0] <= truth["A_expected"] <= ci[1])
+        out["A_ci68"] = ci
+        out["A_err"] = err
     if rb.get("p_leading") is not None:
         out["p_leading"] = rb["p_leading"]
     return out
@@ -151,7 +153,16 @@ def one_realisation(args):
             run(cmd, log)
             rp = os.path.join(out, "report.json")
             if os.path.exists(rp):
-                res.update(analyse_result(json.load(open(rp)), truth))
+                rep = json.load(open(rp))
+                res.update(analyse_result(rep, truth))
+                # The centre the analysis used: its covariance carries the
+                # re-fit bootstrap's scale (calibration on), which the
+                # kinematics command alone does not run.
+                k = rep.get("kinematics") or {}
+                if k.get("status") == "ok":
+                    res.update(kinematics_result(k, truth))
+                    if k.get("centre_bootstrap"):
+                        res["centre_bootstrap"] = k["centre_bootstrap"]
         return res
     finally:
         if keep:

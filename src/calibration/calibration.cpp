@@ -256,8 +256,11 @@ void setup_velocity(MockSetup& m, const RadialProfile& profile, double e_lopside
   // The same grid and kernel: the velocity noise is the second field of the
   // line noise's transform; otherwise a generator of its own.
   const Eigen::Matrix2d vk = noise_kernel(beam, voff.jacobian(), in.noise_correlation_beams);
+  // With an extra scatter the velocity grid needs two fields per mock: a
+  // generator of its own gives both from one transform.
   const bool same = vgrid.nx == m.real.nx && vgrid.ny == m.real.ny &&
-                    (vk - m.line_noise->covariance()).norm() <= 1e-12 * vk.norm();
+                    (vk - m.line_noise->covariance()).norm() <= 1e-12 * vk.norm() &&
+                    !(in.velocity_scatter_kms > 0.0);
   if (!same) m.velocity_noise.emplace(vgrid.nx, vgrid.ny, vk);
 }
 
@@ -274,11 +277,26 @@ Image noisy_line_map(const MockSetup& m, int set, const std::vector<double>& n) 
   return map;
 }
 
-// Velocity map of one mock: smeared model + noise with the beam correlation.
-std::vector<double> noisy_velocity(const MockSetup& m, int set, const std::vector<double>& n) {
+// Velocity map of one mock: smeared model + noise with the beam correlation
+// (+ the measured extra scatter, field `scatter`, when there is one).
+std::vector<double> noisy_velocity(const MockSetup& m, int set, const std::vector<double>& n,
+                                   const std::vector<double>& scatter) {
   std::vector<double> vel = m.velocity[set];
-  for (std::size_t i = 0; i < vel.size(); ++i) vel[i] += m.velocity_sigma[i] * n[i];
+  const double s = m.in.velocity_scatter_kms;
+  for (std::size_t i = 0; i < vel.size(); ++i) {
+    vel[i] += m.velocity_sigma[i] * n[i];
+    if (s > 0.0 && i < scatter.size()) vel[i] += s * scatter[i];
+  }
   return vel;
+}
+
+// The velocity noise fields of mock `seed`: on the velocity grid's own
+// generator (with the scatter field when there is a scatter), else the second
+// field of the line noise's transform (drawn by the caller).
+void draw_velocity_noise(const MockSetup& m, std::uint64_t seed, std::vector<double>& vel_n,
+                         std::vector<double>& scatter_n) {
+  Random vnoise = Random::stream(seed, kVelocityNoiseStream);
+  m.velocity_noise->draw(vnoise, vel_n, m.in.velocity_scatter_kms > 0.0 ? &scatter_n : nullptr);
 }
 
 // Re-fit the kinematic centre of one mock; on success the adopted centre
@@ -287,10 +305,10 @@ void refit_centre(const MockSetup& m, const std::vector<double>& vel, int set, M
   const auto fit = m.refitter->fit(vel, set);
   if (fit.status == "ok" && fit.centre) {
     mc.adopted.position = fit.centre->position;
-    mc.adopted.covariance = fit.centre->covariance;
+    mc.adopted.covariance = m.opt.centre_covariance_scale2 * fit.centre->covariance;
     const SkyOffset d = OffsetFrame(fit.centre->position).to_offset(m.in.centre.position);
     Eigen::Vector2d dv(d.east, d.north);
-    const Eigen::Matrix2d& C = fit.centre->covariance;
+    const Eigen::Matrix2d& C = mc.adopted.covariance;
     out.centre_mahalanobis = C.determinant() > 0 ? std::sqrt(dv.dot(C.inverse() * dv)) : INFINITY;
   } else {
     out.centre_fit_ok = false;
@@ -324,20 +342,17 @@ void run_mock(const MockSetup& m, int set, std::size_t k, MockOutcome& out) {
   out.true_asymmetry = m.truth[set];
   try {
     const bool do_refit = m.refit && (m.opt.refit_every <= 1 || k % m.opt.refit_every == 0);
-    std::vector<double> line_n, vel_n;
+    std::vector<double> line_n, vel_n, scatter_n;
     Random noise = Random::stream(out.seed, kLineNoiseStream);
     m.line_noise->draw(noise, line_n, do_refit && !m.velocity_noise ? &vel_n : nullptr);
-    if (do_refit && m.velocity_noise) {
-      Random vnoise = Random::stream(out.seed, kVelocityNoiseStream);
-      m.velocity_noise->draw(vnoise, vel_n, nullptr);
-    }
+    if (do_refit && m.velocity_noise) draw_velocity_noise(m, out.seed, vel_n, scatter_n);
     const Image map = noisy_line_map(m, set, line_n);
     MockCentres mc;
     out.centre_refitted = do_refit;
     out.centre_fit_ok = true;
     mc.adopted = in.centre;
     if (do_refit) {
-      refit_centre(m, noisy_velocity(m, set, vel_n), set, mc, out);
+      refit_centre(m, noisy_velocity(m, set, vel_n, scatter_n), set, mc, out);
     } else if (m.refit) {
       // A mock between re-fits stands in for one: its adopted centre is the
       // truth moved by a draw from the real fit's covariance (what a re-fit
@@ -525,6 +540,85 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
   s.statement = calibration_statement(s, opt);
   s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
   return s;
+}
+
+CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& in, const CentreBootstrapOptions& o) {
+  CentreBootstrap b;
+  if (!in.velocity) {
+    b.reason = "no velocity map";
+    return b;
+  }
+  if (!in.intensity || !in.intensity->beam) {
+    b.reason = "no line map with a beam to weight the mock velocities";
+    return b;
+  }
+  const Image& real = *in.intensity;
+  const RadialProfile profile =
+      gas_profile(real, in.centre.position, in.pa_deg, in.inc_deg, 0.5 * real.beam->fwhm_arcsec());
+  if (profile.mean.empty()) {
+    b.reason = "the intensity map has no positive gas profile";
+    return b;
+  }
+  real.wcs.keep_grid_world(real.nx, real.ny);
+  in.velocity->wcs.keep_grid_world(in.velocity->nx, in.velocity->ny);
+  CalibrationOptions opt;
+  opt.seed = o.seed;
+  opt.correct_beam_smearing = o.correct_beam_smearing;
+  MockSetup m(in, opt, real);
+  m.line_noise.emplace(real.nx, real.ny,
+                       noise_kernel(*real.beam, PixelOffsets(real, in.centre.position).jacobian(),
+                                    in.noise_correlation_beams));
+  setup_velocity(m, profile, 0.0);
+  const Image& vgrid = *in.velocity;
+  if (!m.velocity_noise)  // the line grid's kernel: a generator on the velocity grid for both fields
+    m.velocity_noise.emplace(vgrid.nx, vgrid.ny, m.line_noise->covariance());
+  std::vector<double> m2(o.n_refits, std::nan(""));
+  const long n = static_cast<long>(o.n_refits);
+#pragma omp parallel for schedule(dynamic, 1)
+  for (long k = 0; k < n; ++k) {
+    const std::uint64_t seed = mock_seed(o.seed, 2, static_cast<std::size_t>(k));
+    std::vector<double> vel_n, scatter_n;
+    draw_velocity_noise(m, seed, vel_n, scatter_n);
+    try {
+      const auto fit = m.refitter->fit(noisy_velocity(m, 0, vel_n, scatter_n), 0);
+      if (fit.status != "ok" || !fit.centre) continue;
+      const SkyOffset d = OffsetFrame(fit.centre->position).to_offset(in.centre.position);
+      const Eigen::Vector2d dv(d.east, d.north);
+      const Eigen::Matrix2d& C = fit.centre->covariance;
+      if (C.determinant() > 0.0) m2[static_cast<std::size_t>(k)] = dv.dot(C.inverse() * dv);
+    } catch (const std::exception&) {
+    }
+  }
+  double sum = 0.0;
+  for (double v : m2) {
+    if (std::isfinite(v)) {
+      ++b.refits;
+      sum += v;
+    } else {
+      ++b.failed;
+    }
+  }
+  if (b.refits < o.min_refits) {
+    b.reason = std::to_string(b.refits) + " of " + std::to_string(o.n_refits) + " re-fits succeeded (at least " +
+               std::to_string(o.min_refits) + " needed)";
+    return b;
+  }
+  b.mean_m2 = sum / static_cast<double>(b.refits);
+  b.scale2 = std::clamp(0.5 * b.mean_m2, o.min_scale2, o.max_scale2);
+  b.applied = true;
+  return b;
+}
+
+json to_json(const CentreBootstrap& b) {
+  json j = {{"applied", b.applied}, {"refits", b.refits}, {"failed", b.failed}};
+  if (b.applied) {
+    j["mean_m2"] = b.mean_m2;
+    j["covariance_scale"] = b.scale2;
+    j["error_scale"] = std::sqrt(b.scale2);
+  } else {
+    j["reason"] = b.reason;
+  }
+  return j;
 }
 
 robustness::CalibrationEvidence verdict_evidence(const CalibrationSummary& s) {

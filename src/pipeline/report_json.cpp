@@ -58,6 +58,7 @@ json kinematics_json(const GalaxySummary& s) {
             {"rings", json::array()}};
   json kj = kinematics::to_json(s.kinematics->fit);
   kj["status"] = s.kinematics->fit.status;
+  if (s.centre_bootstrap) kj["centre_bootstrap"] = calibration::to_json(*s.centre_bootstrap);
   return kj;
 }
 

@@ -4,20 +4,30 @@
 #include <cmath>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/random.hpp"
 #include "fulcrum/pipeline/galaxy_stages.hpp"
 
 namespace fulcrum::pipeline {
 
-calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMaps& maps) {
+namespace {
+
+constexpr std::uint64_t kCentreBootstrapStream = 0x63656e7472656669ull;  // "centrefi"
+
+const Centre* ring_centre(const GalaxySummary& s) {
+  for (const auto& c : s.centres)
+    if (c.method == CentreMethod::kinematic_rings && c.ok()) return &c;
+  return nullptr;
+}
+
+// The kinematic half of the matched inputs: maps, noise, clipping and the
+// fitted disc (everything the mocks' velocity fields need).
+calibration::MatchedInputs kinematic_inputs(const GalaxySummary& s, const GalaxyMaps& maps) {
   const std::string& who = s.input.name;
   if (!maps.intensity) throw InputError(who, "calibration needs the intensity map");
-  const Centre* rings = nullptr;
-  for (const auto& c : s.centres)
-    if (c.method == CentreMethod::kinematic_rings && c.ok()) rings = &c;
+  const Centre* rings = ring_centre(s);
   if (!rings || !s.kinematics || !s.kinematics->ok())
     throw InputError(who, "has no successful kinematic tilted-ring centre: nothing to match the mocks to");
   if (s.kinematics->rings.empty()) throw InputError(who, "has no ring table (kinematics.rings)");
-  if (!s.robustness) throw InputError(who, "has no split (calibration needs the measured asymmetry)");
   calibration::MatchedInputs in;
   in.galaxy = who;
   in.intensity = &*maps.intensity;
@@ -35,12 +45,23 @@ calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMa
   in.pa_deg = fit.pa_deg;
   in.inc_deg = fit.inc_deg;
   in.vsys_kms = fit.vsys_kms;
+  in.velocity_scatter_kms = fit.scatter.scatter_kms;
   for (const auto& r : s.kinematics->rings) {
     if (!std::isfinite(r.radius_arcsec) || !std::isfinite(r.vrot_kms)) continue;
     in.ring_radius_arcsec.push_back(r.radius_arcsec);
     in.ring_vrot_kms.push_back(r.vrot_kms);
   }
   if (in.ring_radius_arcsec.empty()) throw InputError(who, "has no ring table (kinematics.rings)");
+  return in;
+}
+
+}  // namespace
+
+calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMaps& maps) {
+  const std::string& who = s.input.name;
+  calibration::MatchedInputs in = kinematic_inputs(s, maps);
+  if (!s.robustness) throw InputError(who, "has no split (calibration needs the measured asymmetry)");
+  const Centre* rings = ring_centre(s);
   in.tail_pa_deg = s.robustness->tail_pa_deg;
   in.tail_pa_err_deg = s.robustness->tail_pa_err_deg;
   in.measured_asymmetry = s.robustness->split.asymmetry;
@@ -58,11 +79,51 @@ CalibrationResult calibrate_verdict(const GalaxySummary& s, const GalaxyMaps& ma
     co.n_mocks = static_cast<std::size_t>(opt.calibrate);
     co.seed = opt.seed;
     co.chain = chain_settings(opt);
+    if (s.centre_bootstrap && s.centre_bootstrap->applied) co.centre_covariance_scale2 = s.centre_bootstrap->scale2;
     r.summary = calibration::calibrate(matched_inputs(s, maps), co);
   } catch (const InputError& e) {
     r.failure = e.what();
   }
   return r;
+}
+
+
+
+calibration::CentreBootstrap widen_centre_covariance(kinematics::KinematicFit& fit, const Image& velocity,
+                                                     const Image* velocity_error, const Image& intensity,
+                                                     std::uint64_t seed, std::size_t n_refits) {
+  calibration::CentreBootstrap b;
+  if (fit.status != "ok" || !fit.ring_centre) {
+    b.reason = "no tilted-ring centre";
+    return b;
+  }
+  calibration::MatchedInputs in;
+  in.galaxy = velocity.path;
+  in.intensity = &intensity;
+  in.velocity = &velocity;
+  in.velocity_error = velocity_error;
+  in.centre = *fit.ring_centre;
+  in.pa_deg = fit.pa_deg;
+  in.inc_deg = fit.inc_deg;
+  in.vsys_kms = fit.vsys_kms;
+  in.velocity_scatter_kms = fit.scatter.scatter_kms;
+  for (const auto& r : fit.rings) {
+    if (!std::isfinite(r.node.radius_arcsec) || !std::isfinite(r.node.vrot_kms)) continue;
+    in.ring_radius_arcsec.push_back(r.node.radius_arcsec);
+    in.ring_vrot_kms.push_back(r.node.vrot_kms);
+  }
+  if (in.ring_radius_arcsec.empty()) {
+    b.reason = "no ring table";
+    return b;
+  }
+  calibration::CentreBootstrapOptions o;
+  o.seed = splitmix64(seed ^ kCentreBootstrapStream);
+  o.n_refits = n_refits;
+  b = calibration::bootstrap_centre_covariance(in, o);
+  if (!b.applied) return b;
+  for (auto* c : {&fit.ring_centre, &fit.centre})
+    if (*c && c->value().method == CentreMethod::kinematic_rings) c->value().covariance *= b.scale2;
+  return b;
 }
 
 }  // namespace fulcrum::pipeline

@@ -69,6 +69,11 @@ struct MatchedInputs {
   const Image* velocity = nullptr;         // optional: the real velocity map (grid and blanks)
   const Image* velocity_error = nullptr;   // optional per-pixel 1-sigma (km/s)
   double velocity_noise_kms = 5.0;         // used when no velocity error map is given
+  // The velocity scatter the error map does not describe, as the real fit
+  // measured it (kinematics/velocity_scatter.hpp; km/s): added to the mock
+  // velocities as a field of its own with the noise's beam correlation, so
+  // that the re-fits see what the real fit saw.
+  double velocity_scatter_kms = 0.0;
   // The fitted kinematics: the kinematic tilted-ring centre (position and
   // covariance in arcsec^2 (east, north); the mocks' true centre).
   Centre centre;
@@ -111,6 +116,10 @@ struct CalibrationOptions {
   // verdict thresholds); chain.seed and chain.n_draws are replaced per mock.
   robustness::ChainSettings chain;
   bool correct_beam_smearing = true;      // in the mock centre re-fits, as in the real analysis
+  // The factor the galaxy's kinematic centre covariance was scaled by
+  // (CentreBootstrap::scale2): a re-fitted mock centre gets the same factor,
+  // so data and mocks carry errors made the same way.
+  double centre_covariance_scale2 = 1.0;
   bool progress = true;
 };
 
@@ -189,6 +198,45 @@ robustness::AnalysisSummary analyse_mock(const Image& map, const MatchedInputs& 
 // Throws InputError when the inputs are unusable (no intensity map, no beam,
 // no noise, an empty rotation curve).
 CalibrationSummary calibrate(const MatchedInputs& inputs, const CalibrationOptions& options);
+
+// A parametric bootstrap of the kinematic centre's covariance (Efron &
+// Tibshirani 1993, ch. 6: simulate the fitted model with the measured noise,
+// re-fit, look at the scatter). n_refits symmetric mocks with the velocity
+// field of the fitted model (smeared as above) plus the velocity noise of
+// the error map and the measured extra scatter, both beam-correlated, on the
+// real velocity map's grid and blanks, are re-fitted (mock_refit.hpp). For
+// each successful re-fit m^2 = d^T C^-1 d with d the truth minus the
+// re-fitted centre and C that re-fit's own covariance; for honest errors
+// m^2 follows chi^2 with 2 degrees of freedom, mean 2. The covariance scale
+//   scale2 = mean(m^2) / 2, clamped to [1, 16],
+// multiplies the galaxy's kinematic (tilted-ring) centre covariance: its
+// size is then at least what the re-fits show, its shape the residual-based
+// one. It only widens: the mocks keep the data's velocity footprint and
+// weight the smearing correction by their noise-free line model, so they
+// lack two sources of scatter that real data have (a footprint that moves
+// with the noise, noisy weights), and their scatter is a lower bound. On
+// independent mocks (tools/coverage_study.py) they show about 0.5-0.7 of
+// the true centre variance, while the residual-based covariance is then
+// already wide enough (docs/uncertainties.md). With n refits scale2 has a
+// relative error of about 1/sqrt(n).
+// Needs the velocity map and at least min_refits successful re-fits;
+// otherwise applied = false with the reason and scale2 = 1.
+struct CentreBootstrapOptions {
+  std::size_t n_refits = kDefaultCentreRefits;
+  std::size_t min_refits = 8;
+  std::uint64_t seed = 1;
+  bool correct_beam_smearing = true;
+  double min_scale2 = 1.0, max_scale2 = 16.0;
+};
+struct CentreBootstrap {
+  bool applied = false;
+  std::string reason;               // when not applied
+  std::size_t refits = 0, failed = 0;
+  double mean_m2 = 0.0;             // over the successful re-fits
+  double scale2 = 1.0;              // the factor applied to the covariance
+};
+CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& inputs, const CentreBootstrapOptions& options);
+nlohmann::json to_json(const CentreBootstrap& b);
 
 nlohmann::json to_json(const CalibrationSummary& s, bool per_mock = false);
 

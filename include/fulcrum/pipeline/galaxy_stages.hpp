@@ -50,6 +50,16 @@ std::optional<MolecularGasResult> molecular_gas(const GalaxyInput& input, const 
 calibration::MatchedInputs matched_inputs(const GalaxySummary& summary, const GalaxyMaps& maps);
 CalibrationResult calibrate_verdict(const GalaxySummary& summary, const GalaxyMaps& maps,
                                     const AnalysisOptions& options);
+// The parametric bootstrap of the tilted-ring centre's covariance
+// (calibration::bootstrap_centre_covariance) on mocks of the fitted disc,
+// seeded from `seed`; when applied, the fit's tilted-ring centre (and its
+// adopted centre when that is the tilted-ring one) get the widened
+// covariance. `intensity` gives the mocks' gas profile and beam. Used by the
+// analysis and by the kinematics command alike.
+calibration::CentreBootstrap widen_centre_covariance(kinematics::KinematicFit& fit, const Image& velocity,
+                                                     const Image* velocity_error, const Image& intensity,
+                                                     std::uint64_t seed,
+                                                     std::size_t n_refits = calibration::kDefaultCentreRefits);
 
 // figures: every figure of one galaxy (SVG text); notes when incomplete.
 std::vector<FigureFile> galaxy_figures(const GalaxyMaps& maps, const GalaxySummary& summary,

@@ -98,6 +98,9 @@ struct GalaxySummary {
   std::optional<Beam> beam;              // of the intensity map
   std::vector<StageRecord> stages;
   std::optional<KinematicsResult> kinematics;
+  // The re-fit scale of the tilted-ring centre's covariance (already applied
+  // to the kinematic centres); nullopt when the calibration is off.
+  std::optional<calibration::CentreBootstrap> centre_bootstrap;
   std::optional<PhotometryResult> photometry;
   std::vector<Centre> centres;           // every estimate, kinematic first, in report order
   std::optional<std::size_t> adopted;    // index into centres
