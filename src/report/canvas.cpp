@@ -188,7 +188,12 @@ std::string Canvas::listing() const {
   std::string out = "canvas " + n2(width_) + " x " + n2(height_) + " " + title_ + "\n";
   auto pts = [](const std::vector<Point>& v) {
     std::string t;
-    for (const auto& p : v) t += " " + n2(p.x) + "," + n2(p.y);
+    for (const auto& p : v) {
+      t += ' ';
+      t += n2(p.x);
+      t += ',';
+      t += n2(p.y);
+    }
     return t;
   };
   for (const auto& op : ops_) {
