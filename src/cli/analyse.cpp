@@ -1,5 +1,5 @@
 // `fulcrum analyse`: the whole chain for one galaxy into one output folder
-// (report.json, figures/*.svg, report.html; with --cube also the moment maps
+// (report.json, figures/*.svg|pdf|png, report.html; with --cube also the moment maps
 // made from the cube, moments/). The library does the work
 // (pipeline/galaxy_analysis.hpp, pipeline/cube_maps.hpp); this file only
 // reads options (the galaxy's inputs: galaxy_args.hpp).

@@ -15,6 +15,7 @@
 #include "fulcrum/pipeline/centre_curves.hpp"
 #include "fulcrum/pipeline/galaxy_stages.hpp"
 #include "fulcrum/pipeline/report_json.hpp"
+#include "fulcrum/report/figure_files.hpp"
 
 namespace fulcrum::pipeline {
 
@@ -283,7 +284,7 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
 
 void write_galaxy_outputs(const GalaxyResult& result, const std::string& dir) {
   fs::create_directories(fs::path(dir) / "figures");
-  for (const auto& f : result.figures) write_text_file((fs::path(dir) / "figures" / (f.id + ".svg")).string(), f.svg);
+  for (const auto& f : result.figures) report::write_figure(f.canvas, (fs::path(dir) / "figures" / f.id).string());
   for (const auto& t : result.curves) report::write_ecsv((fs::path(dir) / "figures" / (t.name + ".ecsv")).string(), t);
   write_text_file((fs::path(dir) / "report.json").string(), dump_json(result.report));
 }

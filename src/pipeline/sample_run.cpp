@@ -23,7 +23,6 @@
 #include "fulcrum/report/html_report.hpp"
 #include "fulcrum/report/sample_statistics.hpp"
 #include "fulcrum/pipeline/centre_asymmetries.hpp"
-#include "fulcrum/report/svg.hpp"
 #include "fulcrum/pipeline/report_json.hpp"
 #include "fulcrum/pipeline/report_reader.hpp"
 #include "fulcrum/sky/offset_frame.hpp"

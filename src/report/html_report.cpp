@@ -6,11 +6,23 @@
 #include <sstream>
 
 #include "fulcrum/core/number_text.hpp"
-#include "fulcrum/report/svg.hpp"
+#include "fulcrum/report/base64.hpp"
 
 namespace fulcrum::report {
 
-std::string html_escape(const std::string& s) { return xml_escape(s); }
+std::string html_escape(const std::string& s) {
+  std::string out;
+  for (char ch : s) {
+    switch (ch) {
+      case '&': out += "&amp;"; break;
+      case '<': out += "&lt;"; break;
+      case '>': out += "&gt;"; break;
+      case '"': out += "&quot;"; break;
+      default: out += ch;
+    }
+  }
+  return out;
+}
 
 namespace {
 
@@ -35,16 +47,18 @@ table.results th .unit { font-weight: normal; color: #666666; display: block; fo
 .statement { font-size: 15px; margin: 8px 0 10px; }
 .notes { color: #7a4b00; font-size: 13px; }
 figure { margin: 14px 0 22px; }
-figure svg { max-width: 100%; height: auto; border: 1px solid #e4e4e4; }
+figure img { max-width: 100%; height: auto; border: 1px solid #e4e4e4; }
 figcaption { font-size: 12.5px; color: #444444; max-width: 900px; }
 dl.stats { display: grid; grid-template-columns: max-content auto; gap: 2px 16px; font-size: 14px; }
 dl.stats dt { color: #555555; } dl.stats dd { margin: 0; }
 footer { margin-top: 50px; font-size: 12px; color: #666666; border-top: 1px solid #dddddd; padding-top: 8px; }
 )";
 
-std::string strip_prolog(const std::string& svg) {
-  auto p = svg.find("<svg");
-  return p == std::string::npos ? svg : svg.substr(p);
+// The figure as an <img> with its SVG in a data URI: each figure keeps its
+// own document (cairo's element ids cannot clash between figures) and the
+// page stays one file.
+std::string figure_image(const HtmlFigure& f) {
+  return "<img src=\"data:image/svg+xml;base64," + base64(f.svg) + "\" alt=\"" + html_escape(f.caption) + "\">\n";
 }
 
 std::string anchor(const std::string& s) {
@@ -101,7 +115,7 @@ std::string sample_html(const HtmlSample& s) {
     for (const auto& note : g.notes) os << "<p class=\"notes\">" << html_escape(note) << "</p>\n";
     for (const auto& f : g.figures) {
       os << "<figure id=\"g-" << anchor(g.name) << "-" << anchor(f.id) << "\" class=\"figure\">\n"
-         << strip_prolog(f.svg) << "<figcaption>" << html_escape(f.caption) << "</figcaption>\n</figure>\n";
+         << figure_image(f) << "<figcaption>" << html_escape(f.caption) << "</figcaption>\n</figure>\n";
     }
     os << "</section>\n";
   }

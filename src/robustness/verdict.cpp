@@ -7,6 +7,7 @@
 #include <limits>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/number_text.hpp"
 
 namespace fulcrum::robustness {
 
@@ -29,6 +30,13 @@ std::string f(const char* fmt, double v) {
   char b[64];
   std::snprintf(b, sizeof b, fmt, v);
   return b;
+}
+
+// "P(A > 0) = 0.873", or "P(A > 0) > 0.999" when it rounds to 1 (< 0.001 when
+// to 0): the same honest precision as the tables (core/number_text.hpp).
+std::string p_words(double P) {
+  const std::string t = probability_text(P, 3);
+  return "P(A > 0) " + (t[0] == '>' || t[0] == '<' ? t : "= " + t);
 }
 std::vector<double> angle_grid(double pa, double err, double step) {
   if (!(err > 0.0)) return {pa};
@@ -122,7 +130,7 @@ bool is_significant(double A, double sigma, double P, const VerdictOptions& o, s
   if (z < o.significance_z)
     *why = "noise can make this A: |A| / sigma_A = " + f("%.2f", z) + " < " + f("%.2f", o.significance_z);
   else
-    *why = "noise can make this A: P(A > 0) = " + f("%.3f", P) + " is not beyond " +
+    *why = "noise can make this A: " + p_words(P) + " is not beyond " +
            f("%.3f", A > 0.0 ? o.significance_p : 1.0 - o.significance_p);
   return false;
 }
@@ -144,7 +152,7 @@ Verdict secure_class(double A, double sigma, double P, const VerdictOptions& o,
   const std::string pbar = pos ? "P(A > 0) >= " + f("%.3f", o.robust_p) : "P(A > 0) <= " + f("%.3f", o.reversed_p);
   if (!p_ok || z < o.robust_z) {
     *why = "significant, but below the bar for " + name + " (" + pbar + " and |A| / sigma_A >= " +
-           f("%.2f", o.robust_z) + "; here P(A > 0) = " + f("%.3f", P) + ", |A| / sigma_A = " + f("%.2f", z) + ")";
+           f("%.2f", o.robust_z) + "; here " + p_words(P) + ", |A| / sigma_A = " + f("%.2f", z) + ")";
     return Verdict::marginal;
   }
   if (cal && cal->n_valid > 0) {
@@ -208,7 +216,7 @@ VerdictSummary decide(const split::SplitProblem& pr, const split::SplitSummary& 
   v.significance = sigma > 0.0 ? std::abs(A) / sigma : std::numeric_limits<double>::quiet_NaN();
   v.evidence = "A = " + f("%+.3f", A) + " +- " + f("%.3f", sigma) + " (68% " + f("%+.3f", boot.lo68) + " to " +
                f("%+.3f", boot.hi68) + ", 95% " + f("%+.3f", boot.lo95) + " to " + f("%+.3f", boot.hi95) +
-               "), P(A > 0) = " + f("%.3f", P) + " from " + std::to_string(boot.n_draws) + " draws (seed " +
+               "), " + p_words(P) + " from " + std::to_string(boot.n_draws) + " draws (seed " +
                std::to_string(boot.seed) + ")";
   if (!why.empty()) {
     v.verdict = Verdict::undetermined;

@@ -235,6 +235,11 @@ TEST_CASE("significance comes first: a noise-level A is marginal", "[robustness]
   // P inside (0.025, 0.975): marginal.
   CHECK(classify_significance(0.10, 0.04, 0.96, o, std::nullopt, &why) == Verdict::marginal);
   CHECK(why.find("P(A > 0) = 0.960") != std::string::npos);
+  // P = 1 from the draws is written at their precision, as in the tables
+  // ("> 0.999"), never as "= 1.000" (significant, below the robust bar).
+  CHECK(classify_significance(0.10, 0.045, 1.0, o, std::nullopt, &why) == Verdict::marginal);
+  CHECK(why.find("here P(A > 0) > 0.999,") != std::string::npos);
+  CHECK(why.find("1.000") == std::string::npos);
   // Significant but below the robust bar (P < 0.99): marginal, and says so.
   CHECK(classify_significance(0.10, 0.045, 0.985, o, std::nullopt, &why) == Verdict::marginal);
   CHECK(why.find("below the bar for robust") != std::string::npos);

@@ -33,6 +33,7 @@
 
 #include "fulcrum/pipeline/galaxy_summary.hpp"
 #include "fulcrum/pipeline/manifest.hpp"
+#include "fulcrum/report/canvas.hpp"
 #include "fulcrum/report/table.hpp"
 
 namespace fulcrum::pipeline {
@@ -64,7 +65,7 @@ robustness::ChainSettings chain_settings(const AnalysisOptions& options);
 struct FigureFile {
   std::string id;       // file stem under figures/, e.g. "intensity"
   std::string caption;
-  std::string svg;
+  report::Canvas canvas;  // written as figures/<id>.svg, .pdf and .png
 };
 
 struct GalaxyResult {
@@ -80,7 +81,8 @@ struct GalaxyResult {
 // gives verdict "undetermined" with the reason. Internal errors propagate.
 GalaxyResult analyse_galaxy(const GalaxyInput& input, const AnalysisOptions& options);
 
-// DIR/report.json and DIR/figures/<id>.svg, each written atomically.
+// DIR/report.json and DIR/figures/<id>.svg, <id>.pdf and <id>.png (the same
+// drawing in three formats, report/figure_files.hpp), each written atomically.
 void write_galaxy_outputs(const GalaxyResult& result, const std::string& dir);
 
 }  // namespace fulcrum::pipeline

@@ -73,7 +73,8 @@ struct CalibrationResult {
   std::string failure;                   // why it failed (summary empty)
 };
 
-// A figure written beside report.json (figures/<id>.svg).
+// A figure written beside report.json: `file` is figures/<id>.svg; the same
+// figure is beside it as figures/<id>.pdf and figures/<id>.png.
 struct FigureRef {
   std::string id, file, caption;
 };

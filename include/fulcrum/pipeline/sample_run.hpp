@@ -2,7 +2,7 @@
 // products built from the per-galaxy reports.
 //
 // Layout of an output folder DIR:
-//   DIR/<galaxy>/report.json, DIR/<galaxy>/figures/*.svg   one per galaxy
+//   DIR/<galaxy>/report.json, DIR/<galaxy>/figures/*.{svg,pdf,png}   one per galaxy
 //   DIR/robustness.ecsv .csv .fits .tex .md                the supplementary table
 //   DIR/sample.json                                        sample statistics
 //   DIR/report.html                                        the self-contained report

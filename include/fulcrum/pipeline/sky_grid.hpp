@@ -8,7 +8,7 @@
 #pragma once
 
 #include "fulcrum/io/image.hpp"
-#include "fulcrum/report/svg.hpp"
+#include "fulcrum/report/value_grid.hpp"
 #include "fulcrum/sky/offset_frame.hpp"
 
 namespace fulcrum::pipeline {

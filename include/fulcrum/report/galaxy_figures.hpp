@@ -7,14 +7,19 @@
 // Signed quantities use the Moreland (2009) cool-warm map, intensities the
 // Green (2011) cubehelix map (report/colour_map.hpp).
 //
-// Each function returns a complete SVG document.
+// Each function returns the figure as a Canvas (report/canvas.hpp), which
+// report/figure_files.hpp writes as SVG, PDF and PNG. Overlays (split line,
+// labels, N/E arrows, markers) carry a contrasting halo so that they show on
+// blank (light grey) and dark colour-map pixels alike; every map panel has a
+// colour bar with its unit.
 #pragma once
 
 #include <optional>
 #include <string>
 #include <vector>
 
-#include "fulcrum/report/svg.hpp"
+#include "fulcrum/report/canvas.hpp"
+#include "fulcrum/report/value_grid.hpp"
 
 namespace fulcrum::report {
 
@@ -46,7 +51,7 @@ struct IntensityFigure {
   std::optional<double> aperture_radius, aperture_pa_deg, aperture_q;  // analysis aperture
   double error_ellipse_sigma = 2.0;  // ellipses drawn at this many sigma
 };
-std::string intensity_figure(const IntensityFigure& f);
+Canvas intensity_figure(const IntensityFigure& f);
 
 struct AsymmetryPlaneFigure {
   std::string galaxy;
@@ -56,7 +61,7 @@ struct AsymmetryPlaneFigure {
   std::optional<double> flip_distance, flip_direction_pa_deg;
   double error_ellipse_sigma = 2.0;
 };
-std::string asymmetry_plane_figure(const AsymmetryPlaneFigure& f);
+Canvas asymmetry_plane_figure(const AsymmetryPlaneFigure& f);
 
 struct FlipAngleFigure {
   std::string galaxy;
@@ -66,7 +71,7 @@ struct FlipAngleFigure {
   std::optional<double> farthest_plausible;
   std::optional<double> beam_fwhm;
 };
-std::string flip_angle_figure(const FlipAngleFigure& f);
+Canvas flip_angle_figure(const FlipAngleFigure& f);
 
 struct BootstrapFigure {
   std::string galaxy;
@@ -75,7 +80,7 @@ struct BootstrapFigure {
   double asymmetry = 0;            // at the adopted centre
   std::optional<double> ci68_lo, ci68_hi, ci95_lo, ci95_hi, p_leading;
 };
-std::string bootstrap_figure(const BootstrapFigure& f);
+Canvas bootstrap_figure(const BootstrapFigure& f);
 
 // A velocity pixel the footprint cleaning left out (kinematics/footprint.hpp),
 // at (east, north) arcsec from the adopted centre; `outlier`: a velocity
@@ -94,14 +99,14 @@ struct VelocityFigure {
   std::vector<CentreMark> centres;
   std::vector<RejectedPixel> rejected;  // crossed out on the observed panel
 };
-std::string velocity_figure(const VelocityFigure& f);
+Canvas velocity_figure(const VelocityFigure& f);
 
 struct RotationCurveFigure {
   std::string galaxy;
   std::vector<double> radius_arcsec, vrot_kms, vrot_err_kms;
   std::optional<double> kpc_per_arcsec;
 };
-std::string rotation_curve_figure(const RotationCurveFigure& f);
+Canvas rotation_curve_figure(const RotationCurveFigure& f);
 
 // Histogram helper: `bins` equal bins over [lo, hi] (auto range from the
 // 0.1 and 99.9 percentiles when lo >= hi).

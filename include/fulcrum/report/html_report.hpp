@@ -1,8 +1,8 @@
 // The self-contained sample report (report.html): the robustness table, the
 // sample statistics, and for each galaxy its verdict sentence and figures.
 //
-// Self-contained means: inline CSS, inline SVG figures (rasters inside them
-// as PNG data URIs), no scripts, fonts, images or style sheets fetched from
+// Self-contained means: inline CSS, each SVG figure in an <img> as a base64
+// data URI (rasters inside it as PNG data URIs), no scripts, fonts, images or style sheets fetched from
 // anywhere, so the file can be mailed to a co-author or attached to a
 // referee reply and opens the same offline.
 #pragma once
@@ -18,7 +18,7 @@ namespace fulcrum::report {
 struct HtmlFigure {
   std::string id;       // anchor and file stem, e.g. "intensity"
   std::string caption;  // one sentence under the figure
-  std::string svg;      // a complete <svg> document
+  std::string svg;      // the complete SVG file (figures/<id>.svg)
 };
 
 struct HtmlGalaxy {
