@@ -17,6 +17,7 @@
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/header_card.hpp"
 #include "fulcrum/io/image_from_memory.hpp"
 #include "fulcrum/io/missing_values.hpp"
 
@@ -396,8 +397,21 @@ Image read_image_from_memory(const void* bytes, std::size_t size, const std::str
 
 namespace {
 
+// The keywords that describe a FITS data array rather than what it shows.
+bool is_structure_keyword(std::string_view card) {
+  std::string_view key = card.substr(0, 8);
+  while (!key.empty() && key.back() == ' ') key.remove_suffix(1);
+  if (key.rfind("NAXIS", 0) == 0) return true;
+  for (const char* k : {"SIMPLE", "XTENSION", "BITPIX", "EXTEND", "PCOUNT", "GCOUNT"})
+    if (key == k) return true;
+  return false;
+}
+
 // Header cards as given from memory: whole 80-character cards of printable
 // ASCII, cut at END; each NAXISn card present must agree with the array.
+// Returned as the header of a float64 FITS image of these axes (SIMPLE,
+// BITPIX, NAXIS, NAXISn first, as CFITSIO gives a file's header), so that
+// what is checked and parsed is what a file with this array would hold.
 std::string checked_memory_header(const std::string& cards, const std::vector<long>& axes,
                                   const std::string& name) {
   if (cards.size() % 80 != 0)
@@ -419,7 +433,13 @@ std::string checked_memory_header(const std::string& cards, const std::vector<lo
       throw InputError(name, "the header says " + key + " = " + *v + " but the array is " +
                                  shape_text(axes) + " pixels (FITS order, x first)");
   }
-  return header;
+  std::string out = header_card("SIMPLE", "T", false) + header_card("BITPIX", "-64", false) +
+                    header_card("NAXIS", std::to_string(axes.size()), false);
+  for (std::size_t k = 0; k < axes.size(); ++k)
+    out += header_card("NAXIS" + std::to_string(k + 1), std::to_string(axes[k]), false);
+  for (std::size_t pos = 0; pos + 80 <= header.size(); pos += 80)
+    if (!is_structure_keyword(std::string_view(header).substr(pos, 80))) out.append(header, pos, 80);
+  return out;
 }
 
 }  // namespace

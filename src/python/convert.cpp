@@ -2,6 +2,9 @@
 // (src/python/convert.hpp).
 #include "convert.hpp"
 
+#include <pybind11/stl.h>
+
+#include <cmath>
 #include <cstring>
 #include <mutex>
 
@@ -20,6 +23,13 @@ std::string type_name(const py::handle& h) { return py::str(py::type::handle_of(
 
 std::string python_repr(const py::handle& h) { return py::repr(h); }
 
+// float(h) (its __float__); a Python error is raised as is.
+double as_double(const py::handle& h) {
+  const double v = PyFloat_AsDouble(h.ptr());
+  if (v == -1.0 && PyErr_Occurred()) throw py::error_already_set();
+  return v;
+}
+
 // One card of a dict header: bool as T/F, numbers as numbers, text quoted.
 std::string dict_card(const std::string& key, const py::handle& given, const std::string& name) {
   py::handle value = given;
@@ -37,7 +47,7 @@ std::string dict_card(const std::string& key, const py::handle& given, const std
   if (py::isinstance<py::str>(value)) return header_card(key, value.cast<std::string>(), true, comment);
   // numpy scalars and anything else that is a real number
   if (py::hasattr(value, "__float__") && !py::isinstance<py::str>(value))
-    return header_card(key, header_number(py::float_(value).cast<double>()), false, comment);
+    return header_card(key, header_number(as_double(value)), false, comment);
   throw InputError(name, "header card " + key + ": a value of type " + type_name(value) +
                              " is not a FITS value (a number, text or True/False)");
 }
@@ -120,17 +130,20 @@ py::object to_python(const nlohmann::json& j) {
     case T::boolean: return py::bool_(j.get<bool>());
     case T::number_integer: return py::int_(j.get<std::int64_t>());
     case T::number_unsigned: return py::int_(j.get<std::uint64_t>());
-    case T::number_float: return py::float_(j.get<double>());
+    case T::number_float: {  // NaN and infinities as report.json writes them: null
+      const double v = j.get<double>();
+      return std::isfinite(v) ? py::object(py::float_(v)) : py::object(py::none());
+    }
     case T::string: return py::str(j.get_ref<const std::string&>());
     case T::array: {
       py::list out;
       for (const auto& v : j) out.append(to_python(v));
-      return std::move(out);
+      return out;
     }
     case T::object: {
       py::dict out;
       for (auto it = j.begin(); it != j.end(); ++it) out[py::str(it.key())] = to_python(it.value());
-      return std::move(out);
+      return out;
     }
     default: return py::none();
   }
@@ -150,7 +163,7 @@ py::object table_to_python(const report::Table& t) {
     table_module = py::module_::import("astropy.table");
     units = py::module_::import("astropy.units");
   } catch (const py::error_already_set&) {
-    return std::move(columns);  // no astropy: plain columns
+    return columns;  // no astropy: plain columns
   }
   py::object table = table_module.attr("Table")();
   for (const auto& c : t.columns) {
@@ -180,17 +193,17 @@ py::array_t<double> image_array(Image&& image) {
 double number_argument(const py::handle& value, const std::string& setting) {
   if (py::isinstance<py::bool_>(value) || py::isinstance<py::str>(value) || !py::hasattr(value, "__float__"))
     throw SettingError(setting, python_repr(value), "a number");
-  return py::float_(value).cast<double>();
+  return as_double(value);
 }
 
 std::int64_t integer_argument(const py::handle& value, const std::string& setting) {
   if (py::isinstance<py::bool_>(value) || !py::hasattr(value, "__index__"))
     throw SettingError(setting, python_repr(value), "a whole number");
-  try {
-    return py::int_(value).cast<std::int64_t>();
-  } catch (const py::cast_error&) {
-    throw SettingError(setting, python_repr(value), "a whole number that fits in 64 bits");
-  }
+  int overflow = 0;
+  const long long v = PyLong_AsLongLongAndOverflow(py::reinterpret_steal<py::object>(PyNumber_Index(value.ptr())).ptr(), &overflow);
+  if (overflow) throw SettingError(setting, python_repr(value), "a whole number that fits in 64 bits");
+  if (v == -1 && PyErr_Occurred()) throw py::error_already_set();
+  return v;
 }
 
 std::string text_argument(const py::handle& value, const std::string& setting) {

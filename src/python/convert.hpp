@@ -47,7 +47,8 @@ bool is_path(const py::handle& map);
 // A header as 80-character cards (see map_from_python).
 std::string header_cards(const py::handle& header, const std::string& name);
 
-// JSON as Python: objects as dict, arrays as list, null as None.
+// JSON as Python: objects as dict, arrays as list, null as None; a NaN or
+// infinite number as None, as report.json writes it.
 py::object to_python(const nlohmann::json& j);
 
 // A table as an astropy Table (units, descriptions, meta) when astropy

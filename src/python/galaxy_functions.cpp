@@ -322,7 +322,7 @@ void bind_galaxy_functions(py::module_& m) {
       }, "1-sigma error of A from the map noise")
       .def_property_readonly("p_positive", [](const Summary& s) {
         return chain_number(s, [](const auto& r) { return r.bootstrap.p_positive; });
-      }, "Bootstrap probability that A > 0 (P(A>0) of the summary table)")
+      }, "Bootstrap probability that A > 0 (P(A>0) of the summary table; report.json: robustness.p_leading)")
       .def_property_readonly("flip_distance_arcsec", [](const Summary& s) {
         return chain_number(s, [](const auto& r) { return r.flip.nominal.found ? r.flip.nominal.distance_arcsec : NAN; });
       }, "How far the centre must move (arcsec) to change the sign of A; NaN when no move does")
