@@ -223,20 +223,36 @@ py::dict calibrate(const GalaxyArguments& a, const Summary* from, const py::obje
   return to_python(j);
 }
 
-Summary read_results(const py::object& where) {
-  namespace fs = std::filesystem;
-  std::string path = py::str(py::module_::import("os").attr("fspath")(where));
-  if (fs::is_directory(path)) path = (fs::path(path) / "report.json").string();
+Summary read_report(const std::string& path) {
   Summary s;
-  {
-    py::gil_scoped_release release;
-    s.summary = pipeline::read_report_file(path);  // every refusal comes from the one reader
-    std::ifstream file(path, std::ios::binary);
-    std::stringstream text;
-    text << file.rdbuf();
-    s.report = nlohmann::json::parse(text.str());
-  }
+  s.summary = pipeline::read_report_file(path);  // every refusal comes from the one reader
+  std::ifstream file(path, std::ios::binary);
+  std::stringstream text;
+  text << file.rdbuf();
+  s.report = nlohmann::json::parse(text.str());
   return s;
+}
+
+// One galaxy (a report.json, or the folder holding it), or a sample run's
+// folder: every <galaxy>/report.json in it, in manifest order.
+py::object read_results(const py::object& where) {
+  namespace fs = std::filesystem;
+  const std::string path = py::str(py::module_::import("os").attr("fspath")(where));
+  const fs::path one = fs::is_directory(path) ? fs::path(path) / "report.json" : fs::path(path);
+  if (!fs::is_directory(path) || fs::exists(one)) return py::cast(read_report(one.string()));
+  std::vector<fs::path> folders;
+  for (const auto& e : fs::directory_iterator(path))
+    if (e.is_directory() && fs::exists(e.path() / "report.json")) folders.push_back(e.path());
+  if (folders.empty()) throw InputError(path, "holds neither a report.json nor <galaxy>/report.json folders");
+  std::sort(folders.begin(), folders.end());
+  std::vector<Summary> galaxies;
+  for (const auto& f : folders) galaxies.push_back(read_report((f / "report.json").string()));
+  std::stable_sort(galaxies.begin(), galaxies.end(), [](const Summary& a, const Summary& b) {
+    return (a.summary.sample ? a.summary.sample->index : 0) < (b.summary.sample ? b.summary.sample->index : 0);
+  });
+  py::list out;
+  for (auto& g : galaxies) out.append(py::cast(std::move(g)));
+  return out;
 }
 
 GalaxyArguments arguments_of(py::object velocity, py::object intensity, const py::kwargs& kw) {
@@ -296,9 +312,7 @@ velocity, intensity: the velocity field (km/s or m/s) and integrated line intens
   kinematic-fit settings (as `fulcrum.kinematics` takes them, e.g. {"pa": 36.0}).
 progress: a callable (label, done, total) called as the work advances, or None.)";
 
-}  // namespace
-
-void bind_galaxy_functions(py::module_& m) {
+void bind_summary(py::module_& m) {
   py::class_<Summary>(m, "Summary",
                       "Everything one galaxy's analysis found. Angles in degrees (PA north through east), "
                       "offsets in arcsec, covariances in arcsec^2 on (east, north). A = (L - T)/(L + T), "
@@ -352,6 +366,12 @@ void bind_galaxy_functions(py::module_& m) {
       .def("__repr__", [](const Summary& s) {
         return "<fulcrum.Summary " + s.summary.input.name + ": " + robustness::verdict_name(s.summary.verdict) + ">";
       });
+}
+
+}  // namespace
+
+void bind_galaxy_functions(py::module_& m) {
+  bind_summary(m);
 
   m.def(
       "analyse",
@@ -393,8 +413,19 @@ void bind_galaxy_functions(py::module_& m) {
        kGalaxyDoc)
           .c_str());
   m.def("read_results", &read_results, py::arg("path"),
-        "A galaxy's results from its report.json (a path to the file or to the folder holding it), as the "
-        "sample tables read them: a Summary (figures empty).");
+        "Results as the sample tables read them (the one report.json reader): a Summary from a report.json "
+        "or the folder holding it, or a list of Summaries (manifest order) from a sample run's folder "
+        "(`fulcrum run` or `merge`: <galaxy>/report.json). Summary.figures is empty.");
+  m.def(
+      "robustness_table",
+      [](const std::vector<const Summary*>& galaxies) {
+        std::vector<pipeline::GalaxySummary> summaries;
+        for (const Summary* g : galaxies) summaries.push_back(g->summary);
+        return table_to_python(pipeline::robustness_table(summaries));
+      },
+      py::arg("summaries"),
+      "The sample's robustness table (one row per galaxy, as `fulcrum run` writes it) for a list of Summaries; "
+      "each numeric column's description names its place in report.json.");
 }
 
 }  // namespace fulcrum::python

@@ -99,6 +99,22 @@ def test_summary_attributes_and_tables(mock):
     assert "mock1" in repr(s)
 
 
+def test_sample_folder_and_table_without_astropy(mock, tmp_path, monkeypatch):
+    import shutil
+    shutil.copytree(mock["result"], tmp_path / "sample" / "mock1")
+    galaxies = fulcrum.read_results(tmp_path / "sample")
+    assert [g.name for g in galaxies] == ["mock1"]
+    table = fulcrum.robustness_table(galaxies)
+    assert isinstance(table, Table) and list(table["galaxy"]) == ["mock1"]
+    # Without astropy the tables are plain dicts of columns.
+    import sys
+    monkeypatch.setitem(sys.modules, "astropy.table", None)
+    plain = fulcrum.robustness_table(galaxies)
+    assert isinstance(plain, dict) and list(plain["galaxy"]) == ["mock1"]
+    with pytest.raises(fulcrum.InputError, match="holds neither a report.json"):
+        fulcrum.read_results(tmp_path)
+
+
 def test_kinematics_equals_command_line(mock, tmp_path):
     folder = mock["folder"]
     run_cli("kinematics", "--velocity", folder / "vel.fits", "--velocity-error", folder / "vel_err.fits",
