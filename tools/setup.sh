@@ -17,12 +17,12 @@ build_dir="${FULCRUM_BUILD_DIR:-build}"
 
 build_packages=(build-essential cmake pkg-config libeigen3-dev libceres-dev libcfitsio-dev
                 wcslib-dev libcli11-dev catch2 nlohmann-json3-dev libtomlplusplus-dev libcairo2-dev
-                fonts-dejavu-core)
-# Outside references for the tests (astropy, scipy, shapely, numpy), GNU
-# parallel for the shard/merge test, Chromium for the HTML report test,
-# pdflatex for the journal-table test and pdftoppm (poppler-utils) for the
-# test that renders a figure's PDF.
-test_packages=(python3 python3-astropy python3-numpy python3-scipy python3-shapely python3-pil parallel
+                fonts-dejavu-core pybind11-dev python3-dev)
+# Outside references for the tests (astropy, scipy, shapely, numpy), pytest
+# for the Python module's tests, GNU parallel for the shard/merge test,
+# Chromium for the HTML report test, pdflatex for the journal-table test and
+# pdftoppm (poppler-utils) for the test that renders a figure's PDF.
+test_packages=(python3 python3-astropy python3-numpy python3-scipy python3-shapely python3-pil python3-pytest parallel
                chromium texlive-latex-base poppler-utils)
 
 install_missing() {

@@ -21,9 +21,11 @@ Conventions in the Markdown (docs/examples/README.md says the same):
   writes that block's text to NAME in the example's folder before the
   commands after it run (e.g. a sample manifest or a Python snippet).
 
-Each Markdown file runs in a fresh empty temporary folder, its blocks in
-order, with `fulcrum` on PATH pointing to --fulcrum and `python3` to the
-Python that runs this script (Debian's, with astropy), SOURCE_DATE_EPOCH,
+Each Markdown file (docs/examples/*.md and docs/python.md unless files are
+named) runs in a fresh empty temporary folder, its blocks in order, with
+`fulcrum` on PATH pointing to --fulcrum, `python3` to the Python that runs
+this script (Debian's, with astropy), the folder of --fulcrum on PYTHONPATH
+(where the build puts the Python module `fulcrum`), SOURCE_DATE_EPOCH,
 OMP_NUM_THREADS=1, LC_ALL=C and TZ=UTC fixed, so the output is the same on
 every run. An output that contains the temporary folder's path is an error
 (the text must show relative paths).
@@ -192,13 +194,16 @@ def main():
     args = parser.parse_args()
 
     root = Path(__file__).resolve().parent.parent
-    files = [Path(f) for f in args.files] or sorted((root / "docs" / "examples").glob("*.md"))
+    files = [Path(f) for f in args.files] or (sorted((root / "docs" / "examples").glob("*.md")) +
+                                              [root / "docs" / "python.md"])
     fulcrum = Path(args.fulcrum).resolve()
     if not os.access(fulcrum, os.X_OK):
         print(f"update_examples: --fulcrum {args.fulcrum}: not an executable file", file=sys.stderr)
         return 2
     env = {"PATH": os.environ.get("PATH", "/usr/bin:/bin"), "HOME": os.environ.get("HOME", "/tmp"),
-           "SOURCE_DATE_EPOCH": SOURCE_DATE_EPOCH, "OMP_NUM_THREADS": "1", "LC_ALL": "C", "TZ": "UTC"}
+           "SOURCE_DATE_EPOCH": SOURCE_DATE_EPOCH, "OMP_NUM_THREADS": "1", "LC_ALL": "C", "TZ": "UTC",
+           # the Python module is built beside the binary (build/fulcrum.*.so)
+           "PYTHONPATH": str(fulcrum.parent)}
 
     status = 0
     with concurrent.futures.ThreadPoolExecutor(max_workers=max(1, args.jobs)) as pool:

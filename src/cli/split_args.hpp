@@ -8,6 +8,7 @@
 #include <string>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/split/centre_on_map.hpp"
 #include "fulcrum/split/half_split.hpp"
 #include "subcommand.hpp"
 
@@ -32,13 +33,7 @@ inline WorldCoord parse_centre(const std::string& s) {
 
 // The centre must fall on the map (within half a pixel of its edge).
 inline void check_centre_on_map(const Image& map, WorldCoord c, const std::string& text) {
-  bool on = false;
-  try {
-    const PixelCoord p = map.wcs.world_to_pixel(c);
-    on = p.x >= -0.5 && p.y >= -0.5 && p.x <= map.nx - 0.5 && p.y <= map.ny - 0.5;
-  } catch (const InputError&) {
-  }
-  if (!on) throw InputError("", "--centre " + text + " is outside the map " + map.path);
+  if (!split::centre_on_map(map, c)) throw InputError("", "--centre " + text + " is outside the map " + map.path);
 }
 
 struct ApertureArgs {

@@ -1,5 +1,7 @@
 #include "fulcrum/core/log.hpp"
 
+#include "fulcrum/core/progress_listener.hpp"
+
 #include <unistd.h>
 
 #include <atomic>
@@ -15,7 +17,25 @@ std::mutex g_mutex;
 std::string (*g_reword)(const std::string&) = nullptr;
 
 std::string worded(const std::string& message) { return g_reword ? g_reword(message) : message; }
+
+std::mutex g_listener_mutex;
+ProgressListener g_listener;
+
+void tell_listener(const std::string& label, std::size_t done, std::size_t total) {
+  ProgressListener listener;
+  {
+    std::lock_guard<std::mutex> lock(g_listener_mutex);
+    listener = g_listener;
+  }
+  if (listener) listener(label, done, total);
+}
 }  // namespace
+
+ProgressListener set_progress_listener(ProgressListener listener) {
+  std::lock_guard<std::mutex> lock(g_listener_mutex);
+  std::swap(g_listener, listener);
+  return listener;
+}
 
 void set_message_wording(std::string (*reword)(const std::string&)) { g_reword = reword; }
 
@@ -39,8 +59,13 @@ Progress::Progress(std::string label, std::size_t total)
 Progress::~Progress() { finish(); }
 
 void Progress::advance(std::size_t n) {
+  std::size_t done = 0;
+  {
+    std::lock_guard<std::mutex> lock(g_mutex);
+    done = done_ += n;
+  }
+  tell_listener(label_, done, total_);
   std::lock_guard<std::mutex> lock(g_mutex);
-  done_ += n;
   if (!active_ || total_ == 0) return;
   if (done_ * 100 / total_ == last_shown_ * 100 / total_ && done_ != total_) return;
   last_shown_ = done_;

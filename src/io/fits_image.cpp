@@ -17,6 +17,8 @@
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/header_card.hpp"
+#include "fulcrum/io/image_from_memory.hpp"
 #include "fulcrum/io/missing_values.hpp"
 
 namespace fulcrum {
@@ -83,6 +85,8 @@ void goto_image_hdu(fitsfile* f, const std::string& name) {
   throw InputError(name, "holds no image data (no HDU with NAXIS > 0)");
 }
 
+void check_header_bytes(const std::string& header, const std::string& name);
+
 // The header of the current HDU; for a tile-compressed image, the header of
 // the image it holds (CFITSIO converts the compressed table's header).
 std::string read_header(fitsfile* f, const std::string& name) {
@@ -96,6 +100,11 @@ std::string read_header(fitsfile* f, const std::string& name) {
   std::string out(hdr, static_cast<std::size_t>(nkeys) * 80);
   int s2 = 0;
   fits_free_memory(hdr, &s2);
+  check_header_bytes(out, name);
+  return out;
+}
+
+void check_header_bytes(const std::string& out, const std::string& name) {
   // FITS headers are printable ASCII (FITS standard 4.0, section 4.1.1:
   // bytes 0x20-0x7E). Other bytes are refused here: wcslib's header parser
   // overflows a buffer on a card holding NUL bytes (found by
@@ -107,7 +116,6 @@ std::string read_header(fitsfile* f, const std::string& name) {
                                  " holds a byte that is not printable ASCII (code " +
                                  std::to_string(ch) + "): damaged header");
   }
-  return out;
 }
 
 std::optional<Beam> read_beam(const std::string& header, const std::string& name) {
@@ -178,6 +186,33 @@ struct RawArray {
   MissingValueCounts missing;
 };
 
+// "100 x 80": the axis lengths as a person reads them.
+std::string shape_text(const std::vector<long>& naxes) {
+  std::string shape;
+  for (long a : naxes) shape += (shape.empty() ? "" : " x ") + std::to_string(a);
+  return shape;
+}
+
+// The number of pixels, checked before anything is allocated, without
+// overflowing: a damaged header may announce axes of any length.
+std::size_t checked_pixel_count(const std::vector<long>& naxes, const std::string& name,
+                                const ReadOptions& opt) {
+  const std::size_t limit = opt.max_pixels ? opt.max_pixels
+                                           : std::numeric_limits<std::size_t>::max() / 16;
+  const std::string shape = shape_text(naxes);
+  for (long a : naxes)
+    if (a <= 0) throw InputError(name, "an image axis has length " + std::to_string(a));
+  std::size_t n = 1;
+  for (long a : naxes) {
+    if (static_cast<std::size_t>(a) > limit / n || a > std::numeric_limits<int>::max())
+      throw InputError(name, "image of " + shape + " pixels is above the limit of " +
+                                 std::to_string(limit) +
+                                 " pixels (raise it with " + setting_ref("max_pixels") + " or FULCRUM_MAX_PIXELS)");
+    n *= static_cast<std::size_t>(a);
+  }
+  return n;
+}
+
 // `available` is the size of the file or buffer in bytes (0: unknown).
 RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt,
                     std::size_t available) {
@@ -189,23 +224,8 @@ RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt
   if (naxis > 9) throw InputError(name, "NAXIS = " + std::to_string(naxis) + " is not supported");
   RawArray r;
   r.naxes.assign(naxes, naxes + naxis);
-  // The pixel count is checked before anything is allocated, without
-  // overflowing: a damaged header may announce axes of any length.
-  const std::size_t limit = opt.max_pixels ? opt.max_pixels
-                                           : std::numeric_limits<std::size_t>::max() / 16;
-  std::string shape;
-  for (long a : r.naxes) {
-    if (a <= 0) throw InputError(name, "an image axis has length " + std::to_string(a));
-    shape += (shape.empty() ? "" : " x ") + std::to_string(a);
-  }
-  std::size_t n = 1;
-  for (long a : r.naxes) {
-    if (static_cast<std::size_t>(a) > limit / n || a > std::numeric_limits<int>::max())
-      throw InputError(name, "image of " + shape + " pixels is above the limit of " +
-                                 std::to_string(limit) +
-                                 " pixels (raise it with " + setting_ref("max_pixels") + " or FULCRUM_MAX_PIXELS)");
-    n *= static_cast<std::size_t>(a);
-  }
+  const std::size_t n = checked_pixel_count(r.naxes, name, opt);
+  const std::string shape = shape_text(r.naxes);
   r.header = read_header(f, name);
   if (auto bscale = header_value(r.header, "BSCALE")) {
     char* end = nullptr;
@@ -373,6 +393,69 @@ Image read_image_from_memory(const void* bytes, std::size_t size, const std::str
   }
   FitsPtr fp(f);
   return image_from_raw(read_array(fp.get(), name, options, size), name);
+}
+
+namespace {
+
+// The keywords that describe a FITS data array rather than what it shows.
+bool is_structure_keyword(std::string_view card) {
+  std::string_view key = card.substr(0, 8);
+  while (!key.empty() && key.back() == ' ') key.remove_suffix(1);
+  if (key.rfind("NAXIS", 0) == 0) return true;
+  for (const char* k : {"SIMPLE", "XTENSION", "BITPIX", "EXTEND", "PCOUNT", "GCOUNT"})
+    if (key == k) return true;
+  return false;
+}
+
+// Header cards as given from memory: whole 80-character cards of printable
+// ASCII, cut at END; each NAXISn card present must agree with the array.
+// Returned as the header of a float64 FITS image of these axes (SIMPLE,
+// BITPIX, NAXIS, NAXISn first, as CFITSIO gives a file's header), so that
+// what is checked and parsed is what a file with this array would hold.
+std::string checked_memory_header(const std::string& cards, const std::vector<long>& axes,
+                                  const std::string& name) {
+  if (cards.size() % 80 != 0)
+    throw InputError(name, "the header is " + std::to_string(cards.size()) +
+                               " characters long: FITS header cards are 80 characters each");
+  std::string header;
+  for (std::size_t pos = 0; pos < cards.size(); pos += 80) {
+    if (cards.compare(pos, 8, "END     ") == 0) break;
+    header.append(cards, pos, 80);
+  }
+  check_header_bytes(header, name);
+  for (std::size_t k = 0; k < axes.size(); ++k) {
+    const std::string key = "NAXIS" + std::to_string(k + 1);
+    const auto v = header_value(header, key);
+    if (!v) continue;
+    char* end = nullptr;
+    const long given = std::strtol(v->c_str(), &end, 10);
+    if (end == v->c_str() || *end != '\0' || given != axes[k])
+      throw InputError(name, "the header says " + key + " = " + *v + " but the array is " +
+                                 shape_text(axes) + " pixels (FITS order, x first)");
+  }
+  std::string out = header_card("SIMPLE", "T", false) + header_card("BITPIX", "-64", false) +
+                    header_card("NAXIS", std::to_string(axes.size()), false);
+  for (std::size_t k = 0; k < axes.size(); ++k)
+    out += header_card("NAXIS" + std::to_string(k + 1), std::to_string(axes[k]), false);
+  for (std::size_t pos = 0; pos + 80 <= header.size(); pos += 80)
+    if (!is_structure_keyword(std::string_view(header).substr(pos, 80))) out.append(header, pos, 80);
+  return out;
+}
+
+}  // namespace
+
+Image image_from_memory(std::vector<double> pixels, const std::vector<long>& axes,
+                        const std::string& header_cards, const std::string& name,
+                        const ReadOptions& options) {
+  const std::size_t n = checked_pixel_count(axes, name, options);
+  FULCRUM_CHECK(pixels.size() == n, n, pixels.size());
+  RawArray r;
+  r.naxes = axes;
+  r.header = checked_memory_header(header_cards, axes, name);
+  r.data = std::move(pixels);
+  r.missing = mark_missing_values(r.data, r.header, -64);  // values as a float64 file holds them
+  warn_missing_values(r.missing, name);
+  return image_from_raw(std::move(r), name);
 }
 
 Cube read_cube(const std::string& path, const ReadOptions& options) {

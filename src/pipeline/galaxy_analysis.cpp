@@ -27,11 +27,19 @@ void record(GalaxySummary& s, const char* stage, StageStatus status, std::string
   s.stages.push_back({stage, status, std::move(reason)});
 }
 
-// inputs -> the maps (empty on failure, with the reason).
-GalaxyMaps inputs_step(GalaxySummary& s) {
+// inputs -> the maps (empty on failure, with the reason): read from the
+// files, or `given` in memory.
+GalaxyMaps inputs_step(GalaxySummary& s, std::optional<GalaxyMaps>& given) {
   try {
-    s.provenance = input_provenance(s.input);
-    GalaxyMaps maps = load_galaxy_maps(s.input);
+    GalaxyMaps maps;
+    if (given) {
+      check_galaxy_maps(s.input, *given);
+      s.provenance = maps_provenance(s.input, *given);
+      maps = std::move(*given);
+    } else {
+      s.provenance = input_provenance(s.input);
+      maps = load_galaxy_maps(s.input);
+    }
     s.beam = maps.intensity->beam;
     record(s, "inputs", StageStatus::done);
     return maps;
@@ -247,7 +255,9 @@ robustness::ChainSettings chain_settings(const AnalysisOptions& o) {
   return c;
 }
 
-GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
+namespace {
+
+GalaxyResult analyse(const GalaxyInput& in, std::optional<GalaxyMaps> given, const AnalysisOptions& opt) {
   GalaxyResult r;
   r.name = in.name;
   GalaxySummary& s = r.summary;
@@ -257,7 +267,7 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
   s.bootstrap_from_estimates = opt.bootstrap_from_estimates;
   s.created_utc = created_utc();
 
-  const GalaxyMaps maps = inputs_step(s);
+  const GalaxyMaps maps = inputs_step(s, given);
   if (s.undetermined_reason.empty()) {
     kinematics_step(maps, kinematic_options_for(in), s);
     photometry_step(maps, s);
@@ -280,6 +290,16 @@ GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
   r.notes = s.notes;
   r.report = to_json(s);
   return r;
+}
+
+}  // namespace
+
+GalaxyResult analyse_galaxy(const GalaxyInput& in, const AnalysisOptions& opt) {
+  return analyse(in, std::nullopt, opt);
+}
+
+GalaxyResult analyse_galaxy(const GalaxyInput& in, GalaxyMaps maps, const AnalysisOptions& opt) {
+  return analyse(in, std::move(maps), opt);
 }
 
 void write_galaxy_outputs(const GalaxyResult& result, const std::string& dir) {

@@ -209,6 +209,28 @@ json input_provenance(const GalaxyInput& in) {
   return j;
 }
 
+json maps_provenance(const GalaxyInput& in, const GalaxyMaps& maps) {
+  json j = json::object();
+  auto add = [&](const char* key, const std::string& path, const std::optional<Image>& map) {
+    if (!map) return;
+    std::error_code ec;
+    const std::string digest =
+        fs::is_regular_file(path, ec)
+            ? report::sha256_file(path)
+            : report::sha256_hex(std::string_view(reinterpret_cast<const char*>(map->data.data()),
+                                                  map->data.size() * sizeof(double)));
+    j[key] = {{"path", path}, {"sha256", digest}};
+  };
+  add("velocity", in.velocity, maps.velocity);
+  add("velocity_error", in.velocity_error, maps.velocity_error);
+  add("intensity", in.intensity, maps.intensity);
+  add("intensity_error", in.intensity_error, maps.intensity_error);
+  add("optical", in.optical, maps.optical);
+  add("optical_mask", in.optical_mask, maps.optical_mask);
+  add("tail_image", in.tail_image, maps.tail_image);
+  return j;
+}
+
 json to_json(const GalaxySummary& s) {
   json rep;
   rep["schema_version"] = kReportSchemaVersion;

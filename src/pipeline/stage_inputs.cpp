@@ -20,8 +20,7 @@ GalaxyMaps load_galaxy_maps(const GalaxyInput& in) {
   optional_map(in.optical, m.optical);
   optional_map(in.optical_mask, m.optical_mask);
   optional_map(in.tail_image, m.tail_image);
-  if (m.intensity_error && (m.intensity_error->nx != m.intensity->nx || m.intensity_error->ny != m.intensity->ny))
-    throw InputError(in.intensity_error, "is not on the grid of the intensity map " + in.intensity);
+  check_galaxy_maps(in, m);
   if (!in.cube.empty()) {
     // Maps made from a cube live in the galaxy's own folder (OUT/moments/):
     // name them relative to it in everything the report says, so that the
@@ -30,6 +29,12 @@ GalaxyMaps load_galaxy_maps(const GalaxyInput& in) {
       if (*map) (*map)->path = (std::filesystem::path("moments") / std::filesystem::path((*map)->path).filename()).string();
   }
   return m;
+}
+
+void check_galaxy_maps(const GalaxyInput& in, const GalaxyMaps& m) {
+  FULCRUM_CHECK(m.velocity && m.intensity, "velocity and intensity maps", "a map missing");
+  if (m.intensity_error && (m.intensity_error->nx != m.intensity->nx || m.intensity_error->ny != m.intensity->ny))
+    throw InputError(in.intensity_error, "is not on the grid of the intensity map " + in.intensity);
 }
 
 }  // namespace fulcrum::pipeline

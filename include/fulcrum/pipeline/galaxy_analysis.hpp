@@ -80,6 +80,14 @@ struct GalaxyResult {
 // Never throws for bad input: an unreadable file or an impossible option
 // gives verdict "undetermined" with the reason. Internal errors propagate.
 GalaxyResult analyse_galaxy(const GalaxyInput& input, const AnalysisOptions& options);
+// The same chain on maps already in memory (the Python module's arrays, or
+// maps read by the caller): `maps` replaces reading the files of `input`,
+// whose map fields then only name the maps in messages and the report.
+// velocity and intensity must be given; the grids are checked as for files
+// (check_galaxy_maps). The report's inputs hold, for each map, the SHA-256
+// of its file when its path names one, else of its pixel values
+// (maps_provenance in pipeline/report_json.hpp).
+GalaxyResult analyse_galaxy(const GalaxyInput& input, GalaxyMaps maps, const AnalysisOptions& options);
 
 // DIR/report.json and DIR/figures/<id>.svg, <id>.pdf and <id>.png (the same
 // drawing in three formats, report/figure_files.hpp), each written atomically.

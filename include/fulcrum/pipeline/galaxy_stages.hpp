@@ -17,6 +17,9 @@ namespace fulcrum::pipeline {
 
 // inputs: every map named in `input` (the error map must match the intensity grid).
 GalaxyMaps load_galaxy_maps(const GalaxyInput& input);
+// What load_galaxy_maps checks once the maps are read: velocity and intensity
+// present, the intensity error map on the intensity grid.
+void check_galaxy_maps(const GalaxyInput& input, const GalaxyMaps& maps);
 
 // kinematics: the settings the pipeline uses (both methods, defaults).
 kinematics::KinematicOptions kinematic_options_for(const GalaxyInput& input);

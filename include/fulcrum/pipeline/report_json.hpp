@@ -24,6 +24,10 @@ nlohmann::json to_json(const GalaxySummary& summary);
 
 // {"velocity": {"path", "sha256"}, ...} for every input file that exists.
 nlohmann::json input_provenance(const GalaxyInput& input);
+// The same for maps held in memory: each map's path (as `input` names it)
+// with the SHA-256 of its file when that path is a file, else of its pixel
+// values (float64, little-endian, x fastest, NaN for missing pixels).
+nlohmann::json maps_provenance(const GalaxyInput& input, const GalaxyMaps& maps);
 
 // The single timestamp field (ISO 8601 UTC), honouring SOURCE_DATE_EPOCH.
 std::string created_utc();
