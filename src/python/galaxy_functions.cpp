@@ -20,6 +20,7 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "fulcrum/report/figure_files.hpp"
 #include "fulcrum/pipeline/galaxy_stages.hpp"
 #include "fulcrum/pipeline/input_settings.hpp"
 #include "fulcrum/pipeline/report_json.hpp"
@@ -356,7 +357,7 @@ void bind_summary(py::module_& m) {
       .def_property_readonly("notes", [](const Summary& s) { return s.summary.notes; })
       .def_property_readonly("figures", [](const Summary& s) {
         py::dict d;
-        for (const auto& f : s.figures) d[py::str(f.id)] = f.svg;
+        for (const auto& f : s.figures) d[py::str(f.id)] = report::figure_bytes(f.canvas, report::FigureFormat::svg);
         return d;
       }, "The figures as SVG text by id (from analyse with figures=True; empty otherwise)")
       .def("table", [](const Summary& s) { return table_to_python(pipeline::robustness_table({s.summary})); },
