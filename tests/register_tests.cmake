@@ -5,3 +5,19 @@ include(Catch)
 catch_discover_tests(fulcrum_tests
     WORKING_DIRECTORY ${PROJECT_BINARY_DIR}
     PROPERTIES ENVIRONMENT "OMP_NUM_THREADS=1")
+
+# A sample on a real Slurm cluster of one node that the test starts and stops
+# itself (tests/cluster/slurm_sample.py; Debian's slurm-wlm and munge, root).
+# Exit 77 is a skip, reported with the reason: the daemons cannot start here.
+foreach(case array requeue)
+  if(case STREQUAL "array")
+    set(what "a job array of shards plus the merge equals the unsharded run")
+  else()
+    set(what "a shard killed with SIGKILL and submitted again still merges to the unsharded run")
+  endif()
+  add_test(NAME "slurm: ${what}"
+           COMMAND /usr/bin/python3 ${PROJECT_SOURCE_DIR}/tests/cluster/slurm_sample.py
+                   --fulcrum $<TARGET_FILE:fulcrum> --case ${case})
+  set_tests_properties("slurm: ${what}" PROPERTIES SKIP_RETURN_CODE 77 TIMEOUT 180
+                       RESOURCE_LOCK slurm_test_cluster LABELS slurm)
+endforeach()

@@ -18,10 +18,11 @@ build_dir="${FULCRUM_BUILD_DIR:-build}"
 build_packages=(build-essential cmake pkg-config libeigen3-dev libceres-dev libcfitsio-dev
                 wcslib-dev libcli11-dev catch2 nlohmann-json3-dev libtomlplusplus-dev)
 # Outside references for the tests (astropy, scipy, shapely, numpy), GNU
-# parallel for the shard/merge test, Chromium for the HTML report test and
-# pdflatex for the journal-table test.
+# parallel for the shard/merge test, Chromium for the HTML report test,
+# pdflatex for the journal-table test, and Slurm with munge for the test that
+# runs a sample on a one-node cluster it starts itself (tests/cluster/).
 test_packages=(python3 python3-astropy python3-numpy python3-scipy python3-shapely python3-pil parallel
-               chromium texlive-latex-base)
+               chromium texlive-latex-base slurm-wlm munge)
 
 install_missing() {
   local missing=()

@@ -43,9 +43,6 @@ ShardRecord parse_record(const std::string& file) {
 
 // A folder that holds no finished run is refused, naming it.
 void check_finished(const std::string& dir, const std::optional<ShardRecord>& record) {
-  if (has_unfinished_run(dir))
-    throw InputError(dir, "holds an unfinished run (its staging folder " + std::string(kStagingFolder) +
-                              " is still there: killed, failed or still running); run that shard again");
   if (!record && !fs::exists(fs::path(dir) / "sample.json"))
     throw InputError(dir, "holds no finished run (neither shard.json nor sample.json); run that shard again");
   if (!record) return;
@@ -81,6 +78,9 @@ void check_shards_complete(const std::vector<std::string>& dirs) {
   std::string first_dir;
   for (const auto& d : dirs) {
     if (!fs::is_directory(d)) throw InputError(d, "is not a folder (a shard that never ran?)");
+    if (has_unfinished_run(d))
+      throw InputError(d, "holds an unfinished run (its staging folder " + std::string(kStagingFolder) +
+                              " is still there: killed, failed or still running); run that shard again");
     const auto record = read_shard_record(d);
     check_finished(d, record);
     if (!record) continue;

@@ -25,8 +25,12 @@ bool has_control_characters(const std::string& text) {
 // A path the script names: absolute, without control characters (which
 // would break the here-documents and the logs' names).
 std::string script_path(const std::string& setting, const std::string& path) {
-  if (path.empty() || has_control_characters(path))
-    throw SettingError(setting, "'" + path + "'", "a path without control characters");
+  if (path.empty() || has_control_characters(path)) {
+    std::string shown = path;  // the refusal stays on one line
+    for (char& c : shown)
+      if (static_cast<unsigned char>(c) < 0x20 || c == 0x7f) c = '?';
+    throw SettingError(setting, "'" + shown + "'", "a path without control characters");
+  }
   return fs::absolute(path).lexically_normal().string();
 }
 
