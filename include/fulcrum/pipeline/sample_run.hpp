@@ -16,14 +16,15 @@
 //
 // Shards: `--shard I/N` runs every N-th galaxy; each shard writes its own
 // DIR and, when finished, DIR/shard.json (pipeline/shard_record.hpp). Every
-// run writes through a staging folder (pipeline/run_staging.hpp), so a shard
-// killed and run again leaves the same files. merge_outputs() refuses a set
-// of folders with a missing or unfinished shard, naming it; it reads the per-galaxy reports of several DIRs and
-// writes the sample products as if one run had made them: the rows are
-// ordered by each galaxy's position in the manifest (recorded in its
-// report.json), so a merged run equals an unsharded one. Run and merge both
-// build the sample products from what each galaxy's report.json says, read
-// by the one reader (pipeline/report_reader.hpp), so the two cannot differ.
+// run writes through a staging folder (pipeline/run_staging.hpp), so a run
+// killed and started again leaves the same files. merge_outputs() refuses a
+// set of folders with a missing or unfinished shard, naming it; it reads the
+// per-galaxy reports of several DIRs and writes the sample products as if
+// one run had made them: the rows are ordered by each galaxy's position in
+// the manifest (recorded in its report.json), so a merged run equals an
+// unsharded one. Run and merge both build the sample products from what
+// each galaxy's report.json says, read by the one reader
+// (pipeline/report_reader.hpp), so the two cannot differ.
 #pragma once
 
 #include <string>
