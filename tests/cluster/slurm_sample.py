@@ -360,9 +360,12 @@ def main():
         (case_array if args.case == "array" else case_requeue)(args, cluster, manifest, out, script, whole)
     except Skip as e:
         print("SKIPPED: the test Slurm cluster cannot run here: " + str(e))
+        cluster.stop()
+        import shutil
+        shutil.rmtree(root, ignore_errors=True)
         return SKIP
     except AssertionError as e:
-        print("FAILED: " + str(e))
+        print("FAILED: " + str(e) + "\n(files kept in " + root + ")")
         for log in ("slurmctld.log", "slurmd.log"):
             print("--- " + log + " (end)\n" + tail(os.path.join(root, log)))
         return 1
