@@ -9,11 +9,13 @@ catch_discover_tests(fulcrum_tests
 # A sample on a real Slurm cluster of one node that the test starts and stops
 # itself (tests/cluster/slurm_sample.py; Debian's slurm-wlm and munge, root).
 # Exit 77 is a skip, reported with the reason: the daemons cannot start here.
-foreach(case array requeue)
+foreach(case array requeue slurm-requeue)
   if(case STREQUAL "array")
     set(what "a job array of shards plus the merge equals the unsharded run")
-  else()
+  elseif(case STREQUAL "requeue")
     set(what "a shard killed with SIGKILL and submitted again still merges to the unsharded run")
+  else()
+    set(what "a shard requeued by scontrol while it runs still merges to the unsharded run")
   endif()
   add_test(NAME "slurm: ${what}"
            COMMAND /usr/bin/python3 ${PROJECT_SOURCE_DIR}/tests/cluster/slurm_sample.py

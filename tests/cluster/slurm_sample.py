@@ -18,6 +18,11 @@ bound, for the merge. Then:
                   failed, so `scontrol requeue` alone would leave the merge
                   waiting) and the final merge still equals the unsharded
                   run byte for byte.
+  --case slurm-requeue
+                  shard 1 is requeued with `scontrol requeue` while it runs
+                  (once one of its galaxies is in its staging folder; Slurm
+                  ends it and starts it again), the merge waits for it and
+                  still equals the unsharded run byte for byte.
 
 The cluster is shut down by the PIDs this test started, also on failure.
 Exit 77 (CTest: skipped) with the reason when the daemons cannot start here:
@@ -323,6 +328,30 @@ def case_requeue(args, cluster, manifest, out, script, whole):
     compare_trees(whole, out)
 
 
+def case_slurm_requeue(args, cluster, manifest, out, script, whole):
+    array_job, merge_job = submit(cluster, script)
+    task = array_job + "_1"
+    done_galaxy = os.path.join(out, "shards", "1", ".partial", "mock-1", "report.json")
+    wait_for("shard 1 to write its first galaxy into its staging folder",
+             lambda: os.path.exists(done_galaxy) and cluster.job_state(task) == "RUNNING", step=0.005)
+    r = cluster.run(["scontrol", "requeue", task])
+    if r.returncode != 0:
+        raise AssertionError("scontrol requeue failed: " + r.stderr)
+    print("shard 1 requeued by Slurm while it ran")
+    # Slurm holds a requeued job for about two minutes; let it start now.
+    wait_for("the requeued shard to be pending", lambda: cluster.job_state(task) == "PENDING")
+    wait_for("the requeued shard to accept a start time", lambda: cluster.run(
+        ["scontrol", "update", "JobId=" + task, "StartTime=now"]).returncode == 0)
+    state = wait_final(cluster, merge_job, "the merge")
+    if state != "COMPLETED":
+        raise AssertionError("the merge ended " + state + ":\n" + tail(os.path.join(out, "slurm", "merge.log")))
+    restarts = [w for w in cluster.run(["scontrol", "show", "job", task]).stdout.split() if w.startswith("Restarts=")]
+    print("shard 1:", restarts)
+    if restarts != ["Restarts=1"]:
+        raise AssertionError("shard 1 should have run twice")
+    compare_trees(whole, out)
+
+
 def case_array(args, cluster, manifest, out, script, whole):
     array_job, merge_job = submit(cluster, script)
     state = wait_final(cluster, merge_job, "the merge")
@@ -339,10 +368,13 @@ def case_array(args, cluster, manifest, out, script, whole):
     compare_trees(whole, out)
 
 
+CASES = {"array": case_array, "requeue": case_requeue, "slurm-requeue": case_slurm_requeue}
+
+
 def main():
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--fulcrum", required=True)
-    ap.add_argument("--case", choices=["array", "requeue"], required=True)
+    ap.add_argument("--case", choices=list(CASES), required=True)
     args = ap.parse_args()
     args.fulcrum = os.path.abspath(args.fulcrum)
     root = tempfile.mkdtemp(prefix="fulcrum-slurm-")
@@ -357,7 +389,7 @@ def main():
         script = os.path.join(root, "submit.sh")
         r = fulcrum(args, ["run", manifest, "--out", out, "--slurm-script", script, "--shards", "2"])
         print(r.stdout.strip())
-        (case_array if args.case == "array" else case_requeue)(args, cluster, manifest, out, script, whole)
+        CASES[args.case](args, cluster, manifest, out, script, whole)
     except Skip as e:
         print("SKIPPED: the test Slurm cluster cannot run here: " + str(e))
         cluster.stop()
