@@ -39,7 +39,10 @@ import time
 
 SKIP = 77
 EPOCH = "1700000000"
-WAIT_SECONDS = 150  # bound for every wait; the whole test stays under 3 minutes
+WAIT_SECONDS = 150  # bound for every wait
+# Every wait also ends by this time, so the test fails (and stops its
+# cluster) itself before CTest's limit of 180 s.
+DEADLINE = time.monotonic() + 160
 PROGRAMS = ["munged", "slurmctld", "slurmd", "sbatch", "squeue", "scontrol", "scancel", "sinfo"]
 FINAL_STATES = {"COMPLETED", "FAILED", "CANCELLED", "TIMEOUT", "NODE_FAIL", "OUT_OF_MEMORY", "BOOT_FAIL",
                 "DEADLINE", "PREEMPTED"}
@@ -63,9 +66,12 @@ def tail(path, n=15):
         return "(no log)"
 
 
-def wait_for(what, test, bound=WAIT_SECONDS, step=0.2):
-    """Poll test() until it is true; raise naming `what` after `bound` s."""
+def wait_for(what, test, bound=WAIT_SECONDS, step=0.2, by_deadline=True):
+    """Poll test() until it is true; raise naming `what` after `bound` s
+    (or at DEADLINE)."""
     end = time.monotonic() + bound
+    if by_deadline:
+        end = min(end, DEADLINE)
     while time.monotonic() < end:
         value = test()
         if value:
@@ -204,7 +210,8 @@ PartitionName=test Nodes=localhost Default=YES MaxTime=INFINITE State=UP
             if ids:
                 self.run(["scancel"] + ids)
                 try:
-                    wait_for("the cancelled jobs to end", lambda: not self.run(["squeue", "-h"]).stdout.strip(), 20)
+                    wait_for("the cancelled jobs to end", lambda: not self.run(["squeue", "-h"]).stdout.strip(), 20,
+                             by_deadline=False)
                 except AssertionError:
                     pass
         for name, p in reversed(self.procs):
@@ -280,9 +287,12 @@ def wait_final(cluster, job, what):
                     lambda: (lambda s: s if s in FINAL_STATES else None)(cluster.job_state(job)))
 
 
-def shard_process(array_job, task, exe):
-    """PID of the fulcrum process of array task `task` of `array_job`."""
-    want = {f"SLURM_ARRAY_JOB_ID={array_job}".encode(), f"SLURM_ARRAY_TASK_ID={task}".encode()}
+def shard_process(cluster, array_job, task, exe):
+    """PID of the fulcrum process of array task `task` of `array_job` on this
+    test's cluster (its SLURM_CONF: another test cluster may have the same
+    job ids)."""
+    want = {f"SLURM_ARRAY_JOB_ID={array_job}".encode(), f"SLURM_ARRAY_TASK_ID={task}".encode(),
+            f"SLURM_CONF={cluster.conf}".encode()}
     for pid in filter(str.isdigit, os.listdir("/proc")):
         try:
             if os.path.realpath(f"/proc/{pid}/exe") != os.path.realpath(exe):
@@ -299,7 +309,7 @@ def kill_shard_mid_run(cluster, array_job, out, exe):
     staging = os.path.join(out, "shards", "1", ".partial")
     done_galaxy = os.path.join(staging, "mock-1", "report.json")
     pid = wait_for("shard 1 to write its first galaxy into its staging folder",
-                   lambda: shard_process(array_job, 1, exe) if os.path.exists(done_galaxy) else None, step=0.005)
+                   lambda: shard_process(cluster, array_job, 1, exe) if os.path.exists(done_galaxy) else None, step=0.005)
     os.kill(pid, signal.SIGKILL)
     print(f"shard 1 (pid {pid}) killed with SIGKILL; its staging folder holds {sorted(os.listdir(staging))}")
     state = wait_final(cluster, array_job + "_1", "killed shard 1")
@@ -377,6 +387,8 @@ def main():
     ap.add_argument("--case", choices=list(CASES), required=True)
     args = ap.parse_args()
     args.fulcrum = os.path.abspath(args.fulcrum)
+    # Killed from outside (CTest's timeout, Ctrl-C): still stop the cluster.
+    signal.signal(signal.SIGTERM, lambda *_: sys.exit(1))
     root = tempfile.mkdtemp(prefix="fulcrum-slurm-")
     cluster = Cluster(root)
     try:
