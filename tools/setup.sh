@@ -20,10 +20,12 @@ build_packages=(build-essential cmake pkg-config libeigen3-dev libceres-dev libc
                 fonts-dejavu-core pybind11-dev python3-dev)
 # Outside references for the tests (astropy, scipy, shapely, numpy), pytest
 # for the Python module's tests, GNU parallel for the shard/merge test,
-# Chromium for the HTML report test, pdflatex for the journal-table test and
-# pdftoppm (poppler-utils) for the test that renders a figure's PDF.
+# Chromium for the HTML report test, pdflatex for the journal-table test,
+# pdftoppm (poppler-utils) for the test that renders a figure's PDF, and
+# Slurm with munge for the test that runs a sample on a one-node cluster it
+# starts itself (tests/cluster/).
 test_packages=(python3 python3-astropy python3-numpy python3-scipy python3-shapely python3-pil python3-pytest parallel
-               chromium texlive-latex-base poppler-utils)
+               chromium texlive-latex-base poppler-utils slurm-wlm munge)
 
 install_missing() {
   local missing=()

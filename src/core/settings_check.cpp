@@ -1,6 +1,8 @@
 // Checks of user settings (core/settings_check.hpp).
 #include "fulcrum/core/settings_check.hpp"
 
+#include <algorithm>
+#include <cctype>
 #include <cmath>
 
 #include "fulcrum/core/number_text.hpp"
@@ -79,6 +81,16 @@ std::uint64_t check_seed(std::string_view setting, std::int64_t value) {
     throw SettingError(std::string(setting), std::to_string(value),
                        "a whole number within [0, " + std::to_string(kMax) + "]");
   return static_cast<std::uint64_t>(value);
+}
+
+const std::string& check_plain_name(std::string_view setting, const std::string& value) {
+  const bool plain = !value.empty() && value.size() <= 128 && std::all_of(value.begin(), value.end(), [](char ch) {
+    return std::isalnum(static_cast<unsigned char>(ch)) || ch == '_' || ch == '-' || ch == '.' || ch == ',';
+  });
+  if (!plain)
+    throw SettingError(std::string(setting), "'" + value + "'",
+                       "1 to 128 letters, digits and the characters _ - . , (no spaces)");
+  return value;
 }
 
 const std::string& check_one_of(std::string_view setting, const std::string& value,

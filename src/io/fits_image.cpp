@@ -366,6 +366,17 @@ Image read_image_counted(const std::string& path, MissingValueCounts& counts,
   return image_from_raw(std::move(r), path);
 }
 
+std::vector<long> fits_image_axes(const std::string& path) {
+  FitsPtr fp = open_fits(path);
+  goto_image_hdu(fp.get(), path);
+  int status = 0, naxis = 0;
+  long naxes[9] = {0};
+  if (fits_get_img_dim(fp.get(), &naxis, &status) || naxis < 1 || naxis > 9 ||
+      fits_get_img_size(fp.get(), naxis, naxes, &status))
+    throw InputError(path, "cannot read the image axes: " + cfitsio_message(status));
+  return std::vector<long>(naxes, naxes + naxis);
+}
+
 Image read_image(const std::string& path, const ReadOptions& options) {
   MissingValueCounts counts;
   return read_image_counted(path, counts, options);

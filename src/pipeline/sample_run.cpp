@@ -25,6 +25,8 @@
 #include "fulcrum/pipeline/centre_asymmetries.hpp"
 #include "fulcrum/pipeline/report_json.hpp"
 #include "fulcrum/pipeline/report_reader.hpp"
+#include "fulcrum/pipeline/run_staging.hpp"
+#include "fulcrum/pipeline/shard_record.hpp"
 #include "fulcrum/sky/offset_frame.hpp"
 
 namespace fulcrum::pipeline {
@@ -571,7 +573,12 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
   if (selected.empty()) throw InputError(manifest.path, "the selection (" + setting_ref("only") + ", " + setting_ref("shard") + ") leaves no galaxy to run");
   std::map<std::string, int> index;
   for (std::size_t i = 0; i < manifest.galaxies.size(); ++i) index[manifest.galaxies[i].name] = static_cast<int>(i);
+  // Written through a staging folder, the shard record last: a run killed
+  // and started again leaves the same files (pipeline/run_staging.hpp).
   fs::create_directories(out);
+  remove_shard_record(o.out_dir);
+  RunStaging staging(o.out_dir);
+  const fs::path work(staging.path());
 
   std::vector<GalaxySummary> galaxies(selected.size());
   Progress progress("galaxies", selected.size());
@@ -587,12 +594,18 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
     ao.figures = o.figures;
     ao.bootstrap_from_estimates = o.bootstrap_from_estimates;
     const SampleRef ref{manifest.name, manifest.path, index[g.name], o.seed.value_or(manifest.seed)};
-    galaxies[i] = run_one(g, ao, ref, out);
+    galaxies[i] = run_one(g, ao, ref, work);
 #pragma omp critical(sample_progress)
     progress.advance();
   }
   progress.finish();
-  write_sample_products(o.out_dir, galaxies);
+  write_sample_products(staging.path(), galaxies);
+  staging.commit();
+  if (o.record_shard) {
+    ShardRecord record{o.selection.shard_index, o.selection.shard_count, manifest.path, manifest.name, {}};
+    for (const auto& g : selected) record.galaxies.push_back(g.name);
+    write_shard_record(o.out_dir, record);
+  }
   RunSummary s;
   s.galaxies = galaxies;
   s.out_dir = o.out_dir;
@@ -602,6 +615,8 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
 
 RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string& out_dir, bool overwrite) {
   if (dirs.empty()) throw InputError("", "merge needs at least one run folder");
+  // Every shard there and finished (pipeline/shard_record.hpp).
+  check_shards_complete(dirs);
   fs::path out(out_dir);
   if (fs::exists(out / "sample.json") && !overwrite &&
       std::find(dirs.begin(), dirs.end(), out_dir) == dirs.end())

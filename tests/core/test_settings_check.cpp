@@ -116,3 +116,20 @@ TEST_CASE("numbers as text: shortest round trip, fixed, significant", "[core][se
   CHECK(fixed_text(2.345678, 2) == "2.35");
   CHECK(significant_text(123456.789, 4) == "1.235e+05");
 }
+
+TEST_CASE("a name handed to another program is one plain word", "[core][settings]") {
+  CHECK(check_plain_name("slurm_partition", "short") == "short");
+  CHECK(check_plain_name("slurm_partition", "gpu-a100,cpu_2.x") == "gpu-a100,cpu_2.x");
+  const std::vector<std::string> refused = {"", "a b", "x;rm", "$(id)", "tab\there", std::string(129, 'a')};
+  for (const auto& bad : refused) {
+    INFO(bad);
+    CHECK_THROWS_AS(check_plain_name("slurm_partition", bad), SettingError);
+  }
+  try {
+    check_plain_name("slurm_account", "my account");
+  } catch (const SettingError& e) {
+    CHECK(std::string(e.what()) ==
+          "slurm_account = 'my account' is not allowed: must be 1 to 128 letters, digits and the characters _ - . , "
+          "(no spaces)");
+  }
+}

@@ -140,11 +140,19 @@ TEST_CASE("a sharded run under GNU parallel plus merge equals the unsharded run"
   REQUIRE(m.exit_code == 0);
   CHECK(table_part(m.out) == table_part(whole.out));
   require_same_tree(dir / "whole", dir / "merged");
-  // Merging the same galaxy twice is refused.
+  // Merging the same shard (so the same galaxies) twice is refused.
   auto twice = test::run_shell(fulcrum_cmd("merge " + (dir / "shard1").string() + " " + (dir / "shard1").string() +
                                            " --out " + (dir / "bad").string()));
   CHECK(twice.exit_code == 2);
-  CHECK(twice.err.find("is also in") != std::string::npos);
+  CHECK(twice.err.find("is shard 1/3, as is") != std::string::npos);
+  // Two plain runs holding the same galaxy are refused too.
+  auto o1 = test::run_shell(fulcrum_cmd("run " + manifest + " --only tiny-1 --out " + (dir / "only1").string()));
+  auto o2 = test::run_shell(fulcrum_cmd("run " + manifest + " --only tiny-1 --out " + (dir / "only2").string()));
+  REQUIRE((o1.exit_code == 0 && o2.exit_code == 0));
+  auto same = test::run_shell(fulcrum_cmd("merge " + (dir / "only1").string() + " " + (dir / "only2").string() +
+                                          " --out " + (dir / "bad2").string()));
+  CHECK(same.exit_code == 2);
+  CHECK(same.err.find("is also in") != std::string::npos);
 }
 
 TEST_CASE("report.html opens in headless Chromium with every figure visible and no console errors",

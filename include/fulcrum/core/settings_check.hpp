@@ -66,6 +66,9 @@ std::int64_t check_integer_in_range(std::string_view setting, std::int64_t value
 // A random seed: a whole number in [0, 2^53) (exact in JSON readers that use
 // doubles); negative values are refused, never wrapped.
 std::uint64_t check_seed(std::string_view setting, std::int64_t value);
+// A name handed to another program as one word (a batch queue, an
+// account): 1 to 128 characters, each a letter, digit, '_', '-', '.' or ','.
+const std::string& check_plain_name(std::string_view setting, const std::string& value);
 // One of the listed words.
 const std::string& check_one_of(std::string_view setting, const std::string& value,
                                 const std::vector<std::string>& allowed);

@@ -46,6 +46,10 @@ struct HeaderCard {
 };
 
 Image read_image(const std::string& path, const ReadOptions& options = {});
+// The axis lengths (NAXIS1, NAXIS2, ...) of the image read_image or read_cube
+// would read, from the header only: no pixel is read, so it is cheap even
+// for a large cube. Throws InputError naming the file.
+std::vector<long> fits_image_axes(const std::string& path);
 Cube read_cube(const std::string& path, const ReadOptions& options = {});
 
 // Read an image from a FITS file held in memory (for fuzzing and tests);

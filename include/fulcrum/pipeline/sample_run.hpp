@@ -15,12 +15,16 @@
 // SOURCE_DATE_EPOCH).
 //
 // Shards: `--shard I/N` runs every N-th galaxy; each shard writes its own
-// DIR. merge_outputs() reads the per-galaxy reports of several DIRs and
-// writes the sample products as if one run had made them: the rows are
-// ordered by each galaxy's position in the manifest (recorded in its
-// report.json), so a merged run equals an unsharded one. Run and merge both
-// build the sample products from what each galaxy's report.json says, read
-// by the one reader (pipeline/report_reader.hpp), so the two cannot differ.
+// DIR and, when finished, DIR/shard.json (pipeline/shard_record.hpp). Every
+// run writes through a staging folder (pipeline/run_staging.hpp), so a run
+// killed and started again leaves the same files. merge_outputs() refuses a
+// set of folders with a missing or unfinished shard, naming it; it reads the
+// per-galaxy reports of several DIRs and writes the sample products as if
+// one run had made them: the rows are ordered by each galaxy's position in
+// the manifest (recorded in its report.json), so a merged run equals an
+// unsharded one. Run and merge both build the sample products from what
+// each galaxy's report.json says, read by the one reader
+// (pipeline/report_reader.hpp), so the two cannot differ.
 #pragma once
 
 #include <string>
@@ -44,6 +48,9 @@ struct RunOptions {
   std::optional<int> calibrate;  // matched mocks per set, overrides the manifest (0: off)
   std::optional<std::uint64_t> seed;
   bool bootstrap_from_estimates = false;  // AnalysisOptions::bootstrap_from_estimates
+  // Write DIR/shard.json at the end (pipeline/shard_record.hpp): set when
+  // the selection is a shard given as "I/N", so `merge` can check the set.
+  bool record_shard = false;
 };
 
 struct RunSummary {
@@ -56,7 +63,8 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& options)
 
 // Read DIR/<galaxy>/report.json from every folder in `dirs`, copy the galaxy
 // folders into `out_dir` (unless it is one of `dirs`), and write the sample
-// products there. A galaxy found twice is an error.
+// products there. A galaxy found twice is an error, and so is a missing or
+// unfinished shard (check_shards_complete).
 RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string& out_dir, bool overwrite);
 
 // The sample products from the galaxies (sorted by manifest position).
