@@ -83,6 +83,10 @@ for g, p in rows.items():
                     f"(reduced chi2 {j['velocity_scatter']['reduced_chi2_stated_errors']:.1f} with the stated errors, "
                     f"median stated error {j['velocity_scatter']['median_stated_error_kms']:.1f} km/s)"
                     if j.get('velocity_scatter', {}).get('estimated') else "")
+                 + (f"; centre re-fits: {j['centre_bootstrap']['refits']} mocks of the fitted disc, mean m^2 "
+                    f"{j['centre_bootstrap']['mean_m2']:.2f} (2 expected), centre error widened by x"
+                    f"{j['centre_bootstrap']['error_scale']:.2f}"
+                    if j.get('centre_bootstrap', {}).get('applied') else "")
                  + f"; {j['starts']['scouts']} scout starts.")
 print("\nFootprint and fit:\n")
 for n in notes:
