@@ -264,6 +264,18 @@ void setup_velocity(MockSetup& m, const RadialProfile& profile, double e_lopside
   if (!same) m.velocity_noise.emplace(vgrid.nx, vgrid.ny, vk);
 }
 
+// What every kind of mock needs first: the grids' world positions computed
+// once (the mocks' splits and re-fits read them) and the line noise's
+// generator on the real line map's grid.
+void prepare_grids(MockSetup& m) {
+  const MatchedInputs& in = m.in;
+  m.real.wcs.keep_grid_world(m.real.nx, m.real.ny);
+  if (in.velocity) in.velocity->wcs.keep_grid_world(in.velocity->nx, in.velocity->ny);
+  m.line_noise.emplace(m.real.nx, m.real.ny,
+                       noise_kernel(*m.real.beam, PixelOffsets(m.real, in.centre.position).jacobian(),
+                                    in.noise_correlation_beams));
+}
+
 // Line map of one mock: model + beam-correlated noise, clipped like the data.
 Image noisy_line_map(const MockSetup& m, int set, const std::vector<double>& n) {
   Image map = m.model[set];
@@ -493,19 +505,13 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
       gas_profile(real, in.centre.position, in.pa_deg, in.inc_deg, opt.profile_bin_beams * real.beam->fwhm_arcsec());
   if (profile.mean.empty()) throw InputError(in.galaxy, "the intensity map has no positive gas profile");
 
-  // Every mock map is a copy of one grid: its pixels' world positions are
-  // computed once (the mocks' splits and re-fits read them).
-  real.wcs.keep_grid_world(real.nx, real.ny);
-  if (in.velocity) in.velocity->wcs.keep_grid_world(in.velocity->nx, in.velocity->ny);
   CalibrationSummary s;
   s.galaxy = in.galaxy;
   s.n_mocks = opt.n_mocks;
   s.seed = opt.seed;
   s.target_asymmetry = in.measured_asymmetry;
   MockSetup m(in, opt, real);
-  m.line_noise.emplace(real.nx, real.ny,
-                       noise_kernel(*real.beam, PixelOffsets(real, in.centre.position).jacobian(),
-                                    in.noise_correlation_beams));
+  prepare_grids(m);  // every mock map is a copy of one grid
   m.line_sigma.resize(real.size());
   for (std::size_t i = 0; i < real.size(); ++i) {
     const double sig = in.intensity_error ? in.intensity_error->data[i] : in.rms;
@@ -559,15 +565,11 @@ CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& in, const Centr
     b.reason = "the intensity map has no positive gas profile";
     return b;
   }
-  real.wcs.keep_grid_world(real.nx, real.ny);
-  in.velocity->wcs.keep_grid_world(in.velocity->nx, in.velocity->ny);
   CalibrationOptions opt;
   opt.seed = o.seed;
   opt.correct_beam_smearing = o.correct_beam_smearing;
   MockSetup m(in, opt, real);
-  m.line_noise.emplace(real.nx, real.ny,
-                       noise_kernel(*real.beam, PixelOffsets(real, in.centre.position).jacobian(),
-                                    in.noise_correlation_beams));
+  prepare_grids(m);
   setup_velocity(m, profile, 0.0);
   const Image& vgrid = *in.velocity;
   if (!m.velocity_noise)  // the line grid's kernel: a generator on the velocity grid for both fields
