@@ -88,6 +88,22 @@ void read_kinematics(const Fields& k, GalaxySummary& s) {
   r.fit.pa_deg = k.number("pa_deg");
   r.fit.inc_deg = k.number("inc_deg");
   r.fit.vsys_kms = k.number("vsys_kms");
+  // What the calibration's mocks take from the fit (calibrate --from): the
+  // velocity scatter beyond the error map and the centre re-fit factor.
+  if (k.has("velocity_scatter") && k.at("velocity_scatter").is_object()) {
+    const Fields vs = k.sub("velocity_scatter");
+    if (vs.has("scatter_kms")) r.fit.scatter.scatter_kms = vs.number("scatter_kms");
+  }
+  if (k.has("centre_bootstrap") && k.at("centre_bootstrap").is_object()) {
+    const Fields cb = k.sub("centre_bootstrap");
+    calibration::CentreBootstrap b;
+    b.applied = cb.has("applied") && cb.at("applied").is_boolean() && cb.at("applied").get<bool>();
+    if (b.applied) {
+      b.mean_m2 = cb.number("mean_m2");
+      b.scale2 = cb.number("covariance_scale");
+    }
+    s.centre_bootstrap = b;
+  }
   if (k.has("rings") && k.at("rings").is_array())
     for (const auto& row : k.at("rings")) {
       const Fields f(row, k.where(), "kinematics.rings[].");

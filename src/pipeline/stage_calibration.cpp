@@ -13,33 +13,39 @@ namespace {
 
 constexpr std::uint64_t kCentreBootstrapStream = 0x63656e7472656669ull;  // "centrefi"
 
-const Centre* ring_centre(const GalaxySummary& s) {
-  for (const auto& c : s.centres)
-    if (c.method == CentreMethod::kinematic_rings && c.ok()) return &c;
-  return nullptr;
+// The fitted disc of `fit` as the mocks' truth: the tilted-ring centre
+// (with its covariance), PA, inclination, vsys, the velocity scatter beyond
+// the error map and the rotation curve (its finite nodes); false when the
+// fit has no tilted-ring centre or no ring.
+bool put_fitted_disc(const kinematics::KinematicFit& fit, calibration::MatchedInputs& in) {
+  if (fit.status != "ok" || !fit.ring_centre || !fit.ring_centre->ok()) return false;
+  in.centre = *fit.ring_centre;
+  in.pa_deg = fit.pa_deg;
+  in.inc_deg = fit.inc_deg;
+  in.vsys_kms = fit.vsys_kms;
+  in.velocity_scatter_kms = fit.scatter.scatter_kms;
+  for (const auto& r : fit.rings) {
+    if (!std::isfinite(r.node.radius_arcsec) || !std::isfinite(r.node.vrot_kms)) continue;
+    in.ring_radius_arcsec.push_back(r.node.radius_arcsec);
+    in.ring_vrot_kms.push_back(r.node.vrot_kms);
+  }
+  return !in.ring_radius_arcsec.empty();
 }
 
-// The kinematic half of the matched inputs: maps, noise, clipping and the
-// fitted disc (everything the mocks' velocity fields need).
-calibration::MatchedInputs kinematic_inputs(const GalaxySummary& s, const GalaxyMaps& maps) {
+}  // namespace
+
+calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMaps& maps) {
   const std::string& who = s.input.name;
   if (!maps.intensity) throw InputError(who, "calibration needs the intensity map");
-  const Centre* rings = ring_centre(s);
+  // From the summary's fields, which report_reader restores too (calibrate
+  // --from): the tilted-ring centre among the centres, the ring table.
+  const Centre* rings = nullptr;
+  for (const auto& c : s.centres)
+    if (c.method == CentreMethod::kinematic_rings && c.ok()) rings = &c;
   if (!rings || !s.kinematics || !s.kinematics->ok())
     throw InputError(who, "has no successful kinematic tilted-ring centre: nothing to match the mocks to");
-  if (s.kinematics->rings.empty()) throw InputError(who, "has no ring table (kinematics.rings)");
+  if (!s.robustness) throw InputError(who, "has no split (calibration needs the measured asymmetry)");
   calibration::MatchedInputs in;
-  in.galaxy = who;
-  in.intensity = &*maps.intensity;
-  in.intensity_error = maps.intensity_error ? &*maps.intensity_error : nullptr;
-  in.rms = s.line_rms();
-  in.clip_snr = s.input.clip_snr.value_or(0.0);  // the mocks are clipped as the data were
-  // Clipped pixels blanked (NaN) rather than set to 0, when the map has blanks.
-  in.clip_blank = in.clip_snr > 0.0 &&
-                  std::any_of(maps.intensity->data.begin(), maps.intensity->data.end(),
-                              [](double v) { return std::isnan(v); });
-  in.velocity = maps.velocity ? &*maps.velocity : nullptr;
-  in.velocity_error = maps.velocity_error ? &*maps.velocity_error : nullptr;
   in.centre = *rings;
   const auto& fit = s.kinematics->fit;
   in.pa_deg = fit.pa_deg;
@@ -52,23 +58,24 @@ calibration::MatchedInputs kinematic_inputs(const GalaxySummary& s, const Galaxy
     in.ring_vrot_kms.push_back(r.vrot_kms);
   }
   if (in.ring_radius_arcsec.empty()) throw InputError(who, "has no ring table (kinematics.rings)");
-  return in;
-}
-
-}  // namespace
-
-calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMaps& maps) {
-  const std::string& who = s.input.name;
-  calibration::MatchedInputs in = kinematic_inputs(s, maps);
-  if (!s.robustness) throw InputError(who, "has no split (calibration needs the measured asymmetry)");
-  const Centre* rings = ring_centre(s);
+  in.galaxy = who;
+  in.intensity = &*maps.intensity;
+  in.intensity_error = maps.intensity_error ? &*maps.intensity_error : nullptr;
+  in.rms = s.line_rms();
+  in.clip_snr = s.input.clip_snr.value_or(0.0);  // the mocks are clipped as the data were
+  // Clipped pixels blanked (NaN) rather than set to 0, when the map has blanks.
+  in.clip_blank = in.clip_snr > 0.0 &&
+                  std::any_of(maps.intensity->data.begin(), maps.intensity->data.end(),
+                              [](double v) { return std::isnan(v); });
+  in.velocity = maps.velocity ? &*maps.velocity : nullptr;
+  in.velocity_error = maps.velocity_error ? &*maps.velocity_error : nullptr;
   in.tail_pa_deg = s.robustness->tail_pa_deg;
   in.tail_pa_err_deg = s.robustness->tail_pa_err_deg;
   in.measured_asymmetry = s.robustness->split.asymmetry;
   if (!std::isfinite(in.measured_asymmetry)) throw InputError(who, "has no asymmetry (calibration needs it)");
   if (s.aperture) in.aperture = s.aperture->spec;
   for (const auto& c : s.centres)
-    if (&c != rings && c.ok()) in.estimates.push_back(c);
+    if (c.ok() && c.method != CentreMethod::kinematic_rings) in.estimates.push_back(c);
   return in;
 }
 
@@ -93,29 +100,15 @@ calibration::CentreBootstrap widen_centre_covariance(kinematics::KinematicFit& f
                                                      const Image* velocity_error, const Image& intensity,
                                                      std::uint64_t seed, std::size_t n_refits) {
   calibration::CentreBootstrap b;
-  if (fit.status != "ok" || !fit.ring_centre) {
-    b.reason = "no tilted-ring centre";
+  calibration::MatchedInputs in;
+  if (!put_fitted_disc(fit, in)) {
+    b.reason = "no tilted-ring centre with a ring table";
     return b;
   }
-  calibration::MatchedInputs in;
   in.galaxy = velocity.path;
   in.intensity = &intensity;
   in.velocity = &velocity;
   in.velocity_error = velocity_error;
-  in.centre = *fit.ring_centre;
-  in.pa_deg = fit.pa_deg;
-  in.inc_deg = fit.inc_deg;
-  in.vsys_kms = fit.vsys_kms;
-  in.velocity_scatter_kms = fit.scatter.scatter_kms;
-  for (const auto& r : fit.rings) {
-    if (!std::isfinite(r.node.radius_arcsec) || !std::isfinite(r.node.vrot_kms)) continue;
-    in.ring_radius_arcsec.push_back(r.node.radius_arcsec);
-    in.ring_vrot_kms.push_back(r.node.vrot_kms);
-  }
-  if (in.ring_radius_arcsec.empty()) {
-    b.reason = "no ring table";
-    return b;
-  }
   calibration::CentreBootstrapOptions o;
   o.seed = splitmix64(seed ^ kCentreBootstrapStream);
   o.n_refits = n_refits;

@@ -100,5 +100,6 @@ TEST_CASE("one mock through the single-galaxy analysis and the calibration's per
     CHECK(mi2.measured_asymmetry == mi.measured_asymmetry);
     CHECK(mi2.ring_vrot_kms == mi.ring_vrot_kms);
     CHECK(mi2.centre.position.dec_deg == mi.centre.position.dec_deg);
+    CHECK(mi2.velocity_scatter_kms == mi.velocity_scatter_kms);
   }
 }
