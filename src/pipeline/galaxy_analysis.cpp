@@ -12,6 +12,7 @@
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/pipeline/adopted_centre.hpp"
 #include "fulcrum/pipeline/centre_asymmetries.hpp"
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/pipeline/centre_curves.hpp"
 #include "fulcrum/pipeline/galaxy_stages.hpp"
 #include "fulcrum/pipeline/report_json.hpp"
@@ -144,6 +145,10 @@ void centre_bootstrap_step(const GalaxyMaps& maps, const AnalysisOptions& opt, G
     s.notes.push_back("centre re-fit bootstrap not applied: " + b.reason);
     return;
   }
+  if (b.scale2 > 1.0)
+    s.notes.push_back("the kinematic centre's error was widened x" + fixed_text(std::sqrt(b.scale2), 2) + ": " +
+                      std::to_string(b.refits) + " re-fitted mocks of the fitted disc scatter more than its "
+                      "covariance says (mean m^2 " + fixed_text(b.mean_m2, 2) + ", 2 expected)");
   for (auto& c : s.kinematics->centres)
     if (c.method == CentreMethod::kinematic_rings && c.ok()) c.covariance *= b.scale2;
   for (auto& c : s.centres)
