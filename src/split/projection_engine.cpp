@@ -163,9 +163,14 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
       mm[5] += v * e * e;
     }
   }
-  // The prefix of M0 over all bins (for the G = 1 part) first, then the
-  // moments turn into running sums within each block (Q[k] = sum of bins
-  // from the block's first to k, about the block centre).
+  running_sums(below, above);
+}
+
+// The prefix of M0 over all bins (for the G = 1 part) first, then the
+// moments turn into running sums within each block (Q[k] = sum of bins
+// from the block's first to k, about the block centre).
+void ProjectionEngine::running_sums(const double below[2], const double above[2]) {
+  const int nc = channels_;
   prefix_.assign((static_cast<std::size_t>(nbins_) + 1) * nc, 0.0);
   for (int c = 0; c < nc; ++c) {
     CompensatedSum acc;

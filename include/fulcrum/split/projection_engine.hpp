@@ -126,6 +126,7 @@ class ProjectionEngine {
 
  private:
   double fallback(double s, int ch) const;
+  void running_sums(const double below[2], const double above[2]);
   static constexpr long long kBlock = 32;  // bins per block of running sums
   double block_centre(long long b) const { return smin_ + (double(b * kBlock) + 0.5 * kBlock) * delta_; }
   const PixelSet* px_ = nullptr;
