@@ -97,30 +97,36 @@ BootstrapSummary bootstrap(const split::SplitProblem& pr, const BootstrapOptions
   const double ppb = pr.pixels_per_beam;
   const bool noise = B.noise_included;
   const long long ng = static_cast<long long>(glist.size());
-#pragma omp parallel for schedule(dynamic, 1)
-  for (long long gi = 0; gi < ng; ++gi) {
-    const Angle th = (o.tail_pa_deg + glist[gi].first * step) * degrees;
-    // The window: the s-range of this node's draws.
-    const SkyOffset nn = split::leading_normal(th);
-    split::EngineOptions eo;
-    eo.with_variance = noise;
-    eo.window_lo = 1e300;
-    eo.window_hi = -1e300;
-    for (std::size_t i : *glist[gi].second) {
-      const double s = nn.east * draws[i].ce + nn.north * draws[i].cn;
-      eo.window_lo = std::min(eo.window_lo, s);
-      eo.window_hi = std::max(eo.window_hi, s);
-    }
-    const ProjectionEngine e(pr.pixels, th, eo);
-    for (std::size_t i : *glist[gi].second) {
-      const Draw& d = draws[i];
-      const split::HalfSums h = e.halves(SkyOffset{d.ce, d.cn});
-      double L = h.leading, T = h.trailing;
-      if (noise) {
-        L += std::sqrt(ppb * h.leading_var) * d.zl;
-        T += std::sqrt(ppb * h.trailing_var) * d.zt;
+  // One engine per thread, rebuilt in place for every angle node.
+#pragma omp parallel
+  {
+    ProjectionEngine e;
+    split::EngineScratch scratch;
+#pragma omp for schedule(dynamic, 1)
+    for (long long gi = 0; gi < ng; ++gi) {
+      const Angle th = (o.tail_pa_deg + glist[gi].first * step) * degrees;
+      // The window: the s-range of this node's draws.
+      const SkyOffset nn = split::leading_normal(th);
+      split::EngineOptions eo;
+      eo.with_variance = noise;
+      eo.window_lo = 1e300;
+      eo.window_hi = -1e300;
+      for (std::size_t i : *glist[gi].second) {
+        const double s = nn.east * draws[i].ce + nn.north * draws[i].cn;
+        eo.window_lo = std::min(eo.window_lo, s);
+        eo.window_hi = std::max(eo.window_hi, s);
       }
-      A[i] = (L - T) / (L + T);
+      e.rebuild(pr.pixels, th, eo, &scratch);
+      for (std::size_t i : *glist[gi].second) {
+        const Draw& d = draws[i];
+        const split::HalfSums h = e.halves(SkyOffset{d.ce, d.cn});
+        double L = h.leading, T = h.trailing;
+        if (noise) {
+          L += std::sqrt(ppb * h.leading_var) * d.zl;
+          T += std::sqrt(ppb * h.trailing_var) * d.zt;
+        }
+        A[i] = (L - T) / (L + T);
+      }
     }
   }
   // 3. Statistics (fixed order: independent of threads).

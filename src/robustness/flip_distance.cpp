@@ -121,10 +121,17 @@ FlipSummary flip_distance(const split::SplitProblem& pr, const FlipOptions& opt)
   }
   out.per_angle.resize(angles.size());
   const long long na = static_cast<long long>(angles.size());
-#pragma omp parallel for schedule(dynamic, 1)
-  for (long long k = 0; k < na; ++k) {
-    const ProjectionEngine e(pr.pixels, angles[k] * degrees, {0.0, false});
-    out.per_angle[k] = flip_at_angle(e, opt.centre, out.nominal_sign);
+  // One engine per thread, rebuilt in place for every angle (no allocation
+  // after a thread's first angle; the same sums as a fresh engine).
+#pragma omp parallel
+  {
+    ProjectionEngine e;
+    split::EngineScratch scratch;
+#pragma omp for schedule(dynamic, 1)
+    for (long long k = 0; k < na; ++k) {
+      e.rebuild(pr.pixels, angles[k] * degrees, {0.0, false}, &scratch);
+      out.per_angle[k] = flip_at_angle(e, opt.centre, out.nominal_sign);
+    }
   }
   out.worst = out.nominal;
   for (const auto& f : out.per_angle)

@@ -50,57 +50,65 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
   S.per_angle.resize(S.n_angle);
   const long long na = S.n_angle;
   std::vector<std::size_t> positive(S.n_angle, 0);
-#pragma omp parallel for schedule(dynamic, 1)
-  for (long long ia = 0; ia < na; ++ia) {
-    // The s-range of this angle's grid: the window of the engine.
-    const SkyOffset n = split::leading_normal(S.angles[ia] * degrees);
-    double smin = 1e300, smax = -1e300;
-    for (double ce : {S.east.front(), S.east.back()})
-      for (double cn : {S.north.front(), S.north.back()}) {
-        const double sc = n.east * ce + n.north * cn;
-        smin = std::min(smin, sc);
-        smax = std::max(smax, sc);
+  // One engine for the grid's window and one for the widened search per
+  // thread, rebuilt in place for every angle (with the thread's scratch), so
+  // that buffers are allocated once per thread instead of once per angle.
+#pragma omp parallel
+  {
+    ProjectionEngine e, e2;
+    split::EngineScratch scratch;
+#pragma omp for schedule(dynamic, 1)
+    for (long long ia = 0; ia < na; ++ia) {
+      // The s-range of this angle's grid: the window of the engine.
+      const SkyOffset n = split::leading_normal(S.angles[ia] * degrees);
+      double smin = 1e300, smax = -1e300;
+      for (double ce : {S.east.front(), S.east.back()})
+        for (double cn : {S.north.front(), S.north.back()}) {
+          const double sc = n.east * ce + n.north * cn;
+          smin = std::min(smin, sc);
+          smax = std::max(smax, sc);
+        }
+      split::EngineOptions eo;
+      eo.with_variance = false;
+      eo.window_lo = smin;
+      eo.window_hi = smax;
+      e.rebuild(pr.pixels, S.angles[ia] * degrees, eo, &scratch);
+      const double Stot = e.total(0);
+      double* out = &S.asymmetry[plane * ia];
+      std::size_t pos = 0;
+      for (int in = 0; in < S.n_north; ++in)
+        for (int ie = 0; ie < S.n_east; ++ie) {
+          const double s = n.east * S.east[ie] + n.north * S.north[in];
+          const double a = (Stot - 2.0 * e.trailing(s, 0)) / Stot;
+          out[ie + static_cast<std::size_t>(S.n_east) * in] = a;
+          pos += a > 0.0 ? 1 : 0;
+        }
+      positive[ia] = pos;
+      ScanAngleSummary& as = S.per_angle[ia];
+      as.tail_pa_deg = wrap_pa_deg(S.angles[ia]);
+      as.fraction_positive = double(pos) / double(plane);
+      as.line_pa_deg = std::fmod(wrap_pa_deg(S.angles[ia] + 90.0), 180.0);
+      const double s0 = e.s_of(o.centre);
+      std::optional<double> z = nearest_zero(e, s0);
+      as.zero_exact = true;
+      // Outside the grid: widen the window about s0 (doubling) until a zero
+      // is found or the window covers the whole map; exact every time.
+      for (double X = 2.0 * std::max(smax - s0, s0 - smin) + 4.0 * e.shape().w1;
+           !z && (s0 - X / 2 > e.s_min() || s0 + X / 2 < e.s_max()); X *= 2.0) {
+        split::EngineOptions wide;
+        wide.with_variance = false;
+        wide.window_lo = s0 - X;
+        wide.window_hi = s0 + X;
+        e2.rebuild(pr.pixels, S.angles[ia] * degrees, wide, &scratch);
+        z = nearest_zero(e2, s0);
       }
-    split::EngineOptions eo;
-    eo.with_variance = false;
-    eo.window_lo = smin;
-    eo.window_hi = smax;
-    const ProjectionEngine e(pr.pixels, S.angles[ia] * degrees, eo);
-    const double Stot = e.total(0);
-    double* out = &S.asymmetry[plane * ia];
-    std::size_t pos = 0;
-    for (int in = 0; in < S.n_north; ++in)
-      for (int ie = 0; ie < S.n_east; ++ie) {
-        const double s = n.east * S.east[ie] + n.north * S.north[in];
-        const double a = (Stot - 2.0 * e.trailing(s, 0)) / Stot;
-        out[ie + static_cast<std::size_t>(S.n_east) * in] = a;
-        pos += a > 0.0 ? 1 : 0;
+      if (z) {
+        as.zero_found = true;
+        as.s_zero = *z;
+        as.line_distance_arcsec = std::abs(*z - s0);
+        as.line_direction_pa_deg = wrap_pa_deg(S.angles[ia] + (*z >= s0 ? 180.0 : 0.0));
+        as.line_inside_grid = *z >= smin && *z <= smax;
       }
-    positive[ia] = pos;
-    ScanAngleSummary& as = S.per_angle[ia];
-    as.tail_pa_deg = wrap_pa_deg(S.angles[ia]);
-    as.fraction_positive = double(pos) / double(plane);
-    as.line_pa_deg = std::fmod(wrap_pa_deg(S.angles[ia] + 90.0), 180.0);
-    const double s0 = e.s_of(o.centre);
-    std::optional<double> z = nearest_zero(e, s0);
-    as.zero_exact = true;
-    // Outside the grid: widen the window about s0 (doubling) until a zero
-    // is found or the window covers the whole map; exact every time.
-    for (double X = 2.0 * std::max(smax - s0, s0 - smin) + 4.0 * e.shape().w1;
-         !z && (s0 - X / 2 > e.s_min() || s0 + X / 2 < e.s_max()); X *= 2.0) {
-      split::EngineOptions wide;
-      wide.with_variance = false;
-      wide.window_lo = s0 - X;
-      wide.window_hi = s0 + X;
-      const ProjectionEngine e2(pr.pixels, S.angles[ia] * degrees, wide);
-      z = nearest_zero(e2, s0);
-    }
-    if (z) {
-      as.zero_found = true;
-      as.s_zero = *z;
-      as.line_distance_arcsec = std::abs(*z - s0);
-      as.line_direction_pa_deg = wrap_pa_deg(S.angles[ia] + (*z >= s0 ? 180.0 : 0.0));
-      as.line_inside_grid = *z >= smin && *z <= smax;
     }
   }
   std::size_t pos = 0;

@@ -91,8 +91,10 @@ PlausibleCheck check_plausible_centres(const split::SplitProblem& pr, const Verd
   const auto angles = angle_grid(in.tail_pa_deg, pc.angle_range_deg, o.angle_step_deg);
   pc.worst_flip_margin_arcsec = std::numeric_limits<double>::infinity();
   pc.worst_flip_arcsec = std::numeric_limits<double>::infinity();
+  ProjectionEngine e;  // rebuilt in place for every angle (its storage reused)
+  split::EngineScratch scratch;
   for (double a : angles) {
-    const ProjectionEngine e(pr.pixels, a * degrees, {0.0, false});
+    e.rebuild(pr.pixels, a * degrees, {0.0, false}, &scratch);
     const SkyOffset n = e.normal();
     const double reach = k * std::sqrt(std::max(0.0, n.east * (C(0, 0) * n.east + C(0, 1) * n.north) +
                                                          n.north * (C(1, 0) * n.east + C(1, 1) * n.north)));

@@ -27,8 +27,19 @@ struct CompensatedSum {
 };
 }  // namespace
 
-ProjectionEngine::ProjectionEngine(const PixelSet& px, Angle tail_pa, const EngineOptions& opt)
-    : px_(&px), tail_pa_(tail_pa), n_(leading_normal(tail_pa)), shape_(px.jacobian, n_) {
+ProjectionEngine::ProjectionEngine(const PixelSet& px, Angle tail_pa, const EngineOptions& opt) {
+  rebuild(px, tail_pa, opt);
+}
+
+void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOptions& opt,
+                               EngineScratch* scratch) {
+  EngineScratch local;
+  EngineScratch& w = scratch ? *scratch : local;
+  px_ = &px;
+  tail_pa_ = tail_pa;
+  n_ = leading_normal(tail_pa);
+  shape_ = PixelTrapezoid(px.jacobian, n_);
+  total_[0] = total_[1] = 0.0;
   const std::size_t n = px.size();
   FULCRUM_CHECK(px.east.size() == n && px.north.size() == n, n, px.east.size());
   const bool var = opt.with_variance && px.variance.size() == n && n > 0;
@@ -50,8 +61,10 @@ ProjectionEngine::ProjectionEngine(const PixelSet& px, Angle tail_pa, const Engi
   // stored range add their precomputed sums.
   double below[2] = {0.0, 0.0}, above[2] = {0.0, 0.0};
   double pmin = std::numeric_limits<double>::infinity(), pmax = -pmin;
-  std::vector<double> tp;
-  std::vector<unsigned> ti;
+  std::vector<double>& tp = w.projected;
+  std::vector<unsigned>& ti = w.index;
+  tp.clear();
+  ti.clear();
   if (full) {
     tp.reserve(n);
     ti.reserve(n);
@@ -114,7 +127,8 @@ ProjectionEngine::ProjectionEngine(const PixelSet& px, Angle tail_pa, const Engi
   nbins_ = m ? static_cast<long long>(std::floor(range / delta_)) + 1 : 0;
 
   // Pass B: counting sort of the kept pixels into bins, moments per bin.
-  std::vector<unsigned> bin(m);
+  std::vector<unsigned>& bin = w.bin;
+  bin.resize(m);
   start_.assign(static_cast<std::size_t>(nbins_) + 1, 0);
   for (std::size_t j = 0; j < m; ++j) {
     long long k = static_cast<long long>((tp[j] - smin_) / delta_);
@@ -123,7 +137,8 @@ ProjectionEngine::ProjectionEngine(const PixelSet& px, Angle tail_pa, const Engi
     ++start_[static_cast<std::size_t>(k) + 1];
   }
   for (long long k = 0; k < nbins_; ++k) start_[k + 1] += start_[k];
-  std::vector<std::size_t> fill(start_.begin(), start_.end() - 1);
+  std::vector<std::size_t>& fill = w.fill;
+  fill.assign(start_.begin(), start_.end() - 1);
   proj_.resize(m);
   val_.resize(m * nc);
   mom_.assign(static_cast<std::size_t>(nbins_) * nc * 3, 0.0);
@@ -148,9 +163,14 @@ ProjectionEngine::ProjectionEngine(const PixelSet& px, Angle tail_pa, const Engi
       mm[5] += v * e * e;
     }
   }
-  // The prefix of M0 over all bins (for the G = 1 part) first, then the
-  // moments turn into running sums within each block (Q[k] = sum of bins
-  // from the block's first to k, about the block centre).
+  running_sums(below, above);
+}
+
+// The prefix of M0 over all bins (for the G = 1 part) first, then the
+// moments turn into running sums within each block (Q[k] = sum of bins
+// from the block's first to k, about the block centre).
+void ProjectionEngine::running_sums(const double below[2], const double above[2]) {
+  const int nc = channels_;
   prefix_.assign((static_cast<std::size_t>(nbins_) + 1) * nc, 0.0);
   for (int c = 0; c < nc; ++c) {
     CompensatedSum acc;
@@ -182,7 +202,7 @@ double ProjectionEngine::fallback(double s, int ch) const { return direct_traili
 //   sum f u          = d M0 - M1,
 //   sum f (u + w1)^2 = (d + w1)^2 M0 - 2 (d + w1) M1 + M2.
 double ProjectionEngine::trailing(double s, int ch) const {
-  if (ch >= channels_) return 0.0;
+  if (ch >= channels_ || px_ == nullptr) return 0.0;
   if (!in_window(s)) return fallback(s, ch);
   const int nc = channels_;
   if (nbins_ == 0) return prefix_[ch];

@@ -77,9 +77,30 @@ struct HalfSums {
   double asymmetry() const { return (leading - trailing) / (leading + trailing); }
 };
 
+// Working memory of an engine build that the engine does not keep (the kept
+// pixels' projections and indices before the counting sort, their bins, the
+// fill pointers). A caller that builds many engines in turn (the scan: one
+// per angle) keeps one per thread and passes it to rebuild(), so that after
+// the first build nothing is allocated, zeroed by the allocator or returned
+// to the operating system.
+struct EngineScratch {
+  std::vector<double> projected;
+  std::vector<unsigned> index;
+  std::vector<unsigned> bin;
+  std::vector<std::size_t> fill;
+};
+
 class ProjectionEngine {
  public:
+  // An engine of no pixels (every sum 0); rebuild() before use.
+  ProjectionEngine() = default;
   ProjectionEngine(const PixelSet& pixels, Angle tail_pa, const EngineOptions& options = {});
+  // Rebuild this engine in place for another angle, window or pixel set: the
+  // same engine, bit for bit, as constructing a new one, but reusing this
+  // engine's storage and `scratch` (a temporary one when null). `pixels` must
+  // outlive the engine's queries, as for the constructor.
+  void rebuild(const PixelSet& pixels, Angle tail_pa, const EngineOptions& options = {},
+               EngineScratch* scratch = nullptr);
 
   Angle tail_pa() const { return tail_pa_; }
   SkyOffset normal() const { return n_; }
@@ -105,6 +126,7 @@ class ProjectionEngine {
 
  private:
   double fallback(double s, int ch) const;
+  void running_sums(const double below[2], const double above[2]);
   static constexpr long long kBlock = 32;  // bins per block of running sums
   double block_centre(long long b) const { return smin_ + (double(b * kBlock) + 0.5 * kBlock) * delta_; }
   const PixelSet* px_ = nullptr;
