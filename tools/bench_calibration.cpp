@@ -5,8 +5,8 @@
 // threads), the CPU time of the per-galaxy set-up alone (a calibration of 1
 // mock per set without re-fits, subtracted from the total), the CPU seconds
 // per mock, and the calibration numbers; "no-setup" skips the set-up
-// measurement (for whole-process comparisons with farm-bench). Compare builds with farm-bench
-// (docs/performance.md). Not a test.
+// measurement (for whole-process comparisons). Compare builds by running both
+// alternately (docs/performance.md). Not a test.
 #include <chrono>
 #include <ctime>
 #include <cmath>
