@@ -237,6 +237,10 @@ def make_bad_inputs(d):
     write(p("mom0_all_zero.fits"), np.zeros((NY, NX)), h, "Jy/beam.km/s")
     write(p("mom0_negative_total.fits"), mom0 - 1.0, h, "Jy/beam.km/s")
     write(p("mom0_single_pixel.fits"), np.where(one > 0, 1.0, np.nan), h, "Jy/beam.km/s")
+    # Positive and negative pixels that cancel: a total of ~0 (A undefined).
+    write(p("mom0_total_near_zero.fits"), mom0 - np.nanmean(mom0), h, "Jy/beam.km/s")
+    # m/s values labelled km/s: |v| = 7e6 "km/s", faster than light.
+    write(p("vel_m_per_s_labelled_kms.fits"), vel * 1000.0, h, "km/s")
     hfar = celestial_header(ra=210.0, dec=-30.0)
     write(p("mom0_elsewhere.fits"), mom0, hfar, "Jy/beam.km/s")
     write(p("mom0_err_other_grid.fits"), np.full((NY // 2, NX // 2), 0.01),
@@ -281,6 +285,8 @@ def make_bad_inputs(d):
     manifest("manifest_seed_negative.toml", {}, header=head.replace("seed = 7", "seed = -1"))
     manifest("manifest_rms_zero.toml", {"extra": "rms = 0.0"})
     manifest("manifest_no_name.toml", {"name": ""})
+    manifest("manifest_long_name.toml", {"name": "Mock-" + "x" * 295})
+    manifest("manifest_huge_name.toml", {"name": "Mock-" + "y" * 100000})
     manifest("manifest_no_galaxies.toml")
     # A galaxy given as a line cube: the run makes its maps (issue 7).
     cube_galaxy = '[[galaxy]]\nname = "Mock-C"\ncube = "{cube}"\ntail_pa_deg = 300.0\n{extra}\n'

@@ -1,5 +1,7 @@
 // Matched-mock calibration of the split/robustness analysis (see
 // include/fulcrum/calibration/calibration.hpp for the model and conventions).
+#include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/calibration/calibration.hpp"
 
 #include <algorithm>
@@ -401,7 +403,8 @@ void check_inputs(const MatchedInputs& in, const CalibrationOptions& opt) {
     throw InputError(who, "calibration needs the map noise (an error map or an rms)");
   if (in.ring_radius_arcsec.empty() || in.ring_radius_arcsec.size() != in.ring_vrot_kms.size())
     throw InputError(who, "calibration needs the rotation curve (ring radii and velocities)");
-  if (opt.n_mocks == 0) throw InputError(who, "the number of mocks must be positive");
+  check_mock_work("mocks", static_cast<std::int64_t>(std::min<std::size_t>(opt.n_mocks, INT64_MAX)),
+                  static_cast<std::int64_t>(std::min<std::size_t>(opt.n_draws, INT64_MAX)));
   if (in.intensity_error && (in.intensity_error->nx != real.nx || in.intensity_error->ny != real.ny))
     throw InputError(in.intensity_error->path, "is not on the grid of the intensity map");
   if (!(in.clip_snr >= 0.0)) throw InputError(who, "the clipping threshold (clip_snr) must not be negative");
@@ -472,6 +475,21 @@ void summarise(CalibrationSummary& s) {
   s.centre_coverage_expected = 1.0 - std::exp(-2.0);
 }
 
+// No valid mock in a set: no rate can be stated ("0.0% of 0" read as a
+// result). Refused, with the first failure's reason.
+void refuse_if_every_mock_failed(const CalibrationSummary& s) {
+  if (s.symmetric_failures < s.symmetric.size() && s.lopsided_failures < s.lopsided.size()) return;
+  std::string first;
+  for (const auto* set : {&s.symmetric, &s.lopsided})
+    for (const auto& o : *set)
+      if (first.empty() && o.verdict.rfind("error: ", 0) == 0) first = o.verdict.substr(7);
+  if (first.empty()) first = "the centre re-fit failed";
+  throw InputError(s.galaxy, "calibration failed: " + std::to_string(s.symmetric_failures) + " of " +
+                                 std::to_string(s.symmetric.size()) + " symmetric and " +
+                                 std::to_string(s.lopsided_failures) + " of " + std::to_string(s.lopsided.size()) +
+                                 " lopsided mocks failed (first: " + first + "); no rate can be stated");
+}
+
 std::string calibration_statement(const CalibrationSummary& s, const CalibrationOptions& opt) {
   char buf[512];
   std::snprintf(buf, sizeof buf,
@@ -496,6 +514,14 @@ std::string calibration_statement(const CalibrationSummary& s, const Calibration
 }
 
 }  // namespace
+
+void check_mock_work(std::string_view mocks_setting, std::int64_t n_mocks, std::int64_t n_draws) {
+  check_integer_in_range(mocks_setting, n_mocks, 1, 100000, "mocks per set");
+  check_integer_in_range("mock_draws", n_draws, 100, 10000000);
+  const double total = 2.0 * static_cast<double>(n_mocks) * static_cast<double>(n_draws);
+  check_work_limit("mock_draws", std::to_string(n_draws), "the mocks' bootstraps", total, kMaxMockDraws, "draws",
+                   "2 sets x " + std::to_string(n_mocks) + " mocks x " + std::to_string(n_draws) + " draws");
+}
 
 CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& opt) {
   const auto t0 = std::chrono::steady_clock::now();
@@ -543,6 +569,7 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
   }
   progress.finish();
   summarise(s);
+  refuse_if_every_mock_failed(s);
   s.statement = calibration_statement(s, opt);
   s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
   return s;

@@ -41,8 +41,9 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
   auto& in = a.galaxy.in;
   const std::uint64_t seed = pipeline::setting::seed(a.seed);
   const int draws = pipeline::setting::draws(a.draws);
-  const auto mocks = static_cast<std::size_t>(check_integer_in_range("mocks", a.mocks, 1, 100000, "mocks per set"));
-  const auto mock_draws = static_cast<std::size_t>(check_integer_in_range("mock_draws", a.mock_draws, 100, 100000000));
+  calibration::check_mock_work("mocks", a.mocks, a.mock_draws);  // before the analysis
+  const auto mocks = static_cast<std::size_t>(a.mocks);
+  const auto mock_draws = static_cast<std::size_t>(a.mock_draws);
   const auto refit_every = static_cast<std::size_t>(check_integer_in_range("refit_every", a.refit_every, 1, 100000));
   const fs::path out_file = fs::path(a.out) / "calibration.json";
   if (fs::exists(out_file) && !cli::global_flags().force)

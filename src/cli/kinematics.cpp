@@ -23,6 +23,7 @@
 #include <memory>
 #include <optional>
 
+#include "fulcrum/io/distinct_paths.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/number_text.hpp"
 #include "fulcrum/core/settings_check.hpp"
@@ -89,6 +90,8 @@ void run(const KinematicsArgs& a) {
   if (a.smearing_refits < 1) throw InputError("", "--smearing-refits must be at least 1");
   opt.smearing_max_refits = a.smearing_refits;
 
+  check_distinct_paths({{"velocity", a.velocity}, {"velocity_error", a.velocity_error}, {"intensity", a.intensity}},
+                       {{"json", a.json}, {"out", a.out}});
   check_new(a.json);
   const Image vel = read_image(a.velocity);
   std::optional<Image> err;

@@ -13,6 +13,7 @@
 #include <memory>
 #include <sstream>
 
+#include "fulcrum/io/distinct_paths.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/core/version.hpp"
@@ -60,6 +61,7 @@ std::vector<double> parse_list(const std::string& text, std::size_t count, const
 void run_photometry(const PhotometryArgs& a, CLI::App* cmd) {
   using namespace fulcrum;
   using namespace fulcrum::photometry;
+  check_distinct_paths({{"image", a.image}, {"mask", a.mask}}, {{"json", a.json}});
   if (std::filesystem::exists(a.json) && !cli::global_flags().force)
     throw InputError(a.json, "the output file exists (use --force to overwrite it)");
   const int bootstrap = static_cast<int>(check_integer_in_range("bootstrap", a.bootstrap, 3, 1000000, "draws"));

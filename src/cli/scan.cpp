@@ -5,6 +5,7 @@
 #include <memory>
 
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/distinct_paths.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/robustness/scan.hpp"
 #include "fulcrum/pipeline/input_settings.hpp"
@@ -20,20 +21,22 @@ struct ScanArgs {
 
 void run_scan(const ScanArgs& a) {
   using namespace fulcrum;
+  check_distinct_paths({{"intensity", a.intensity}}, {{"out", a.out}, {"json", a.json}});
   cli::check_output(a.out);
   cli::check_output(a.json);
   split::SplitOptions so;
   so.centre = cli::parse_centre(a.centre);
   so.tail_pa_deg = pipeline::setting::tail_pa_deg(a.tail_pa);
   so.aperture = a.aperture.spec();
-  const Image map = read_image(a.intensity);
-  const split::SplitProblem pr = split::prepare_split(map, so);
   robustness::ScanOptions o;
   o.tail_pa_deg = so.tail_pa_deg;
   o.half_width_arcsec = a.half_width;
   o.step_arcsec = a.step;
   o.angle_half_width_deg = a.angle_half_width;
   o.angle_step_deg = a.angle_step;
+  robustness::check_scan_size(o);  // before the map is read
+  const Image map = read_image(a.intensity);
+  const split::SplitProblem pr = split::prepare_split(map, so);
   const robustness::ScanSummary s = robustness::scan(pr, o);
   robustness::write_scan_cube(a.out, s, a.intensity);
   char line[256];

@@ -4,6 +4,7 @@
 #include <iostream>
 #include <memory>
 
+#include "fulcrum/io/distinct_paths.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/io/fits_image.hpp"
@@ -22,6 +23,7 @@ struct SplitArgs {
 
 void run_split(const SplitArgs& a, CLI::App* cmd) {
   using namespace fulcrum;
+  check_distinct_paths({{"intensity", a.intensity}, {"intensity_error", a.intensity_error}}, {{"json", a.json}});
   cli::check_output(a.json);
   split::SplitOptions so;
   so.centre = cli::parse_centre(a.centre);
@@ -36,10 +38,6 @@ void run_split(const SplitArgs& a, CLI::App* cmd) {
     so.error_map = &*err;
   }
   const split::SplitSummary s = split::split_halves(map, so);
-  if (!(s.total_flux > 0.0))
-    throw InputError(a.intensity, "the total flux in the analysis region is not positive (" +
-                                      std::to_string(s.total_flux) + " " + s.flux_unit +
-                                      "): no leading/trailing asymmetry can be measured");
   char line[512];
   std::snprintf(line, sizeof line,
                 "leading  (PA %5.1f): %.6g +- %.3g %s\ntrailing (PA %5.1f): %.6g +- %.3g %s\n"

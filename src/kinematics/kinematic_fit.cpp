@@ -3,6 +3,8 @@
 // centre, refusals, JSON and model maps.
 // Units: arcsec (east, north offsets), degrees, km/s; FITS pixels 1-based in
 // the JSON, 0-based inside.
+#include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/kinematics/kinematic_fit.hpp"
 
 #include <Eigen/Dense>
@@ -379,6 +381,11 @@ std::string pre_fit_refusal(const FirstGuess& g, const KinematicOptions& opt, do
   return "";
 }
 
+// The most rings a fit may have: a map 10000 rings across is far beyond any
+// velocity field; `max_radius` / ring width above it is refused before any
+// ring is made (a radius of 1e9 arcsec once took 3.8 GB).
+constexpr double kMaxRings = 10000;
+
 double ring_width_for(const VelocitySamples& s, const KinematicOptions& opt, KinematicFit& fit) {
   double width = 0;
   if (opt.ring_width_arcsec) {
@@ -697,6 +704,11 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
     return fit;
   }
   const double width = ring_width_for(s, opt, fit);
+  if (opt.max_radius_arcsec)  // before any ring is made (core/work_limit.hpp)
+    check_work_limit("max_radius", setting_value_text(*opt.max_radius_arcsec), "the tilted-ring model",
+                     *opt.max_radius_arcsec / width, kMaxRings, "rings",
+                     "outer radius " + setting_value_text(*opt.max_radius_arcsec) + " arcsec / ring width " +
+                         significant_text(width, 4) + " arcsec");
   if (!(g.max_radius_arcsec >= 2 * width)) {
     refuse(fit, "the footprint is too small for two rings (outer radius " +
                     fixed_text(g.max_radius_arcsec, 2) + " arcsec, ring width " + fixed_text(width, 2) +

@@ -1,5 +1,6 @@
 // Building the sky samples of a velocity map (velocity_samples.hpp).
 // Units: arcsec offsets (east, north), km/s.
+#include "fulcrum/core/number_text.hpp"
 #include "fulcrum/kinematics/velocity_samples.hpp"
 
 #include <Eigen/Dense>  // determinant() used inline by pixel_offsets.hpp
@@ -18,6 +19,25 @@ std::string lower_compact(const std::string& s) {
   for (char c : s)
     if (!std::isspace(static_cast<unsigned char>(c))) o += static_cast<char>(std::tolower(c));
   return o;
+}
+}  // namespace
+
+namespace {
+// The speed of light in km/s (exact, SI definition of the metre): no
+// line-of-sight velocity of a galaxy map can reach it.
+constexpr double kSpeedOfLightKms = 299792.458;
+
+// A velocity map whose values exceed c in its unit is mislabelled (m/s
+// written as km/s): refused, naming the file.
+void check_below_light(const Image& velocity, double factor) {
+  double peak = 0.0;
+  for (double v : velocity.data)
+    if (std::isfinite(v)) peak = std::max(peak, std::abs(v));
+  if (peak * factor >= kSpeedOfLightKms)
+    throw InputError(velocity.path, "BUNIT is '" + velocity.unit + "' but |velocity| reaches " +
+                                        significant_text(peak * factor, 3) +
+                                        " km/s, faster than light (299792 km/s): are the values in m/s? "
+                                        "Correct BUNIT");
 }
 }  // namespace
 
@@ -57,6 +77,8 @@ VelocitySamples samples_from_image(const Image& velocity, const Image* error,
                                       std::to_string(velocity.nx) + "x" +
                                       std::to_string(velocity.ny));
   const double vf = velocity_unit_factor(velocity, nullptr);
+  // The velocities only: an error map may hold huge placeholder values.
+  check_below_light(velocity, vf);
   const double ef = error ? velocity_unit_factor(*error, nullptr) : 1.0;
   PixelOffsets offsets(velocity, reference);
   VelocitySamples s;

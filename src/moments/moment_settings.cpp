@@ -38,6 +38,13 @@ std::string option_name(const std::string& name) {
   return s;
 }
 
+namespace {
+// Mask growth allowed (moment_settings_problem): generous, a mask is grown
+// by a beam or a few channels.
+constexpr int kMaxGrowPixels = 1000;
+constexpr int kMaxGrowChannels = 10000;
+}  // namespace
+
 std::string moment_settings_problem(const MomentSettings& s,
                                     const std::function<std::string(const std::string&)>& name_of) {
   const auto& o = s.options;
@@ -61,8 +68,15 @@ std::string moment_settings_problem(const MomentSettings& s,
     return bad("threshold", shortest_text(o.threshold_sigma), "a finite number > 0 sigma");
   if (!(o.dame_threshold_sigma > 0.0) || !std::isfinite(o.dame_threshold_sigma))
     return bad("moment_mask_threshold", shortest_text(o.dame_threshold_sigma), "a finite number > 0 sigma");
-  if (o.grow_channels < 0) return bad("grow_channels", std::to_string(o.grow_channels), "0 or more channels");
-  if (o.grow_pixels < 0) return bad("grow_pixels", std::to_string(o.grow_pixels), "0 or more pixels");
+  // Upper bounds: the growth's work is the footprint's area times the masked
+  // voxels; a growth wider than any map is a typing error, refused before
+  // the cube is read (a million pixels once took 4.2 GB).
+  if (o.grow_channels < 0 || o.grow_channels > kMaxGrowChannels)
+    return bad("grow_channels", std::to_string(o.grow_channels),
+               "a whole number of channels within [0, " + std::to_string(kMaxGrowChannels) + "]");
+  if (o.grow_pixels < 0 || o.grow_pixels > kMaxGrowPixels)
+    return bad("grow_pixels", std::to_string(o.grow_pixels),
+               "a whole number of pixels within [0, " + std::to_string(kMaxGrowPixels) + "]");
   if (!(o.smooth_factor > 1.0) || !std::isfinite(o.smooth_factor)) 
     return bad("smooth_factor", shortest_text(o.smooth_factor), "a finite number > 1");
   if (o.smooth_channels < 1 || o.smooth_channels % 2 == 0)

@@ -31,7 +31,7 @@ double distance_mpc(double v) {
 
 std::uint64_t seed(std::int64_t v) { return check_seed("seed", v); }
 
-int draws(std::int64_t v) { return static_cast<int>(check_integer_in_range("draws", v, 100, 100000000)); }
+int draws(std::int64_t v) { return static_cast<int>(check_integer_in_range("draws", v, 100, 10000000)); }
 
 int calibrate(std::int64_t v) {
   return static_cast<int>(check_integer_in_range("calibrate", v, 0, 100000, "mocks per set"));

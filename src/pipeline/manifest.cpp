@@ -22,6 +22,10 @@ namespace fs = std::filesystem;
 
 namespace {
 
+// Limits on what a manifest may hold (read_manifest, read_galaxy).
+constexpr std::size_t kMaxGalaxyNameBytes = 200;
+constexpr std::uintmax_t kMaxManifestBytes = 16u << 20;  // 16 MiB
+
 struct Ctx {
   std::string path;
   std::string folder;
@@ -230,6 +234,12 @@ GalaxyInput read_galaxy(const Ctx& c, const toml::table& t, const MolecularGasIn
     }
   }
   if (g.name.empty()) fail(c, table_line, "[[galaxy]] has no 'name'");
+  // The name becomes a folder name (at most 255 bytes on common file
+  // systems, with room left for suffixes); a longer one is refused, shown cut.
+  if (g.name.size() > kMaxGalaxyNameBytes)
+    fail(c, table_line, "name = '" + g.name.substr(0, 40) + "...' (" + std::to_string(g.name.size()) +
+                            " bytes) is not allowed: must be 1 to " + std::to_string(kMaxGalaxyNameBytes) +
+                            " bytes (it names the galaxy's output folder)");
   for (char ch : g.name)
     if (ch == '/' || ch == '\\' || static_cast<unsigned char>(ch) < 32)
       fail(c, table_line, "galaxy name '" + g.name + "' must not contain '/', '\\' or control characters");
@@ -328,8 +338,14 @@ SampleManifest parse_manifest(const std::string& text, const std::string& path) 
 }
 
 SampleManifest read_manifest(const std::string& path) {
-  std::ifstream in(path);
+  std::ifstream in(path, std::ios::binary);
   if (!in) throw InputError(path, "cannot open the sample manifest");
+  // Checked before reading: a manifest lists galaxies in a few hundred bytes each.
+  std::error_code ec;
+  const auto bytes = fs::file_size(path, ec);
+  if (!ec && bytes > kMaxManifestBytes)
+    throw InputError(path, "is " + std::to_string(bytes) + " bytes; a sample manifest may be at most " +
+                               std::to_string(kMaxManifestBytes) + " bytes");
   std::stringstream ss;
   ss << in.rdbuf();
   return parse_manifest(ss.str(), path);

@@ -13,6 +13,8 @@
 
 #include <omp.h>
 
+#include "fulcrum/core/thread_count.hpp"
+
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/core/number_text.hpp"
@@ -571,6 +573,9 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
     throw InputError(o.out_dir, "already holds a sample run (sample.json); allow overwriting (" + setting_ref("overwrite") + ") or choose another folder");
   auto selected = select_galaxies(manifest, o.selection);
   if (selected.empty()) throw InputError(manifest.path, "the selection (" + setting_ref("only") + ", " + setting_ref("shard") + ") leaves no galaxy to run");
+  // Capped at the cores and the galaxies (core/thread_count.hpp), checked
+  // before any folder is made.
+  const int threads = thread_count("threads", o.threads, selected.size());
   std::map<std::string, int> index;
   for (std::size_t i = 0; i < manifest.galaxies.size(); ++i) index[manifest.galaxies[i].name] = static_cast<int>(i);
   // Written through a staging folder, the shard record last: a run killed
@@ -583,7 +588,6 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
   std::vector<GalaxySummary> galaxies(selected.size());
   Progress progress("galaxies", selected.size());
   const int n = static_cast<int>(selected.size());
-  const int threads = o.threads > 0 ? o.threads : omp_get_max_threads();
 #pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
   for (int i = 0; i < n; ++i) {
     const GalaxyInput& g = selected[i];

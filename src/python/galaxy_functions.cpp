@@ -188,8 +188,10 @@ py::dict calibrate(const GalaxyArguments& a, const Summary* from, const py::obje
   const pipeline::GalaxyInput in = galaxy_input(a, from == nullptr);
   const int n_draws = setting::draws(integer_argument(draws, "draws"));
   calibration::CalibrationOptions co;
-  co.n_mocks = static_cast<std::size_t>(check_integer_in_range("mocks", integer_argument(mocks, "mocks"), 1, 100000, "mocks per set"));
-  co.n_draws = static_cast<std::size_t>(check_integer_in_range("mock_draws", integer_argument(mock_draws, "mock_draws"), 100, 100000000));
+  const std::int64_t n_mocks = integer_argument(mocks, "mocks"), n_mock_draws = integer_argument(mock_draws, "mock_draws");
+  calibration::check_mock_work("mocks", n_mocks, n_mock_draws);  // ranges and their product, before any work
+  co.n_mocks = static_cast<std::size_t>(n_mocks);
+  co.n_draws = static_cast<std::size_t>(n_mock_draws);
   co.refit_every = static_cast<std::size_t>(check_integer_in_range("refit_every", integer_argument(refit_every, "refit_every"), 1, 100000));
   co.refit_centre = refit;
   const std::optional<std::uint64_t> given_seed =
@@ -387,7 +389,7 @@ void bind_galaxy_functions(py::module_& m) {
       py::arg("figures") = true, py::arg("progress") = py::none(),
       (std::string("One galaxy, the whole chain, as `fulcrum analyse`: kinematic and photometric centres,\n"
                    "halves at every centre, flip distance, bootstrap, verdict. Returns a Summary.\n\n"
-                   "seed: of every random draw; draws: bootstrap draws (100 .. 1e8); calibrate: matched\n"
+                   "seed: of every random draw; draws: bootstrap draws (100 .. 1e7); calibrate: matched\n"
                    "mocks per set (0: no calibration); bootstrap_centres: \"adopted\" or \"all-estimates\";\n"
                    "figures: make the figures (Summary.figures) and their data.\n") + kGalaxyDoc)
           .c_str());

@@ -117,9 +117,6 @@ py::dict split_map(const py::object& intensity, const py::object& centre, const 
   const std::optional<Image> err = optional_map(intensity_error, "intensity_error");
   so.error_map = err ? &*err : nullptr;
   const split::SplitSummary s = run_released(py::none(), [&] { return split::split_halves(map, so); });
-  if (!(s.total_flux > 0.0))
-    throw InputError(map.path, "the total flux in the analysis region is not positive (" + std::to_string(s.total_flux) +
-                                   " " + s.flux_unit + "): no leading/trailing asymmetry can be measured");
   py::dict result = to_python(split::to_json(s));
   result["intensity"] = map.path;
   return result;

@@ -9,6 +9,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/robustness/flip_distance.hpp"
 
@@ -23,13 +24,35 @@ std::vector<double> axis(double centre, double half, double step) {
   for (long long k = -m; k <= m; ++k) v.push_back(centre + k * step);
   return v;
 }
+// Points along one axis of half-width `half` and spacing `step`, as a double
+// (never overflows): what axis() would make.
+double axis_length(double half, double step) { return 2.0 * std::floor(half / step + 1e-9) + 1.0; }
+
 }  // namespace
 
-ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
+void check_scan_size(const ScanOptions& o) {
   check_positive("step_arcsec", o.step_arcsec, "arcsec");
   check_non_negative("half_width_arcsec", o.half_width_arcsec, "arcsec");
   check_finite_in_range("angle_half_width_deg", o.angle_half_width_deg, 0.0, 180.0, "degrees");
   if (o.angle_half_width_deg > 0.0) check_positive("angle_step_deg", o.angle_step_deg, "degrees");
+  const double n_side = axis_length(o.half_width_arcsec, o.step_arcsec);
+  const double offsets = n_side * n_side;
+  const double angles = o.angle_half_width_deg > 0.0 ? axis_length(o.angle_half_width_deg, o.angle_step_deg) : 1.0;
+  const double points = offsets * angles;
+  if (points <= kMaxScanPoints) return;
+  // Name the setting that makes the grid big: the angle step when the
+  // angles outnumber the centre offsets, else the centre step.
+  const bool angle_heavy = angles > offsets;
+  const std::string detail = estimate_text(offsets) + " centre offsets x " + estimate_text(angles) + " angles";
+  const std::string what = "the scan grid (" + estimate_text(8.0 * kMaxScanPoints) + " bytes)";
+  if (angle_heavy)
+    check_work_limit("angle_step_deg", setting_value_text(o.angle_step_deg), what, points, kMaxScanPoints, "points",
+                     detail);
+  check_work_limit("step_arcsec", setting_value_text(o.step_arcsec), what, points, kMaxScanPoints, "points", detail);
+}
+
+ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
+  check_scan_size(o);
   const auto t0 = std::chrono::steady_clock::now();
   ScanSummary S;
   S.reference = pr.reference;
@@ -43,8 +66,6 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
   S.n_east = static_cast<int>(S.east.size());
   S.n_north = static_cast<int>(S.north.size());
   S.n_angle = static_cast<int>(S.angles.size());
-  const double total = double(S.n_east) * S.n_north * S.n_angle;
-  if (total > 1e9) throw InputError("", "the scan grid has more than 1e9 points; use a coarser step");
   const std::size_t plane = static_cast<std::size_t>(S.n_east) * S.n_north;
   S.asymmetry.assign(plane * S.n_angle, 0.0);
   S.per_angle.resize(S.n_angle);

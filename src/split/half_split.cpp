@@ -164,13 +164,41 @@ SplitSummary split_at(const SplitProblem& pr, Angle tail, SkyOffset c) {
   return summarise_halves(pr, eng.halves(c), tail, c);
 }
 
+void check_split_defined(const SplitProblem& pr, const SplitSummary& s, const std::string& path) {
+  // Enough area to split: at least 4 pixels and 2 beams (correlation areas).
+  const double need = std::max(kMinSplitPixels, kMinSplitBeams * pr.pixels_per_beam);
+  if (static_cast<double>(s.n_pixels) < need)
+    throw InputError(path, "the analysis region holds " + std::to_string(s.n_pixels) + " pixels (" +
+                               significant_text(static_cast<double>(s.n_pixels) / pr.pixels_per_beam, 3) +
+                               " beams): at least " + significant_text(std::ceil(need), 6) +
+                               " pixels (4 pixels and 2 beams) are needed to split it");
+  if (!(s.total_flux > 0.0))
+    throw InputError(path, "the total flux in the analysis region is not positive (" +
+                               significant_text(s.total_flux, 6) + " " + s.flux_unit +
+                               "): no leading/trailing asymmetry can be measured");
+  // A total that is the small difference of large positive and negative
+  // pixels (or below its own noise) makes A = (L - T)/(L + T) undefined.
+  double sum_abs = 0.0;
+  for (double v : pr.pixels.value) sum_abs += std::abs(v);
+  sum_abs *= std::abs(pr.scale.factor);
+  if (s.total_flux < kMinTotalFraction * sum_abs)
+    throw InputError(path, "the total flux in the analysis region is about zero (" +
+                               significant_text(s.total_flux, 6) + " " + s.flux_unit + ", " +
+                               significant_text(s.total_flux / sum_abs, 3) + " of the summed |flux|, below " +
+                               significant_text(kMinTotalFraction, 3) + "): A = (L-T)/(L+T) is undefined");
+  const double total_err = std::hypot(s.leading_err, s.trailing_err);
+  if (std::isfinite(total_err) && total_err > 0.0 && s.total_flux < kMinTotalSnr * total_err)
+    throw InputError(path, "the total flux in the analysis region is below " + significant_text(kMinTotalSnr, 3) +
+                               " times its noise (" + significant_text(s.total_flux, 6) + " +- " +
+                               significant_text(total_err, 3) + " " + s.flux_unit +
+                               "): A = (L-T)/(L+T) is undefined");
+}
+
 SplitSummary split_halves(const Image& map, const SplitOptions& opt) {
   const SplitProblem pr = prepare_split(map, opt);
   if (!(std::abs(pr.scale.factor) > 0.0)) throw InputError(map.path, "zero flux scale");
   SplitSummary s = split_at(pr, opt.tail_pa_deg * degrees);
-  if (!(s.total_flux > 0.0))
-    warn("the total flux in the analysis region is not positive (" + significant_text(s.total_flux, 6) + " " +
-         s.flux_unit + "); the asymmetry is not meaningful");
+  check_split_defined(pr, s, map.path);
   return s;
 }
 

@@ -4,6 +4,8 @@
 // by bisection on direct sums of exact pixel fractions.
 #include <catch2/catch.hpp>
 
+#include <limits>
+
 #include <nlohmann/json.hpp>
 
 #include "../support/test_support.hpp"
@@ -188,4 +190,26 @@ TEST_CASE("split and scan command lines", "[robustness][cli]") {
                         "--angle-step 5 --out " + (dir / "bad.fits").string());
   CHECK(r.exit_code == 2);
   CHECK(!std::filesystem::exists(dir / "bad.fits"));
+}
+
+TEST_CASE("scan size is checked from the settings before anything is allocated", "[robustness][scan][limits]") {
+  // Grid points = (2 floor(w/s) + 1)^2 centre offsets x (2 floor(aw/as) + 1)
+  // angles; limit kMaxScanPoints (docs/reliability.md, "Limits").
+  robustness::ScanOptions o;
+  o.half_width_arcsec = 5.0;
+  o.step_arcsec = 0.5;
+  o.angle_half_width_deg = 180.0;
+  o.angle_step_deg = 1.0;
+  CHECK_NOTHROW(robustness::check_scan_size(o));  // 441 x 361 points
+  o.angle_step_deg = 1e-6;
+  CHECK_THROWS_WITH(robustness::check_scan_size(o),
+                    Catch::StartsWith("angle_step_deg = 1e-06 is not allowed: must be within the limit of 1e+08 "
+                                      "points") &&
+                        Catch::Contains("441 centre offsets x 3.6e+08 angles"));
+  o.angle_half_width_deg = 0.0;
+  o.half_width_arcsec = 1000.0;
+  o.step_arcsec = 0.01;
+  CHECK_THROWS_WITH(robustness::check_scan_size(o), Catch::StartsWith("step_arcsec = 0.01 is not allowed"));
+  o.half_width_arcsec = std::numeric_limits<double>::infinity();
+  CHECK_THROWS_WITH(robustness::check_scan_size(o), Catch::StartsWith("half_width_arcsec = inf is not allowed"));
 }

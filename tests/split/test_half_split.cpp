@@ -3,6 +3,8 @@
 // flux units, errors, JSON keys and the error paths.
 #include <catch2/catch.hpp>
 
+#include <cmath>
+
 #include <nlohmann/json.hpp>
 
 #include "fulcrum/core/error.hpp"
@@ -118,4 +120,28 @@ TEST_CASE("split input errors are InputErrors", "[split]") {
   small.data.resize(16);
   so.error_map = &small;
   CHECK_THROWS_AS(prepare_split(maps.model, so), InputError);
+}
+
+TEST_CASE("split refuses an undefined A: cancelling total, total below its noise, too few pixels", "[split]") {
+  // A = (L - T)/(L + T) needs a total well away from zero (split/half_split.hpp,
+  // check_split_defined; limits are the project's choices, docs/reliability.md).
+  test::TinyMock m;
+  const auto maps = test::make_tiny_mock(m);
+  SplitOptions so;
+  so.centre = m.centre;
+  so.tail_pa_deg = m.tail_pa_deg;
+  CHECK_NOTHROW(split_halves(maps.model, so));
+  Image cancel = maps.model;
+  double mean = 0.0;
+  for (double v : cancel.data) mean += v;
+  mean /= static_cast<double>(cancel.size());
+  for (double& v : cancel.data) v -= mean;
+  CHECK_THROWS_WITH(split_halves(cancel, so), Catch::Contains("is about zero"));
+  so.rms = 10.0 * m.peak;  // the whole disc far below its noise
+  CHECK_THROWS_WITH(split_halves(maps.model, so), Catch::Contains("below 3 times its noise"));
+  so.rms = 0.0;
+  Image one = maps.model;
+  for (std::size_t i = 0; i < one.size(); ++i)
+    if (i != one.size() / 2 + static_cast<std::size_t>(one.nx) / 2) one.data[i] = std::nan("");
+  CHECK_THROWS_WITH(split_halves(one, so), Catch::Contains("the analysis region holds 1 pixels"));
 }

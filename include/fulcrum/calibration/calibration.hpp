@@ -53,6 +53,7 @@
 #include <nlohmann/json.hpp>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "fulcrum/calibration/calibration_defaults.hpp"
@@ -99,6 +100,15 @@ struct MatchedInputs {
 // How close the noise-free lopsided mock's A must come to the measured A for
 // the amplitude tuning to count as converged (absolute, in A units).
 inline constexpr double kTuningTolerance = 1e-3;
+
+// The most bootstrap draws all mocks together may take (2 sets x mocks x
+// draws per mock): 2500 times the default 2 x 100 x 2000 (core/work_limit.hpp).
+inline constexpr double kMaxMockDraws = 1e9;
+// Refuses, before any work, a mock count outside [1, 100000] (SettingError
+// naming `mocks_setting`: "mocks" on the command line, "calibrate" in a
+// manifest), draws per mock outside [100, 1e7] ("mock_draws"), or a product
+// beyond kMaxMockDraws.
+void check_mock_work(std::string_view mocks_setting, std::int64_t n_mocks, std::int64_t n_draws);
 
 struct CalibrationOptions {
   std::size_t n_mocks = 100;        // per set (symmetric and lopsided)

@@ -41,7 +41,7 @@ namespace fulcrum::pipeline {
 struct RunOptions {
   std::string out_dir;
   Selection selection;
-  int threads = 0;            // 0: OpenMP default
+  int threads = 0;            // 0: one per core; capped at the cores and the galaxies
   bool figures = true;
   bool overwrite = false;     // --force
   std::optional<int> draws;   // overrides the manifest

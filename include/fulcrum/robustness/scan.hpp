@@ -69,7 +69,14 @@ struct ScanSummary {
   }
 };
 
-// Throws InputError on a non-positive step or a grid of more than 1e9 points.
+// The most points a scan grid may hold (centre offsets x angles): 1e8
+// doubles, 0.8 GB (core/work_limit.hpp).
+inline constexpr double kMaxScanPoints = 1e8;
+// Checks the steps and widths and the grid's size from the settings alone,
+// before anything is allocated: SettingError naming the setting, the
+// estimate and the limit.
+void check_scan_size(const ScanOptions& options);
+// Throws SettingError as check_scan_size does.
 ScanSummary scan(const split::SplitProblem& problem, const ScanOptions& options);
 void write_scan_cube(const std::string& path, const ScanSummary& scan,
                      const std::string& map_unit_note = "");

@@ -117,7 +117,18 @@ SplitSummary summarise_halves(const SplitProblem& problem, const HalfSums& sums,
                               SkyOffset centre_offset);
 // One split about centre_offset (default: the reference) through the engine.
 SplitSummary split_at(const SplitProblem& problem, Angle tail_pa, SkyOffset centre_offset = {});
-// Convenience: prepare + split at the options' centre.
+// When A of a split is undefined (check_split_defined): fewer pixels than
+// kMinSplitPixels or kMinSplitBeams correlation areas, a total that is not
+// positive, below kMinTotalFraction of the summed |flux| (cancellation), or
+// below kMinTotalSnr times its own noise (when the noise is known).
+inline constexpr double kMinSplitPixels = 4.0;
+inline constexpr double kMinSplitBeams = 2.0;
+inline constexpr double kMinTotalFraction = 1e-6;
+inline constexpr double kMinTotalSnr = 3.0;
+// Throws InputError naming `path` when A of the summary is undefined (above).
+void check_split_defined(const SplitProblem& problem, const SplitSummary& summary, const std::string& path);
+// Convenience: prepare + split at the options' centre; refuses an undefined
+// A (check_split_defined).
 SplitSummary split_halves(const Image& map, const SplitOptions& options);
 
 // sigma_A from L, T and their variances (formula above).

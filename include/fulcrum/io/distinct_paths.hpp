@@ -1,0 +1,28 @@
+// Output paths that would overwrite an input (or another output).
+//
+// Every command checks, before it reads or writes anything, that no file it
+// will write is one of the files it reads: `scan --out P --json P` would
+// replace the cube with the JSON, `kinematics --velocity X --json X --force`
+// would destroy the input. Paths are compared after resolving `.`, `..` and
+// symbolic links of the parts that exist (std::filesystem::weakly_canonical),
+// so `./x.fits` and a link to it count as x.fits. --force never allows it.
+//
+// Each path comes with the setting that named it; the message names both
+// settings with setting_ref() (the command line shows them as flags):
+//
+//   out.fits: `json` names the same file as `out`; give each output its own file
+//   vel.fits: `json` names the input `velocity`; an output must not overwrite an input
+#pragma once
+
+#include <string>
+#include <utility>
+#include <vector>
+
+namespace fulcrum {
+
+// (setting, path) pairs; empty paths are skipped. Throws InputError naming
+// the path when an output equals an input or another output.
+void check_distinct_paths(const std::vector<std::pair<std::string, std::string>>& inputs,
+                          const std::vector<std::pair<std::string, std::string>>& outputs);
+
+}  // namespace fulcrum

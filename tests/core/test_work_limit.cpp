@@ -1,0 +1,36 @@
+// Work limits checked before a command starts (core/work_limit.hpp): the
+// refusal names the setting, its value, the estimate and the limit; an
+// estimate within the limit passes. Limits are the project's own choices
+// (docs/reliability.md, "Limits").
+#include <catch2/catch.hpp>
+
+#include <cmath>
+#include <limits>
+
+#include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/core/work_limit.hpp"
+
+using namespace fulcrum;
+
+TEST_CASE("work limit: within passes, beyond is refused naming setting, estimate and limit", "[core][limits]") {
+  CHECK_NOTHROW(check_work_limit("step_arcsec", "0.5", "the scan grid", 1e8, 1e8, "points"));
+  try {
+    check_work_limit("angle_step_deg", "1e-06", "the scan grid", 1.6e11, 1e8, "points", "441 offsets x 3.6e+08 angles");
+    FAIL("no refusal");
+  } catch (const SettingError& e) {
+    CHECK(e.setting() == "angle_step_deg");
+    CHECK(std::string(e.what()) ==
+          "angle_step_deg = 1e-06 is not allowed: must be within the limit of 1e+08 points for the scan grid; "
+          "this asks for 441 offsets x 3.6e+08 angles = 1.6e+11 points");
+  }
+  // A non-finite estimate (an infinite width) is refused, never compared as passing.
+  CHECK_THROWS_AS(check_work_limit("x", "inf", "w", std::numeric_limits<double>::infinity(), 1e8, "points"),
+                  SettingError);
+  CHECK_THROWS_AS(check_work_limit("x", "nan", "w", std::nan(""), 1e8, "points"), SettingError);
+}
+
+TEST_CASE("work limit: estimates as text", "[core][limits]") {
+  CHECK(estimate_text(441) == "441");
+  CHECK(estimate_text(1e6) == "1000000");
+  CHECK(estimate_text(1.6e11) == "1.6e+11");
+}
