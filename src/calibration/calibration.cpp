@@ -313,6 +313,15 @@ void draw_velocity_noise(const MockSetup& m, std::uint64_t seed, std::vector<dou
   m.velocity_noise->draw(vnoise, vel_n, m.in.velocity_scatter_kms > 0.0 ? &scatter_n : nullptr);
 }
 
+// The squared Mahalanobis distance of `truth` from a re-fitted centre at
+// `fitted` with covariance C (arcsec^2, east-north); infinite when C is
+// singular.
+double truth_m2(WorldCoord fitted, const Eigen::Matrix2d& C, WorldCoord truth) {
+  const SkyOffset d = OffsetFrame(fitted).to_offset(truth);
+  const Eigen::Vector2d dv(d.east, d.north);
+  return C.determinant() > 0.0 ? dv.dot(C.inverse() * dv) : INFINITY;
+}
+
 // Re-fit the kinematic centre of one mock; on success the adopted centre
 // becomes the fit, otherwise the failure is recorded.
 void refit_centre(const MockSetup& m, const std::vector<double>& vel, int set, MockCentres& mc, MockOutcome& out) {
@@ -320,10 +329,7 @@ void refit_centre(const MockSetup& m, const std::vector<double>& vel, int set, M
   if (fit.status == "ok" && fit.centre) {
     mc.adopted.position = fit.centre->position;
     mc.adopted.covariance = m.opt.centre_covariance_scale2 * fit.centre->covariance;
-    const SkyOffset d = OffsetFrame(fit.centre->position).to_offset(m.in.centre.position);
-    Eigen::Vector2d dv(d.east, d.north);
-    const Eigen::Matrix2d& C = mc.adopted.covariance;
-    out.centre_mahalanobis = C.determinant() > 0 ? std::sqrt(dv.dot(C.inverse() * dv)) : INFINITY;
+    out.centre_mahalanobis = std::sqrt(truth_m2(fit.centre->position, mc.adopted.covariance, m.in.centre.position));
   } else {
     out.centre_fit_ok = false;
     mc.failures.push_back("the kinematic fit " + fit.status + " (" + fit.reason + ")");
@@ -585,16 +591,16 @@ CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& in, const Centr
     b.reason = "no line map with a beam to weight the mock velocities";
     return b;
   }
+  CalibrationOptions opt;
+  opt.seed = o.seed;
+  opt.correct_beam_smearing = o.correct_beam_smearing;
   const Image& real = *in.intensity;
-  const RadialProfile profile =
-      gas_profile(real, in.centre.position, in.pa_deg, in.inc_deg, 0.5 * real.beam->fwhm_arcsec());
+  const RadialProfile profile = gas_profile(real, in.centre.position, in.pa_deg, in.inc_deg,
+                                            opt.profile_bin_beams * real.beam->fwhm_arcsec());
   if (profile.mean.empty()) {
     b.reason = "the intensity map has no positive gas profile";
     return b;
   }
-  CalibrationOptions opt;
-  opt.seed = o.seed;
-  opt.correct_beam_smearing = o.correct_beam_smearing;
   MockSetup m(in, opt, real);
   prepare_grids(m);
   setup_velocity(m, profile, 0.0);
@@ -611,10 +617,8 @@ CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& in, const Centr
     try {
       const auto fit = m.refitter->fit(noisy_velocity(m, 0, vel_n, scatter_n), 0);
       if (fit.status != "ok" || !fit.centre) continue;
-      const SkyOffset d = OffsetFrame(fit.centre->position).to_offset(in.centre.position);
-      const Eigen::Vector2d dv(d.east, d.north);
-      const Eigen::Matrix2d& C = fit.centre->covariance;
-      if (C.determinant() > 0.0) m2[static_cast<std::size_t>(k)] = dv.dot(C.inverse() * dv);
+      const double d2 = truth_m2(fit.centre->position, fit.centre->covariance, in.centre.position);
+      if (std::isfinite(d2)) m2[static_cast<std::size_t>(k)] = d2;
     } catch (const std::exception&) {
     }
   }
