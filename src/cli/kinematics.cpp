@@ -45,7 +45,7 @@ struct KinematicsArgs {
   std::string velocity, velocity_error, intensity, method = "both", json, out;
   fulcrum::kinematics::KinematicSettings settings;  // guesses, priors, holds, radius, switches
   int smearing_refits = 4;
-  std::int64_t centre_refits = 24, seed = 1;
+  std::int64_t centre_refits = static_cast<std::int64_t>(fulcrum::calibration::kDefaultCentreRefits), seed = 1;
   std::optional<double> ring_width;
   double ring_width_beams = 0.5;
   double weight_power = 1.0;
@@ -217,7 +217,8 @@ FULCRUM_SUBCOMMAND(kinematics, 50, [](CLI::App& app) {
                   "Most refits of the beam-smearing correction (4)");
   cmd->add_option("--centre-refits", a->centre_refits,
                   "Mocks of the fitted disc re-fitted to check the centre error; the covariance is "
-                  "widened when they scatter more than it says (needs --intensity; 0: off; 24)");
+                  "widened when they scatter more than it says (needs --intensity; 0: off)")
+      ->capture_default_str();
   cmd->add_option("--seed", a->seed, "Seed of the centre re-fit mocks (default 1, as analyse)");
   cmd->add_option("--method", a->method, "rings, harmonic or both (default both)");
   cmd->add_option("--json", a->json, "Write the result here (JSON)")->required();
