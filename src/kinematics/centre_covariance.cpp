@@ -195,11 +195,12 @@ int row_entries(const NormalSystem& ns, const Row& r, bool radial, std::array<st
   return m;
 }
 
-// A_s = J^T W S J (header): every free column of J on the smearing grid's
-// pixels, smeared like the model, read at the samples. Empty when the grid
-// does not match the samples.
-Eigen::MatrixXd smeared_normal_matrix(const NormalSystem& ns, const VelocitySamples& s,
-                                      const GlobalFitSummary& fit, const GeometryCovarianceOptions& opt) {
+// The smeared Jacobian J_s = S J at the samples (header): every free column
+// of J on the smearing grid's pixels, smeared like the model, read at each
+// used sample; one column per sample (p x n). Empty when the grid does not
+// match the samples.
+Eigen::MatrixXd smeared_jacobian(const NormalSystem& ns, const VelocitySamples& s,
+                                 const GlobalFitSummary& fit, const GeometryCovarianceOptions& opt) {
   const SmearingGrid& g = *opt.smearing;
   if (g.sample_pixel.size() != s.size() || !g.usable()) return {};
   const std::size_t nb = g.east.size();
@@ -210,18 +211,97 @@ Eigen::MatrixXd smeared_normal_matrix(const NormalSystem& ns, const VelocitySamp
     const int m = row_entries(ns, r, opt.radial, nz);
     for (int a = 0; a < m; ++a) col[nz[a].first][b] += nz[a].second;
   }
-  Eigen::MatrixXd A = Eigen::MatrixXd::Zero(ns.p, ns.p);
+  Eigen::MatrixXd Js = Eigen::MatrixXd::Zero(ns.p, static_cast<Eigen::Index>(s.size()));
   for (int c = 0; c < ns.p; ++c) {
     const std::vector<double> sm = smear_moment1(col[c], g.intensity, g.nx, g.ny, g.pixel_cov, g.wanted);
     for (std::size_t i = 0; i < s.size(); ++i) {
       if (!fit.used[i] || !(ns.w[i] > 0.0)) continue;
       const std::size_t b = g.sample_pixel[i];
-      const double js = std::isfinite(sm[b]) ? sm[b] : col[c][b];  // no emission in reach: unsmeared
-      const int m = row_entries(ns, ns.rows[i], opt.radial, nz);
-      for (int a = 0; a < m; ++a) A(nz[a].first, c) += ns.w[i] * nz[a].second * js;
+      Js(c, static_cast<Eigen::Index>(i)) = std::isfinite(sm[b]) ? sm[b] : col[c][b];  // no emission in reach: unsmeared
     }
   }
+  return Js;
+}
+
+// Sample i's Jacobian row as a dense p-vector.
+Eigen::VectorXd dense_row(const NormalSystem& ns, std::size_t i, bool radial) {
+  Eigen::VectorXd j = Eigen::VectorXd::Zero(ns.p);
+  std::array<std::pair<int, double>, 9> nz;
+  const int m = row_entries(ns, ns.rows[i], radial, nz);
+  for (int a = 0; a < m; ++a) j(nz[a].first) += nz[a].second;
+  return j;
+}
+
+// A_s = J^T W J_s from the smeared Jacobian's columns.
+Eigen::MatrixXd smeared_normal_matrix(const NormalSystem& ns, const Eigen::MatrixXd& Js,
+                                      const std::vector<unsigned char>& used, bool radial) {
+  Eigen::MatrixXd A = Eigen::MatrixXd::Zero(ns.p, ns.p);
+  for (std::size_t i = 0; i < used.size(); ++i) {
+    if (!used[i] || !(ns.w[i] > 0.0)) continue;
+    A.noalias() += ns.w[i] * dense_row(ns, i, radial) * Js.col(static_cast<Eigen::Index>(i)).transpose();
+  }
   return A;
+}
+
+// Sum over ordered pairs of used samples of rho_ij a_i . b_j (i = j
+// included), a and b holding one column per sample, neighbours out to
+// reach_sigma correlation sigmas on the pixel grid.
+double correlated_pair_sum(const SampleGrid& g, const Eigen::MatrixXd& a, const Eigen::MatrixXd& b,
+                           const NoiseCorrelation& corr, double reach_sigma) {
+  double out = 0.0;
+  for (int i : g.index)
+    if (i >= 0) out += a.col(i).dot(b.col(i));
+  if (!g.jacobian_ok) return out;
+  const double step = std::sqrt(std::abs(g.jacobian.determinant()));
+  const int L = static_cast<int>(std::ceil(reach_sigma * corr.sigma_major_arcsec / step));
+  const double cut = std::exp(-0.5 * reach_sigma * reach_sigma);
+  for (int dy = 0; dy <= L; ++dy)
+    for (int dx = -L; dx <= L; ++dx) {
+      if (dy == 0 && dx <= 0) continue;  // each unordered pair once, both orders summed
+      const Eigen::Vector2d d = g.lag(dx, dy);
+      const double rho = corr.at(d(0), d(1));
+      if (rho < cut) continue;
+      double acc = 0.0;
+      for (int y = g.y0; y < g.y0 + g.ny; ++y)
+        for (int x = g.x0; x < g.x0 + g.nx; ++x) {
+          const int i = g.at(x, y);
+          if (i < 0) continue;
+          const int j = g.at(x + dx, y + dy);
+          if (j >= 0) acc += a.col(i).dot(b.col(j)) + a.col(j).dot(b.col(i));
+        }
+      out += rho * acc;
+    }
+  return out;
+}
+
+// The expected sum of squared normalised residuals when the noise is exactly
+// as stated (c = 1, correlation `corr`), for the linearised estimator
+// dp = G J^T W dv and residual r = dv - J_s dp (docs/uncertainties.md §3):
+//   E sum z^2 = N - 2 sum_ij rho_ij g_i . c_j + sum_ij rho_ij c_i . (K c_j),
+// with c_i = G J_i^T w_i sigma_i, g_i = J_s,i^T / sigma_i, K = sum_i g_i g_i^T.
+// For independent pixels and W = S^-1 it is N - p; for a noise correlated
+// over eta pixels and parameters whose influence is smooth on that scale,
+// about N - p eta.
+double expected_residual_sum(const NormalSystem& ns, const Eigen::MatrixXd& G, const Eigen::MatrixXd* Js,
+                             const VelocitySamples& s, const std::vector<unsigned char>& used, bool radial,
+                             const SampleGrid& grid, const NoiseCorrelation& corr, double reach_sigma) {
+  const Eigen::Index n = static_cast<Eigen::Index>(s.size());
+  Eigen::MatrixXd c = Eigen::MatrixXd::Zero(ns.p, n), gs = Eigen::MatrixXd::Zero(ns.p, n);
+  for (std::size_t i = 0; i < s.size(); ++i) {
+    if (!used[i]) continue;
+    const Eigen::Index k = static_cast<Eigen::Index>(i);
+    const Eigen::VectorXd j = dense_row(ns, i, radial);
+    c.col(k) = G * j * (ns.w[i] * s.sigma[i]);
+    gs.col(k) = (Js ? Eigen::VectorXd(Js->col(k)) : j) / s.sigma[i];
+  }
+  // Sums in a fixed order (Eigen's threaded matrix products may change the
+  // blocking, hence the last bits, with the thread count).
+  Eigen::MatrixXd K = Eigen::MatrixXd::Zero(ns.p, ns.p);
+  for (Eigen::Index k = 0; k < n; ++k) K.noalias() += gs.col(k) * gs.col(k).transpose();
+  Eigen::MatrixXd e(ns.p, n);
+  for (Eigen::Index k = 0; k < n; ++k) e.col(k).noalias() = K * c.col(k);
+  return static_cast<double>(ns.used) - 2.0 * correlated_pair_sum(grid, gs, c, corr, reach_sigma) +
+         correlated_pair_sum(grid, c, e, corr, reach_sigma);
 }
 
 // v_i = sigma_i w_i J_i A^-1[:, geometry], in the 5-slot layout (zero for
@@ -276,32 +356,42 @@ GeometryCovariance geometry_covariance(const VelocitySamples& s, const GlobalFit
   // The bread: A^-1, or with the smearing correction G_K (header; not
   // symmetric: influence() reads the columns of the matrix it is given, so it
   // gets G_K^T, whose geometry columns are the geometry rows of G_K).
-  Eigen::MatrixXd bread = Ainv;
+  Eigen::MatrixXd G = Ainv;  // dp = G J^T W dv
+  Eigen::MatrixXd Js;
   if (opt.smearing && opt.smearing_refits > 0) {
-    const Eigen::MatrixXd As = smeared_normal_matrix(ns, s, fit, opt);
-    if (As.size() > 0) {
-      const Eigen::MatrixXd M = Ainv * (As - ns.A);
-      Eigen::MatrixXd G = Ainv;
-      for (int k = 0; k < opt.smearing_refits; ++k) G = Ainv - M * G;
-      if (G.allFinite()) {
-        bread = G.transpose();
+    Js = smeared_jacobian(ns, s, fit, opt);
+    if (Js.size() > 0) {
+      const Eigen::MatrixXd M = Ainv * (smeared_normal_matrix(ns, Js, fit.used, opt.radial) - ns.A);
+      Eigen::MatrixXd Gk = Ainv;
+      for (int k = 0; k < opt.smearing_refits; ++k) Gk = Ainv - M * Gk;
+      if (Gk.allFinite()) {
+        G = Gk;
         out.smeared_jacobian = true;
+      } else {
+        Js.resize(0, 0);
       }
     }
   }
-  const auto v = influence(ns, bread, s, fit.used, opt.radial);
-  // Residual correlation, then the residual scale. With noise correlated
-  // over eta pixels each fitted parameter absorbs about eta pixels' worth of
-  // residual variance (E sum r^2 ~ sigma^2 (N - p eta) for parameters whose
-  // influence is smooth on the beam scale), so the variance is estimated
-  // with N - p eta degrees of freedom (at least N / 4).
+  // influence() reads the columns of the matrix it is given: G^T, whose
+  // geometry columns are the geometry rows of G.
+  const auto v = influence(ns, G.transpose(), s, fit.used, opt.radial);
+  // Residual correlation, then the residual scale c^2 = sum z^2 / E sum z^2,
+  // the expectation taken for noise exactly as stated (the error map's sigmas
+  // with the noise model's correlation), computed for this fit's estimator
+  // (expected_residual_sum): a parameter absorbs part of the residual
+  // variance, more when the noise is correlated, and how much depends on how
+  // local its influence is.
   const SampleGrid grid = make_sample_grid(s, fit.used);
   const Beam beam = s.beam.value_or(Beam{});
   out.model_correlation_scale = std::sqrt(2.0);  // noise white before the beam
   out.correlation = measure_residual_correlation(grid, ns.z, fit.used, beam, opt.correlation);
-  const double area = std::abs(grid.jacobian.determinant());
-  const double eta = s.beam && grid.jacobian_ok ? out.correlation.correlation.correlated_pixels(area) : 1.0;
-  out.effective_dof = std::max(0.25 * ns.used, ns.used - ns.p * eta);
+  const NoiseCorrelation model_corr =
+      s.beam ? scaled_beam_correlation(*s.beam, out.model_correlation_scale) : NoiseCorrelation{};
+  const double expected = expected_residual_sum(ns, G, Js.size() > 0 ? &Js : nullptr, s, fit.used, opt.radial,
+                                                grid, model_corr, opt.reach_sigma);
+  // A fit that absorbs (nearly) everything leaves no residual to scale by:
+  // at least one tenth of the samples' worth is kept as degrees of freedom.
+  out.effective_dof = std::max(0.1 * ns.used, expected);
   out.residual_scale2_measured = ns.zz / out.effective_dof;
   out.residual_scale2 = s.has_errors ? std::max(1.0, out.residual_scale2_measured) : out.residual_scale2_measured;
   const double c_stat2 = s.has_errors ? 1.0 : out.residual_scale2;

@@ -61,6 +61,29 @@ TEST_CASE("sandwich: the formal part equals Ceres' covariance", "[kinematics][co
   }
 }
 
+TEST_CASE("sandwich: expected residual sum is N - p for independent pixels", "[kinematics][covariance]") {
+  // Weighted least squares with W = S^-1 on independent pixels leaves
+  // E sum ((v - m) / sigma)^2 = N - p (e.g. Seber & Lee 2003, Linear
+  // Regression Analysis, 2nd ed., Thm 3.3; the textbook result for a linear
+  // model, which the linearised fit is): the trace formula of
+  // expected_residual_sum must reduce to it exactly.
+  const auto m = mock(3, false);
+  KinematicOptions opt;
+  opt.method = Method::rings;
+  opt.ring_by_ring = false;
+  opt.correct_beam_smearing = false;
+  opt.weight_power = 0.0;
+  const KinematicFit fit = fit_kinematics(m.velocity, &m.velocity_error, opt);
+  REQUIRE(fit.status == "ok");
+  VelocitySamples s = samples_from_image(m.velocity, &m.velocity_error, fit.reference);
+  s.beam.reset();  // independent pixels
+  GeometryCovarianceOptions go;
+  go.weight_power = 0.0;
+  const GeometryCovariance gc = geometry_covariance(s, fit.global, go);
+  REQUIRE(gc.ok);
+  CHECK(gc.effective_dof == Approx(double(gc.n_used - gc.n_parameters)).epsilon(1e-9));
+}
+
 TEST_CASE("sandwich: neighbour sum equals the brute-force double sum", "[kinematics][covariance]") {
   const auto m = mock(4, true);
   const VelocitySamples s = samples_from_image(m.velocity, &m.velocity_error, {150.0, 20.0});

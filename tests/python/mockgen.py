@@ -260,8 +260,14 @@ def noise_free_maps(p, w, e):
     civ = fft_convolve_periodic(sb * vel, k)
     ci = block_average(ci, f)[pad:pad + ny, pad:pad + nx]
     civ = block_average(civ, f)[pad:pad + ny, pad:pad + nx]
+    # Far from the disc the convolved emission is FFT round-off (~1e-17 of
+    # the peak) and civ / ci is meaningless (values of 1e18 km/s seen): a
+    # noise peak there that passes the clip would carry it. In a cube such a
+    # peak's first moment is some velocity in the band; the systemic
+    # velocity stands in for it (the velocity noise is added on top).
+    faint = ~(ci > 1e-9 * ci.max())
     with np.errstate(invalid="ignore", divide="ignore"):
-        velocity = civ / ci  # NaN where the model has no emission at all (clipped anyway)
+        velocity = np.where(faint, p["vsys_kms"], civ / ci)
     return ci / ci.max(), velocity
 
 

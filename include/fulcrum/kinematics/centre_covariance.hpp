@@ -12,11 +12,13 @@
 // right sigmas). Here S_ij = c^2 sigma_i sigma_j rho(d_ij) with
 //   rho   the residual correlation measured on the map
 //         (residual_correlation.hpp), never narrower than the beam;
-//   c^2   the variance of the normalised residuals z = (v - m)/sigma:
-//         sum z^2 / (N - p eta), eta the correlated-pixel count of rho (a
-//         parameter absorbs about eta pixels' worth of correlated noise); at
-//         least N/4 degrees of freedom; with an error map never below 1 (the
-//         fit is inflated when it does not fit, never deflated).
+//   c^2   the residual scale sum z^2 / E0[sum z^2], z = (v - m)/sigma,
+//         E0 the expectation for noise exactly as stated (the sigmas with
+//         the noise model's correlation), computed for this estimator by a
+//         trace formula (N - p for independent pixels; about N - p eta for
+//         correlated noise and smooth parameters; at least N/10); with an
+//         error map never below 1 (the fit is inflated when it does not fit,
+//         never deflated).
 // Only the geometry rows of A^-1 are needed: with u_i = w_i J_i A^-1[:, geom],
 // Cov(geom) = sum_ij u_i^T S_ij u_j, summed over neighbours within 4 sigma
 // of the correlation on the pixel grid.
@@ -86,7 +88,7 @@ struct GeometryCovariance {
   Matrix5d total = Matrix5d::Zero();        // sandwich, c^2 and the measured correlation
   double residual_scale2 = 1.0;    // c^2 adopted
   double residual_scale2_measured = 1.0;
-  double effective_dof = 0.0;      // N - p eta (at least N / 4)
+  double effective_dof = 0.0;      // E0[sum z^2] (at least N / 10)
   ResidualCorrelation correlation; // measured on the residuals
   double model_correlation_scale = 1.0;  // s of the noise model (sqrt 2)
   int n_used = 0, n_parameters = 0;
