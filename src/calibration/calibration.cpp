@@ -607,7 +607,7 @@ CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& in, const Centr
   const Image& vgrid = *in.velocity;
   if (!m.velocity_noise)  // the line grid's kernel: a generator on the velocity grid for both fields
     m.velocity_noise.emplace(vgrid.nx, vgrid.ny, m.line_noise->covariance());
-  std::vector<double> m2(o.n_refits, std::nan(""));
+  std::vector<double> m2(o.n_refits, std::nan("")), pa2(o.n_refits, std::nan("")), inc2(o.n_refits, std::nan(""));
   const long n = static_cast<long>(o.n_refits);
 #pragma omp parallel for schedule(dynamic, 1)
   for (long k = 0; k < n; ++k) {
@@ -618,7 +618,12 @@ CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& in, const Centr
       const auto fit = m.refitter->fit(noisy_velocity(m, 0, vel_n, scatter_n), 0);
       if (fit.status != "ok" || !fit.centre) continue;
       const double d2 = truth_m2(fit.centre->position, fit.centre->covariance, in.centre.position);
-      if (std::isfinite(d2)) m2[static_cast<std::size_t>(k)] = d2;
+      if (!std::isfinite(d2)) continue;
+      const std::size_t i = static_cast<std::size_t>(k);
+      m2[i] = d2;
+      const double dpa = std::remainder(fit.pa_deg - in.pa_deg, 360.0);
+      pa2[i] = fit.pa_err_deg > 0.0 ? std::pow(dpa / fit.pa_err_deg, 2) : std::nan("");
+      inc2[i] = fit.inc_err_deg > 0.0 ? std::pow((fit.inc_deg - in.inc_deg) / fit.inc_err_deg, 2) : std::nan("");
     } catch (const std::exception&) {
     }
   }
@@ -638,6 +643,18 @@ CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& in, const Centr
   }
   b.mean_m2 = sum / static_cast<double>(b.refits);
   b.scale2 = std::clamp(0.5 * b.mean_m2, o.min_scale2, o.max_scale2);
+  // Mean squared pull over the re-fits that gave one (NaN: none did).
+  auto mean_finite = [](const std::vector<double>& v) {
+    double s = 0.0;
+    int n = 0;
+    for (double x : v)
+      if (std::isfinite(x)) s += x, ++n;
+    return n > 0 ? s / n : std::nan("");
+  };
+  b.mean_pa_pull2 = mean_finite(pa2);
+  b.mean_inc_pull2 = mean_finite(inc2);
+  if (std::isfinite(b.mean_pa_pull2)) b.pa_scale2 = std::clamp(b.mean_pa_pull2, o.min_scale2, o.max_scale2);
+  if (std::isfinite(b.mean_inc_pull2)) b.inc_scale2 = std::clamp(b.mean_inc_pull2, o.min_scale2, o.max_scale2);
   b.applied = true;
   return b;
 }
@@ -648,6 +665,10 @@ json to_json(const CentreBootstrap& b) {
     j["mean_m2"] = b.mean_m2;
     j["covariance_scale"] = b.scale2;
     j["error_scale"] = std::sqrt(b.scale2);
+    j["mean_pa_pull2"] = std::isfinite(b.mean_pa_pull2) ? json(b.mean_pa_pull2) : json(nullptr);
+    j["mean_inc_pull2"] = std::isfinite(b.mean_inc_pull2) ? json(b.mean_inc_pull2) : json(nullptr);
+    j["pa_error_scale"] = std::sqrt(b.pa_scale2);
+    j["inc_error_scale"] = std::sqrt(b.inc_scale2);
   } else {
     j["reason"] = b.reason;
   }

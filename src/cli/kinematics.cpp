@@ -166,7 +166,12 @@ void run(const KinematicsArgs& a) {
                 widened->refits, widened->mean_m2,
                 widened->scale2 > 1.0 ? ("widened by x" + fixed_text(std::sqrt(widened->scale2), 2)).c_str()
                                       : "kept (the re-fits scatter no more than it says)");
-  else if (widened)
+  if (widened && widened->applied && (widened->pa_scale2 > 1.0 || widened->inc_scale2 > 1.0))
+    std::printf("  the same re-fits: PA error x%.2f, inclination error x%.2f (mean squared pulls %.2f, %.2f; 1 "
+                "expected)\n",
+                std::sqrt(widened->pa_scale2), std::sqrt(widened->inc_scale2), widened->mean_pa_pull2,
+                widened->mean_inc_pull2);
+  else if (widened && !widened->applied)
     std::printf("  centre re-fits: not used (%s)\n", widened->reason.c_str());
   std::printf("  PA %.2f +- %.2f deg   inclination %.2f +- %.2f deg   vsys %.2f +- %.2f km/s\n",
               fit.pa_deg, fit.pa_err_deg, fit.inc_deg, fit.inc_err_deg, fit.vsys_kms,

@@ -149,6 +149,11 @@ void centre_bootstrap_step(const GalaxyMaps& maps, const AnalysisOptions& opt, G
     s.notes.push_back("the kinematic centre's error was widened x" + fixed_text(std::sqrt(b.scale2), 2) + ": " +
                       std::to_string(b.refits) + " re-fitted mocks of the fitted disc scatter more than its "
                       "covariance says (mean m^2 " + fixed_text(b.mean_m2, 2) + ", 2 expected)");
+  if (b.pa_scale2 > 1.0 || b.inc_scale2 > 1.0)
+    s.notes.push_back("the same re-fits widened the PA error x" + fixed_text(std::sqrt(b.pa_scale2), 2) +
+                      " and the inclination error x" + fixed_text(std::sqrt(b.inc_scale2), 2) +
+                      " (mean squared pulls " + fixed_text(b.mean_pa_pull2, 2) + " and " +
+                      fixed_text(b.mean_inc_pull2, 2) + ", 1 expected)");
   for (auto& c : s.kinematics->centres)
     if (c.method == CentreMethod::kinematic_rings && c.ok()) c.covariance *= b.scale2;
   for (auto& c : s.centres)

@@ -101,6 +101,8 @@ void read_kinematics(const Fields& k, GalaxySummary& s) {
     if (b.applied) {
       b.mean_m2 = cb.number("mean_m2");
       b.scale2 = cb.number("covariance_scale");
+      if (cb.has("pa_error_scale")) b.pa_scale2 = std::pow(cb.number("pa_error_scale"), 2);
+      if (cb.has("inc_error_scale")) b.inc_scale2 = std::pow(cb.number("inc_error_scale"), 2);
     }
     s.centre_bootstrap = b;
   }

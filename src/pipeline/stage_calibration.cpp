@@ -116,6 +116,8 @@ calibration::CentreBootstrap widen_centre_covariance(kinematics::KinematicFit& f
   if (!b.applied) return b;
   for (auto* c : {&fit.ring_centre, &fit.centre})
     if (*c && c->value().method == CentreMethod::kinematic_rings) c->value().covariance *= b.scale2;
+  fit.pa_err_deg *= std::sqrt(b.pa_scale2);
+  fit.inc_err_deg *= std::sqrt(b.inc_scale2);
   return b;
 }
 

@@ -67,6 +67,13 @@ TEST_CASE("centre re-fit bootstrap: same seed, same numbers at any thread count,
   CHECK((a.ring_centre->covariance - ra.scale2 * before).norm() <= 1e-12 * before.norm());
   CHECK((a.centre->covariance - a.ring_centre->covariance).norm() == 0.0);
   CHECK(a.harmonic_centre->covariance == fit.harmonic_centre->covariance);
+  // The PA and inclination errors: widened by sqrt(max(1, mean pull^2)).
+  REQUIRE(std::isfinite(ra.mean_pa_pull2));
+  REQUIRE(std::isfinite(ra.mean_inc_pull2));
+  CHECK(ra.pa_scale2 == Approx(std::max(1.0, ra.mean_pa_pull2)));
+  CHECK(ra.inc_scale2 == Approx(std::max(1.0, ra.mean_inc_pull2)));
+  CHECK(a.pa_err_deg == Approx(fit.pa_err_deg * std::sqrt(ra.pa_scale2)));
+  CHECK(a.inc_err_deg == Approx(fit.inc_err_deg * std::sqrt(ra.inc_scale2)));
 }
 
 TEST_CASE("centre re-fit bootstrap: beam-correlated velocity scatter beyond the error map raises m^2",

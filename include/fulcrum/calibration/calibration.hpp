@@ -244,6 +244,11 @@ struct CentreBootstrap {
   std::size_t refits = 0, failed = 0;
   double mean_m2 = 0.0;             // over the successful re-fits
   double scale2 = 1.0;              // the factor applied to the covariance
+  // The same check for the PA and the inclination: the mean squared pull
+  // ((fit - truth) / error)^2 over the re-fits (1 expected) and the factor
+  // applied to each variance, max(1, mean) clamped like scale2.
+  double mean_pa_pull2 = 0.0, mean_inc_pull2 = 0.0;
+  double pa_scale2 = 1.0, inc_scale2 = 1.0;
 };
 CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& inputs, const CentreBootstrapOptions& options);
 nlohmann::json to_json(const CentreBootstrap& b);
