@@ -38,15 +38,21 @@ test::VelocityMock mock(unsigned seed, bool smear) {
   s.seed = seed;
   return test::make_velocity_mock(s);
 }
-}  // namespace
 
-TEST_CASE("sandwich: the formal part equals Ceres' covariance", "[kinematics][covariance]") {
-  const auto m = mock(3, false);
+// The global tilted-ring fit alone (no ring-by-ring fit, no smearing correction).
+KinematicFit global_fit_only(const test::VelocityMock& m, double weight_power = 1.0) {
   KinematicOptions opt;
   opt.method = Method::rings;
   opt.ring_by_ring = false;
   opt.correct_beam_smearing = false;
-  const KinematicFit fit = fit_kinematics(m.velocity, &m.velocity_error, opt);
+  opt.weight_power = weight_power;
+  return fit_kinematics(m.velocity, &m.velocity_error, opt);
+}
+}  // namespace
+
+TEST_CASE("sandwich: the formal part equals Ceres' covariance", "[kinematics][covariance]") {
+  const auto m = mock(3, false);
+  const KinematicFit fit = global_fit_only(m);
   REQUIRE(fit.status == "ok");
   const VelocitySamples s = samples_from_image(m.velocity, &m.velocity_error, fit.reference);
   GeometryCovarianceOptions go;
@@ -68,12 +74,7 @@ TEST_CASE("sandwich: expected residual sum is N - p for independent pixels", "[k
   // model, which the linearised fit is): the trace formula of
   // expected_residual_sum must reduce to it exactly.
   const auto m = mock(3, false);
-  KinematicOptions opt;
-  opt.method = Method::rings;
-  opt.ring_by_ring = false;
-  opt.correct_beam_smearing = false;
-  opt.weight_power = 0.0;
-  const KinematicFit fit = fit_kinematics(m.velocity, &m.velocity_error, opt);
+  const KinematicFit fit = global_fit_only(m, 0.0);
   REQUIRE(fit.status == "ok");
   VelocitySamples s = samples_from_image(m.velocity, &m.velocity_error, fit.reference);
   s.beam.reset();  // independent pixels
