@@ -1,6 +1,7 @@
 // Noise bootstrap of a centre estimator (see bootstrap.hpp).
 #include "fulcrum/photometry/bootstrap.hpp"
 
+#include <algorithm>
 #include <cmath>
 
 #include "fulcrum/core/random.hpp"
@@ -13,26 +14,49 @@ std::uint64_t mix_seed(std::uint64_t seed, const std::string& tag, std::uint64_t
   return splitmix64(h ^ splitmix64(k));
 }
 
+PixelBox box_around(const PreparedImage& p, PixelCoord c, double half_x, double half_y) {
+  PixelBox b;
+  b.x0 = std::max(0, static_cast<int>(std::floor(c.x - half_x)));
+  b.x1 = std::min(p.nx - 1, static_cast<int>(std::ceil(c.x + half_x)));
+  b.y0 = std::max(0, static_cast<int>(std::floor(c.y - half_y)));
+  b.y1 = std::min(p.ny - 1, static_cast<int>(std::ceil(c.y + half_y)));
+  return b;
+}
+
+PixelBox grown(const PreparedImage& p, const PixelBox& b, int margin) {
+  if (b.empty()) return b;
+  return {std::max(0, b.x0 - margin), std::max(0, b.y0 - margin), std::min(p.nx - 1, b.x1 + margin),
+          std::min(p.ny - 1, b.y1 + margin)};
+}
+
 BootstrapSummary bootstrap_centre(const PreparedImage& p, const Estimator& estimator,
                                   double noise_rms, const std::string& tag,
-                                  const BootstrapOptions& o) {
+                                  const BootstrapOptions& o, const std::optional<PixelBox>& window) {
   BootstrapSummary s;
   s.draws = o.draws;
   if (o.draws < 3) {
     s.reason = "too few bootstrap draws (" + std::to_string(o.draws) + ")";
     return s;
   }
+  const PixelBox w = window ? *window : PixelBox{0, 0, p.nx - 1, p.ny - 1};
   std::vector<PixelEstimate> results(static_cast<std::size_t>(o.draws));
-#pragma omp parallel for schedule(dynamic)
-  for (int k = 0; k < o.draws; ++k) {
-    // The project's own normal deviates (Box-Muller on mt19937_64), not
-    // std::normal_distribution, whose algorithm differs between standard
-    // libraries: the same seed gives the same centres everywhere.
-    Random rng(mix_seed(o.seed, tag, static_cast<std::uint64_t>(k)));
-    std::vector<double> d = p.data;
-    for (double& v : d)
-      if (std::isfinite(v)) v += noise_rms * rng.normal();
-    results[static_cast<std::size_t>(k)] = estimator(d);
+#pragma omp parallel
+  {
+    std::vector<double> d = p.data;  // this thread's working copy
+#pragma omp for schedule(dynamic)
+    for (int k = 0; k < o.draws; ++k) {
+      // The project's own normal deviates (Box-Muller on mt19937_64), not
+      // std::normal_distribution, whose algorithm differs between standard
+      // libraries: the same seed gives the same centres everywhere.
+      Random rng(mix_seed(o.seed, tag, static_cast<std::uint64_t>(k)));
+      for (int y = w.y0; y <= w.y1; ++y)
+        for (int x = w.x0; x <= w.x1; ++x) {
+          const std::size_t i = static_cast<std::size_t>(x) + static_cast<std::size_t>(p.nx) * y;
+          const double v = p.data[i];
+          d[i] = std::isfinite(v) ? v + noise_rms * rng.normal() : v;
+        }
+      results[static_cast<std::size_t>(k)] = estimator(d);
+    }
   }
   double mx = 0, my = 0;
   for (const auto& r : results)

@@ -4,6 +4,7 @@
 
 #include <Eigen/Dense>
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <numbers>
 
@@ -24,6 +25,22 @@ struct Harmonics {
   bool ok = false;
 };
 
+// cos E, sin E, sin 2E, cos 2E at E_k = 2 pi (k + 1/2) / n, k < n: the same
+// for every ellipse with n samples, so kept per thread for the last n used.
+const std::vector<std::array<double, 4>>& anomaly_table(int n) {
+  thread_local std::vector<std::array<double, 4>> table;
+  thread_local int table_n = -1;
+  if (table_n != n) {
+    table.resize(static_cast<std::size_t>(n));
+    for (int k = 0; k < n; ++k) {
+      const double e = 2.0 * std::numbers::pi * (k + 0.5) / n;
+      table[static_cast<std::size_t>(k)] = {std::cos(e), std::sin(e), std::sin(2 * e), std::cos(2 * e)};
+    }
+    table_n = n;
+  }
+  return table;
+}
+
 Harmonics sample(const PreparedImage& p, const std::vector<double>& data, const Ellipse& el,
                  bool full) {
   Harmonics h;
@@ -36,9 +53,10 @@ Harmonics sample(const PreparedImage& p, const std::vector<double>& data, const 
   Eigen::Matrix<double, 5, 5> ata = Eigen::Matrix<double, 5, 5>::Zero();
   Eigen::Matrix<double, 5, 1> atb = Eigen::Matrix<double, 5, 1>::Zero();
   double sum = 0;
+  const std::vector<std::array<double, 4>>& trig = anomaly_table(n);
   for (int k = 0; k < n; ++k) {
-    const double e = 2.0 * std::numbers::pi * (k + 0.5) / n;
-    const Eigen::Vector2d d = el.a * std::cos(e) * uh + el.a * (1.0 - el.eps) * std::sin(e) * vh;
+    const auto& [cos_e, sin_e, sin_2e, cos_2e] = trig[static_cast<std::size_t>(k)];
+    const Eigen::Vector2d d = el.a * cos_e * uh + el.a * (1.0 - el.eps) * sin_e * vh;
     const Eigen::Vector2d px = ji * d;
     const double v = bilinear(data, p.nx, p.ny, el.c.x + px(0), el.c.y + px(1));
     if (!std::isfinite(v)) continue;
@@ -46,7 +64,7 @@ Harmonics sample(const PreparedImage& p, const std::vector<double>& data, const 
     sum += v;
     if (full) {
       Eigen::Matrix<double, 5, 1> row;
-      row << 1.0, std::sin(e), std::cos(e), std::sin(2 * e), std::cos(2 * e);
+      row << 1.0, sin_e, cos_e, sin_2e, cos_2e;
       ata += row * row.transpose();
       atb += row * v;
     }
@@ -117,9 +135,14 @@ PixelEstimate estimate_isophote_centre(const PreparedImage& p, const std::vector
   const double level = isophote_level(p, data, noise_rms, o);
   Ellipse el = first_guess(p, o);
   el.a = std::max(p.radius_arcsec * 0.5, 2.0 * p.pixel_scale_arcsec);
-  // Bring a to the level first along the first-guess geometry (bisection on
-  // the mean intensity, which falls outward for a galaxy).
-  {
+  if (o.start_ellipse) {
+    el.c = o.start_ellipse->centre;
+    el.a = o.start_ellipse->semi_major_arcsec;
+    el.eps = o.start_ellipse->ellipticity;
+    el.theta = o.start_ellipse->theta_rad;
+  } else {
+    // Bring a to the level first along the first-guess geometry (bisection
+    // on the mean intensity, which falls outward for a galaxy).
     double lo = 0.5 * p.pixel_scale_arcsec, hi = 3.0 * p.radius_arcsec + 10 * p.pixel_scale_arcsec;
     for (int it = 0; it < 60; ++it) {
       Ellipse t = el;
@@ -196,6 +219,15 @@ PixelEstimate estimate_isophote_centre(const PreparedImage& p, const std::vector
                {"samples", h.total},
                {"iterations", it + 1}};
   return e;
+}
+
+IsophoteEllipse isophote_ellipse(const PixelEstimate& e) {
+  IsophoteEllipse el;
+  el.centre = e.centre;
+  el.semi_major_arcsec = e.details.value("semi_major_arcsec", 1.0);
+  el.ellipticity = 1.0 - e.details.value("axis_ratio", 1.0);
+  el.theta_rad = e.details.value("pa_deg", 0.0) * std::numbers::pi / 180.0;
+  return el;
 }
 
 }  // namespace fulcrum::photometry

@@ -2,10 +2,13 @@
 // sky (see photometric_centres.hpp).
 #include "fulcrum/photometry/photometric_centres.hpp"
 
+#include <algorithm>
 #include <cmath>
+#include <limits>
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/imaging/gaussian_smooth.hpp"
 #include "fulcrum/sky/offset_frame.hpp"
 
 namespace fulcrum::photometry {
@@ -21,7 +24,7 @@ namespace {
 constexpr const char* kOpticalImage = "optical image";
 
 PhotometricMeasurement on_sky(CentreMethod method, const PixelEstimate& e, const Image& image,
-                              const PreparedImage& p) {
+                              const PreparedImage& p, const char* covariance_label = "fit-covariance") {
   PhotometricMeasurement c;
   c.details = e.details;
   if (!e.ok) {
@@ -31,7 +34,7 @@ PhotometricMeasurement on_sky(CentreMethod method, const PixelEstimate& e, const
   Eigen::Matrix2d cov = Eigen::Matrix2d::Zero();
   if (e.cov_pixels) {
     cov = p.jacobian * (*e.cov_pixels) * p.jacobian.transpose();
-    c.uncertainty_method = "fit-covariance";
+    c.uncertainty_method = covariance_label;
   }
   c.centre = measured_centre(method, image.wcs.pixel_to_world(e.centre), cov, kOpticalImage);
   c.centre.pixel_fits = PixelCoord{fits_pixel(e.centre.x), fits_pixel(e.centre.y)};
@@ -39,9 +42,9 @@ PhotometricMeasurement on_sky(CentreMethod method, const PixelEstimate& e, const
 }
 
 void attach_bootstrap(PhotometricMeasurement& c, const PreparedImage& p, const Estimator& est,
-                      const PhotometryOptions& o) {
+                      const PhotometryOptions& o, const std::optional<PixelBox>& window = std::nullopt) {
   if (!c.ok()) return;
-  const BootstrapSummary b = bootstrap_centre(p, est, p.background.rms, c.id(), o.bootstrap);
+  const BootstrapSummary b = bootstrap_centre(p, est, p.background.rms, c.id(), o.bootstrap, window);
   c.uncertainty_method = "noise-bootstrap";
   c.bootstrap_draws = b.succeeded;
   if (!b.ok) {
@@ -49,6 +52,73 @@ void attach_bootstrap(PhotometricMeasurement& c, const PreparedImage& p, const E
     return;
   }
   c.centre.covariance = p.jacobian * b.cov_pixels * p.jacobian.transpose();
+}
+
+// The windows of the bootstrap's draws (bootstrap.hpp): every pixel an
+// estimator can read for a draw near its point estimate, plus a margin of
+// kDrawMargin pixels for the draw's own shift (many times its scatter) and
+// the bilinear interpolation's neighbour.
+constexpr int kDrawMargin = 6;
+
+// Pixel half-extents of a circle of radius r arcsec on the sky.
+Eigen::Vector2d circle_extent(const PreparedImage& p, double r_arcsec) {
+  const Eigen::Matrix2d ji = p.jacobian.inverse();
+  return {r_arcsec * ji.row(0).norm(), r_arcsec * ji.row(1).norm()};
+}
+
+// The symmetry centre's apertures (about the start, then about the first
+// round's result, near c) and the reflections of their pixels.
+PixelBox aperture_box(const PreparedImage& p, PixelCoord c, double r_arcsec, PixelCoord start) {
+  const Eigen::Vector2d h = circle_extent(p, r_arcsec);
+  const double sx = std::abs(start.x - c.x), sy = std::abs(start.y - c.y);
+  return grown(p, box_around(p, c, h(0) + 2.0 * sx, h(1) + 2.0 * sy), kDrawMargin);
+}
+
+// The isophote's ellipse and the two beside it that measure the gradient
+// (semi-major axis a + max(0.1 a, one pixel)), with room for the
+// iteration's steps.
+PixelBox ellipse_box(const PreparedImage& p, const IsophoteEllipse& el) {
+  const double a = 1.3 * el.semi_major_arcsec + 2.0 * p.pixel_scale_arcsec;
+  const Eigen::Vector2d h = circle_extent(p, a);
+  return grown(p, box_around(p, el.centre, h(0), h(1)), kDrawMargin);
+}
+
+// The peak of a draw searches the galaxy's segment of the smoothed image
+// and grows its cap above cap_fraction times the brightest value. Smoothing
+// is linear: a draw's smoothed image is s0 (the smoothed data) plus the
+// smoothed noise, whose rms is sigma_s = rms * sqrt(sum of the kernel's
+// squared weights). Allowing m = 10 sigma_s (a chance below 1e-20 per
+// pixel of more), a draw's brightest value is at least smax0 - m, its cap
+// level at least cap (smax0 - m), so every pixel it can pick or add to its
+// cap has s0 > L = cap smax0 - (1 + cap) m. The box of those pixels, grown
+// by twice the kernel's half-width (the smoothing of every pixel within
+// one half-width of the box reads the same pixels as on the whole image)
+// and a margin, is all a draw needs. When L <= 0 (a faint galaxy) the
+// galaxy's segment takes the place of the level set.
+PixelBox peak_box(const PreparedImage& p, double cap_fraction) {
+  const PixelKernel k =
+      gaussian_kernel(pixel_covariance(Beam{p.psf_fwhm_arcsec, p.psf_fwhm_arcsec, 0.0}, p.jacobian));
+  double w2 = 0.0;
+  for (double w : k.weight) w2 += w * w;
+  const double m = 10.0 * p.background.rms * std::sqrt(w2);
+  const std::vector<double> s0 = smooth_to_fwhm(p.data, p.nx, p.ny, p.jacobian, p.psf_fwhm_arcsec);
+  double smax = -std::numeric_limits<double>::infinity();
+  for (std::size_t i = 0; i < s0.size(); ++i)
+    if (p.galaxy[i] && std::isfinite(s0[i]) && std::isfinite(p.data[i])) smax = std::max(smax, s0[i]);
+  const double level = cap_fraction * smax - (1.0 + cap_fraction) * m;
+  const bool by_level = std::isfinite(level) && level > 0.0;
+  PixelBox b{p.nx, p.ny, -1, -1};
+  for (int y = 0; y < p.ny; ++y)
+    for (int x = 0; x < p.nx; ++x) {
+      const std::size_t i = static_cast<std::size_t>(x) + static_cast<std::size_t>(p.nx) * y;
+      if (by_level ? !(s0[i] > level) : !p.galaxy[i]) continue;
+      b.x0 = std::min(b.x0, x);
+      b.x1 = std::max(b.x1, x);
+      b.y0 = std::min(b.y0, y);
+      b.y1 = std::max(b.y1, y);
+    }
+  if (b.empty()) return {0, 0, p.nx - 1, p.ny - 1};
+  return grown(p, b, 2 * std::max(k.hx, k.hy) + kDrawMargin);
 }
 
 // Every estimator failed with `why`: the image was fine but not measurable.
@@ -169,16 +239,25 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
   if (centroid.ok) start = centroid.centre;
 
   if (o.peak_enabled) {
-    auto est = [&](const std::vector<double>& d) { return estimate_peak(p, d, o.peak); };
-    PhotometricMeasurement c = on_sky(CentreMethod::photometric_peak, est(p.data), optical, p);
-    attach_bootstrap(c, p, est, o);
+    PhotometricMeasurement c =
+        on_sky(CentreMethod::photometric_peak, estimate_peak(p, p.data, o.peak), optical, p);
+    // The draws smooth and search only a box about the peak (peak_box): the
+    // cut holds every pixel the peak of a draw can read.
+    const PixelBox box = peak_box(p, o.peak.cap_fraction);
+    const PreparedImage cut = cut_out(p, box);
+    auto est = [&](const std::vector<double>& d) {
+      std::vector<double> values;
+      cut_values(d, p.nx, box, values);
+      PixelEstimate e = estimate_peak(cut, values, o.peak);
+      e.centre = {e.centre.x + box.x0, e.centre.y + box.y0};
+      return e;
+    };
+    attach_bootstrap(c, p, est, o, box);
     s.centres.push_back(std::move(c));
   }
   if (o.centroid_enabled) {
-    auto est = [&](const std::vector<double>& d) { return estimate_centroid(p, d, o.centroid); };
-    PhotometricMeasurement c = on_sky(CentreMethod::photometric_centroid, centroid, optical, p);
-    attach_bootstrap(c, p, est, o);
-    s.centres.push_back(std::move(c));
+    // Closed-form covariance (centroid.hpp): no bootstrap.
+    s.centres.push_back(on_sky(CentreMethod::photometric_centroid, centroid, optical, p, "closed-form"));
   }
   if (o.profile_enabled) {
     ProfileFitOptions po = o.profile;
@@ -192,11 +271,17 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
     if (!io.start) io.start = start;
     // The level is fixed from the data once, so every draw follows the same isophote.
     if (p.ok && !io.level) io.level = isophote_level(p, p.data, rms, io);
-    auto est = [&](const std::vector<double>& d) {
-      return estimate_isophote_centre(p, d, rms, io);
-    };
-    PhotometricMeasurement c = on_sky(CentreMethod::photometric_isophote, est(p.data), optical, p);
-    attach_bootstrap(c, p, est, o);
+    const PixelEstimate e = estimate_isophote_centre(p, p.data, rms, io);
+    PhotometricMeasurement c = on_sky(CentreMethod::photometric_isophote, e, optical, p);
+    // Draws start from the converged ellipse and read only near it.
+    IsophoteOptions warm = io;
+    std::optional<PixelBox> window;
+    if (e.ok) {
+      warm.start_ellipse = isophote_ellipse(e);
+      window = ellipse_box(p, *warm.start_ellipse);
+    }
+    auto est = [&](const std::vector<double>& d) { return estimate_isophote_centre(p, d, rms, warm); };
+    attach_bootstrap(c, p, est, o, window);
     s.centres.push_back(std::move(c));
   }
   if (o.symmetry_enabled) {
@@ -204,9 +289,16 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
     if (!so.start) so.start = start;
     if (so.aperture_radius_arcsec <= 0)
       so.aperture_radius_arcsec = centroid_aperture_radius(p, o.centroid);
+    const PixelEstimate e = estimate_symmetry_centre(p, p.data, so);
+    PhotometricMeasurement c = on_sky(CentreMethod::photometric_symmetry, e, optical, p);
+    // Draws run the same search from the same start (a warm start at the
+    // point estimate would find the local minimum there too often: the
+    // asymmetry of a noisy image is rough, and the draws' scatter came out
+    // at half the true one); their noise is needed only about the aperture.
+    std::optional<PixelBox> window;
+    if (e.ok) window = aperture_box(p, e.centre, so.aperture_radius_arcsec, so.start.value_or(p.guess));
     auto est = [&](const std::vector<double>& d) { return estimate_symmetry_centre(p, d, so); };
-    PhotometricMeasurement c = on_sky(CentreMethod::photometric_symmetry, est(p.data), optical, p);
-    attach_bootstrap(c, p, est, o);
+    attach_bootstrap(c, p, est, o, window);
     s.centres.push_back(std::move(c));
   }
   s.spread = centre_spread(s.centres);

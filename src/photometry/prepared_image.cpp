@@ -32,6 +32,52 @@ double bilinear(const std::vector<double>& d, int nx, int ny, double x, double y
 
 namespace {
 
+template <class T>
+std::vector<T> cut(const std::vector<T>& v, int nx, const PixelBox& b) {
+  std::vector<T> out;
+  if (v.empty()) return out;
+  out.reserve(static_cast<std::size_t>(b.x1 - b.x0 + 1) * (b.y1 - b.y0 + 1));
+  for (int y = b.y0; y <= b.y1; ++y)
+    for (int x = b.x0; x <= b.x1; ++x) out.push_back(v[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y]);
+  return out;
+}
+
+}  // namespace
+
+PreparedImage cut_out(const PreparedImage& p, const PixelBox& b) {
+  PreparedImage c;
+  c.nx = b.x1 - b.x0 + 1;
+  c.ny = b.y1 - b.y0 + 1;
+  c.data = cut(p.data, p.nx, b);
+  c.galaxy = cut(p.galaxy, p.nx, b);
+  c.user_masked = cut(p.user_masked, p.nx, b);
+  c.auto_masked = cut(p.auto_masked, p.nx, b);
+  c.jacobian = p.jacobian;
+  c.pixel_scale_arcsec = p.pixel_scale_arcsec;
+  c.psf_fwhm_arcsec = p.psf_fwhm_arcsec;
+  c.background = p.background;
+  c.sources = p.sources;
+  c.ok = p.ok;
+  c.reason = p.reason;
+  c.saturated = p.saturated;
+  c.saturated_pixels = p.saturated_pixels;
+  c.guess = {p.guess.x - b.x0, p.guess.y - b.y0};
+  c.radius_arcsec = p.radius_arcsec;
+  c.axis_ratio = p.axis_ratio;
+  c.pa_deg = p.pa_deg;
+  c.total_flux = p.total_flux;
+  return c;
+}
+
+void cut_values(const std::vector<double>& data, int nx, const PixelBox& b, std::vector<double>& out) {
+  out.resize(static_cast<std::size_t>(b.x1 - b.x0 + 1) * (b.y1 - b.y0 + 1));
+  std::size_t k = 0;
+  for (int y = b.y0; y <= b.y1; ++y)
+    for (int x = b.x0; x <= b.x1; ++x) out[k++] = data[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y];
+}
+
+namespace {
+
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
 // Largest connected (8-neighbour) group of galaxy pixels whose raw value is

@@ -81,6 +81,10 @@ AnalysisSummary analyse(const Image& map, const AnalysisOptions& o) {
   fo.tail_pa_deg = a.tail_pa_deg;
   fo.tail_pa_err_deg = a.tail_pa_err_deg;
   fo.angle_step_deg = o.settings.verdict.angle_step_deg;
+  // The plausible-centre check (verdict.hpp) reads these instead of building
+  // the engines of the angles the two share again.
+  for (const auto& e : o.estimates)
+    if (e.ok()) fo.probes.push_back(pr.offset_of(e.position));
   a.flip = flip_distance(pr, fo);
 
   BootstrapOptions bo;

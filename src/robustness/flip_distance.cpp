@@ -69,6 +69,7 @@ std::optional<double> nearest_zero(const ProjectionEngine& e, double s0) {
 AngleFlip flip_at_angle(const ProjectionEngine& e, SkyOffset c0, int nominal_sign) {
   AngleFlip f;
   f.tail_pa_deg = e.tail_pa().wrap360().deg();
+  f.normal = e.normal();
   f.s0 = e.s_of(c0);
   f.asymmetry_at_centre = e.asymmetry(f.s0);
   const int sg = sign_of(f.asymmetry_at_centre);
@@ -130,9 +131,15 @@ FlipSummary flip_distance(const split::SplitProblem& pr, const FlipOptions& opt)
 #pragma omp for schedule(dynamic, 1)
     for (long long k = 0; k < na; ++k) {
       e.rebuild(pr.pixels, angles[k] * degrees, {0.0, false}, &scratch);
-      out.per_angle[k] = flip_at_angle(e, opt.centre, out.nominal_sign);
+      AngleFlip& f = out.per_angle[k];
+      f = flip_at_angle(e, opt.centre, out.nominal_sign);
+      for (const SkyOffset& q : opt.probes) f.probe_signs.push_back(sign_of(e.asymmetry(e.s_of(q))));
     }
   }
+  out.angles_deg = angles;
+  out.centre = opt.centre;
+  out.nominal_tail_pa_deg = opt.tail_pa_deg;
+  out.probes = opt.probes;
   out.worst = out.nominal;
   for (const auto& f : out.per_angle)
     if (f.distance_arcsec < out.worst.distance_arcsec) out.worst = f;

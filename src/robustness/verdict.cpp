@@ -70,7 +70,7 @@ void detection_stats(const split::SplitProblem& pr, const VerdictOptions& o, dou
 }
 
 PlausibleCheck check_plausible_centres(const split::SplitProblem& pr, const VerdictInput& in,
-                                       const VerdictOptions& o) {
+                                       const VerdictOptions& o, const FlipSummary* flip) {
   PlausibleCheck pc;
   const Eigen::Matrix2d& C = in.centre_covariance;
   const double k = o.plausible_sigma;
@@ -78,11 +78,22 @@ PlausibleCheck check_plausible_centres(const split::SplitProblem& pr, const Verd
     Eigen::SelfAdjointEigenSolver<Eigen::Matrix2d> es(C);
     pc.farthest_plausible_arcsec = k * std::sqrt(std::max(0.0, es.eigenvalues()(1)));
   }
+  std::vector<SkyOffset> probes;  // the successful estimates, in order
   for (const auto& e : in.estimates)
-    if (e.ok())
-      pc.farthest_plausible_arcsec = std::max(pc.farthest_plausible_arcsec, (pr.offset_of(e.position) - in.centre).norm());
+    if (e.ok()) {
+      probes.push_back(pr.offset_of(e.position));
+      pc.farthest_plausible_arcsec = std::max(pc.farthest_plausible_arcsec, (probes.back() - in.centre).norm());
+    }
+  // The flip distance's results are reused only when computed for the same
+  // centre, nominal angle and probes.
+  const auto same = [](SkyOffset a, SkyOffset b) { return a.east == b.east && a.north == b.north; };
+  bool reuse = flip && same(flip->centre, in.centre) && flip->nominal_tail_pa_deg == in.tail_pa_deg &&
+               flip->probes.size() == probes.size() && flip->angles_deg.size() == flip->per_angle.size();
+  for (std::size_t j = 0; reuse && j < probes.size(); ++j) reuse = same(flip->probes[j], probes[j]);
   int nominal_sign;
-  {
+  if (reuse) {
+    nominal_sign = flip->nominal_sign;
+  } else {
     const ProjectionEngine e(pr.pixels, in.tail_pa_deg * degrees, {0.0, false});
     nominal_sign = sign_of(e.asymmetry(e.s_of(in.centre)));
   }
@@ -93,12 +104,26 @@ PlausibleCheck check_plausible_centres(const split::SplitProblem& pr, const Verd
   pc.worst_flip_arcsec = std::numeric_limits<double>::infinity();
   ProjectionEngine e;  // rebuilt in place for every angle (its storage reused)
   split::EngineScratch scratch;
+  std::vector<int> signs(probes.size());
   for (double a : angles) {
-    e.rebuild(pr.pixels, a * degrees, {0.0, false}, &scratch);
-    const SkyOffset n = e.normal();
+    const AngleFlip* known = nullptr;
+    if (reuse)
+      for (std::size_t j = 0; j < flip->angles_deg.size() && !known; ++j)
+        if (flip->angles_deg[j] == a) known = &flip->per_angle[j];
+    AngleFlip fl;
+    if (known) {
+      fl = *known;
+      signs = known->probe_signs;
+    } else {
+      e.rebuild(pr.pixels, a * degrees, {0.0, false}, &scratch);
+      fl = flip_at_angle(e, in.centre, nominal_sign);
+      // Once the sign has changed the estimates are not looked at again.
+      for (std::size_t j = 0; j < probes.size() && !pc.sign_changes; ++j)
+        signs[j] = sign_of(e.asymmetry(e.s_of(probes[j])));
+    }
+    const SkyOffset n = fl.normal;
     const double reach = k * std::sqrt(std::max(0.0, n.east * (C(0, 0) * n.east + C(0, 1) * n.north) +
                                                          n.north * (C(1, 0) * n.east + C(1, 1) * n.north)));
-    const AngleFlip fl = flip_at_angle(e, in.centre, nominal_sign);
     const double margin = fl.distance_arcsec - reach;
     if (fl.found || fl.already_reversed)
       pc.worst_flip_arcsec = std::min(pc.worst_flip_arcsec, fl.already_reversed ? 0.0 : fl.distance_arcsec);
@@ -111,9 +136,11 @@ PlausibleCheck check_plausible_centres(const split::SplitProblem& pr, const Verd
                            f("%.2f", fl.distance_arcsec) + " arcsec <= reach " + f("%.2f", reach) +
                            " arcsec) for tail PA " + f("%.1f", wrap_pa_deg(a)) + " deg";
     }
+    std::size_t j = 0;
     for (const auto& est : in.estimates) {
-      if (!est.ok() || pc.sign_changes) continue;
-      const int sg = sign_of(e.asymmetry(e.s_of(pr.offset_of(est.position))));
+      if (!est.ok()) continue;
+      const int sg = signs[j++];
+      if (pc.sign_changes) continue;
       if (nominal_sign != 0 && sg != nominal_sign) {
         pc.sign_changes = true;
         pc.where = "at the " + est.id() + " centre for tail PA " + f("%.1f", wrap_pa_deg(a)) + " deg";
@@ -226,7 +253,7 @@ VerdictSummary decide(const split::SplitProblem& pr, const split::SplitSummary& 
     v.statement = in.galaxy + ": undetermined, because " + why + " (" + v.evidence + ").";
     return v;
   }
-  v.plausible = check_plausible_centres(pr, in, o);
+  v.plausible = check_plausible_centres(pr, in, o, &flip);
   v.evidence += "; " + flip_words(flip, v.plausible, in.tail_pa_err_deg);
   if (in.calibration && in.calibration->n_valid > 0) {
     v.calibration_used = true;

@@ -77,7 +77,9 @@ TEST_CASE("every estimator recovers the centre within 0.1 arcsec at high S/N",
           CHECK(c->centre.covariance.determinant() >= 0);
           CHECK(c->centre.covariance(0, 1) == Approx(c->centre.covariance(1, 0)));
           CHECK(c->uncertainty_method ==
-                (std::string(id) == "photometric-profile" ? "fit-covariance" : "noise-bootstrap"));
+                (std::string(id) == "photometric-profile"    ? "fit-covariance"
+                 : std::string(id) == "photometric-centroid" ? "closed-form"
+                                                             : "noise-bootstrap"));
         }
         CHECK(s.spread.count == 5);
         CHECK(s.spread.max_separation_arcsec < 2 * tol_arcsec);

@@ -16,11 +16,22 @@
 // Reproducible: draw k of estimator `tag` uses its own generator seeded from
 // (seed, tag, k), so results do not depend on the number of threads or on
 // which other estimators ran.
+//
+// Cost: an estimator that reads only part of the image needs noise only
+// there. With a `window` (a pixel box, inclusive) the noise is added to the
+// usable pixels inside it only; pixels outside keep their values. The caller
+// chooses a window that holds every pixel the estimator can read for a draw
+// near the point estimate (its aperture, ellipse or smoothing footprint plus
+// a margin), so the draws are the same in distribution as draws over the
+// whole image; the deviates differ, since they are drawn for fewer pixels.
+// Each thread keeps one working copy of the image and restores the window
+// from `p.data` before every draw.
 #pragma once
 
 #include <Eigen/Dense>
 #include <cstdint>
 #include <functional>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -45,9 +56,16 @@ struct BootstrapSummary {
 
 using Estimator = std::function<PixelEstimate(const std::vector<double>& data)>;
 
+// The box [c - half, c + half] (pixels, per axis) clipped to the image.
+PixelBox box_around(const PreparedImage& p, PixelCoord c, double half_x, double half_y);
+
+// `b` grown by `margin` pixels on every side, clipped to the image.
+PixelBox grown(const PreparedImage& p, const PixelBox& b, int margin);
+
 BootstrapSummary bootstrap_centre(const PreparedImage& p, const Estimator& estimator,
                                   double noise_rms, const std::string& tag,
-                                  const BootstrapOptions& options);
+                                  const BootstrapOptions& options,
+                                  const std::optional<PixelBox>& window = std::nullopt);
 
 // A 64-bit seed mixed from (seed, tag, k) by the splitmix64 finaliser
 // (Steele, Lea & Flood 2014).

@@ -14,8 +14,13 @@
 // discrete aperture can cycle between two pixel sets; the iteration stops
 // after `max_iterations` and says so.
 //
-// No covariance of its own (the aperture moves with the data): the
-// uncertainty comes from the noise bootstrap. Positions are 0-based pixels.
+// Covariance in closed form (no bootstrap): linear propagation of white sky
+// noise of rms sigma (the image's background rms) through c, with the
+// aperture's feedback (it moves with c, so light crossing its edge moves c
+// further): C = (I - D)^-1 C0 (I - D)^-T, C0 = sigma^2 sum_i (x_i - c)(x_i -
+// c)^T / F^2, D the edge term derived in centroid.cpp. Like the bootstrap
+// it replaces, it counts sky noise only (docs/photometry.md). Positions are
+// 0-based pixels; the covariance is in pixel^2.
 #pragma once
 
 #include <vector>
@@ -36,7 +41,8 @@ struct CentroidOptions {
 double centroid_aperture_radius(const PreparedImage& p, const CentroidOptions& options);
 
 // `weights_out` (optional) receives f_i on the final aperture's pixels (0
-// elsewhere): the reported centre is exactly their first moment.
+// elsewhere): the reported centre is exactly their first moment. The
+// estimate carries `cov_pixels` when the background rms is > 0.
 PixelEstimate estimate_centroid(const PreparedImage& p, const std::vector<double>& data,
                                 const CentroidOptions& options = {},
                                 std::vector<double>* weights_out = nullptr);

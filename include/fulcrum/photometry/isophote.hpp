@@ -45,6 +45,16 @@
 
 namespace fulcrum::photometry {
 
+// An ellipse on the image: centre (0-based pixels), semi-major axis
+// (arcsec), ellipticity 1 - b/a and the major axis' PA (rad, north through
+// east).
+struct IsophoteEllipse {
+  PixelCoord centre;
+  double semi_major_arcsec = 1.0;
+  double ellipticity = 0.0;
+  double theta_rad = 0.0;
+};
+
 struct IsophoteOptions {
   std::optional<double> level;       // image units above the sky
   double level_radius_factor = 2.0;  // in half-light radii, when level is not given
@@ -53,7 +63,14 @@ struct IsophoteOptions {
   double tolerance_pixels = 1e-6;
   double min_valid_fraction = 0.5;   // of the samples along the ellipse
   std::optional<PixelCoord> start;   // default: the segment's first moment
+  // Warm start (the bootstrap's draws about a point estimate): iterate from
+  // this ellipse instead of the first guess brought to the level by
+  // bisection. `level` should then be set too.
+  std::optional<IsophoteEllipse> start_ellipse;
 };
+
+// The converged ellipse of a successful estimate (from its details).
+IsophoteEllipse isophote_ellipse(const PixelEstimate& e);
 
 // The isophote level that would be used for `p` (image units above the sky).
 double isophote_level(const PreparedImage& p, const std::vector<double>& data, double noise_rms,

@@ -3,16 +3,23 @@
 // measure_photometric_centres() prepares the image (sky, masks, galaxy; see
 // prepared_image.hpp) and runs the five estimators:
 //   photometric-peak      peak.hpp        uncertainty: noise bootstrap
-//   photometric-centroid  centroid.hpp    uncertainty: noise bootstrap
+//   photometric-centroid  centroid.hpp    uncertainty: closed form
 //   photometric-profile   profile_fit.hpp uncertainty: fit covariance (Ceres)
 //   photometric-isophote  isophote.hpp    uncertainty: noise bootstrap
 //   photometric-symmetry  symmetry.hpp    uncertainty: noise bootstrap
 // Each result carries RA/Dec (degrees, the image's frame), the FITS pixel
 // position (first pixel centre = 1), the 2x2 covariance in arcsec^2 on
 // (east, north) -- C_sky = J C_pix J^T with J = d(east, north)/d(x, y) --,
-// `uncertainty_method` ("fit-covariance" or "noise-bootstrap"), and a status
+// `uncertainty_method` ("fit-covariance", "closed-form" or
+// "noise-bootstrap"), and a status
 // ("ok" or "failed") with a reason when it failed. The profile, isophote and
 // symmetry estimators start from the centroid when it succeeded.
+//
+// The bootstraps' draws add noise only where an estimator reads
+// (bootstrap.hpp): the peak's draws smooth and search a box about the
+// peak, the isophote's start from the converged ellipse (no search for the
+// level) and read near it, the symmetry's read its apertures; the boxes are
+// in photometric_centres.cpp.
 //
 // The whole image being unusable (no WCS, too small, a mask on another grid)
 // is an InputError; an unknown PSF size, a flat image, no galaxy or a
@@ -64,7 +71,7 @@ struct PhotometryOptions {
 // FITS pixel, status and reason) and how its uncertainty was found.
 struct PhotometricMeasurement {
   Centre centre;
-  std::string uncertainty_method;  // "fit-covariance" or "noise-bootstrap"
+  std::string uncertainty_method;  // "fit-covariance", "closed-form" or "noise-bootstrap"
   int bootstrap_draws = 0;         // succeeded draws, for the bootstrap
   nlohmann::json details = nlohmann::json::object();
   bool ok() const { return centre.ok(); }

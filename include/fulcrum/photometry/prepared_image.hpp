@@ -80,6 +80,20 @@ struct PreparedImage {
 
 PreparedImage prepare_image(const Image& image, const Image* mask, const PreparationOptions& options);
 
+// A box of 0-based pixels, corners inclusive.
+struct PixelBox {
+  int x0 = 0, y0 = 0, x1 = -1, y1 = -1;
+  bool empty() const { return x1 < x0 || y1 < y0; }
+};
+
+// The part of `p` inside `b` (not empty, on the image): the per-pixel
+// arrays cut to the box, everything else copied; pixel (x, y) of the cut is
+// pixel (x + b.x0, y + b.y0) of `p`, and `guess` is moved with it.
+PreparedImage cut_out(const PreparedImage& p, const PixelBox& b);
+
+// The values of `data` (p.nx * p.ny) inside `b`, row by row, into `out`.
+void cut_values(const std::vector<double>& data, int nx, const PixelBox& b, std::vector<double>& out);
+
 // Bilinear interpolation of `d` (nx*ny, x fastest) at the 0-based point
 // (x, y); NaN when any of the four neighbours is NaN or off the grid.
 double bilinear(const std::vector<double>& d, int nx, int ny, double x, double y);

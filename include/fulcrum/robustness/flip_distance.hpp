@@ -32,6 +32,10 @@ struct FlipOptions {
   double tail_pa_err_deg = 0.0;   // half-width of the angle range
   double angle_step_deg = 1.0;    // grid step over the range (refined to fit it)
   SkyOffset centre;               // c0 in the problem's frame
+  // Offsets at which the sign of A is recorded for every angle of the range
+  // (AngleFlip::probe_signs): the plausible-centre check (verdict.hpp) then
+  // reads them instead of building the angles' engines again.
+  std::vector<SkyOffset> probes;
 };
 
 struct AngleFlip {
@@ -42,6 +46,8 @@ struct AngleFlip {
   double distance_arcsec = 0.0;   // |s0 - s_zero| (0 if the sign is already reversed)
   double direction_pa_deg = 0.0;  // PA of the move that flips the sign
   bool already_reversed = false;  // sign at c0 differs from the nominal sign
+  SkyOffset normal;               // the split's normal n (the engine's)
+  std::vector<int> probe_signs;   // sign of A at each of FlipOptions::probes (per_angle only)
 };
 
 struct FlipSummary {
@@ -51,6 +57,12 @@ struct FlipSummary {
   double nominal_beams = 0.0;     // distance in beams along the direction
   double worst_beams = 0.0;
   int nominal_sign = 0;
+  // What per_angle was computed for: angles_deg[k] is the tail PA (deg, as
+  // given, not wrapped) of per_angle[k]; the centre and probes of the options.
+  std::vector<double> angles_deg;
+  SkyOffset centre;
+  double nominal_tail_pa_deg = 0.0;
+  std::vector<SkyOffset> probes;
 };
 
 // The zero of A(s) nearest to s0 on one engine (nullopt when A keeps its sign

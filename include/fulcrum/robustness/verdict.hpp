@@ -111,8 +111,12 @@ struct VerdictSummary {
 void detection_stats(const split::SplitProblem& problem, const VerdictOptions& options,
                      double* total_snr, double* detected_beams);
 
+// `flip` (optional): the flip distance of the same problem. Its angles that
+// the check also needs (the same tail PA to the last bit, the same centre,
+// and probes at the successful estimates in order) are read from it instead
+// of building their engines again; the result is the same.
 PlausibleCheck check_plausible_centres(const split::SplitProblem& problem, const VerdictInput& in,
-                                       const VerdictOptions& options);
+                                       const VerdictOptions& options, const FlipSummary* flip = nullptr);
 
 VerdictSummary decide(const split::SplitProblem& problem, const split::SplitSummary& nominal,
                       const FlipSummary& flip, const BootstrapSummary& boot,
