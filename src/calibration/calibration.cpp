@@ -251,10 +251,22 @@ void setup_velocity(MockSetup& m, const RadialProfile& profile, double e_lopside
   rs.pa_deg = in.pa_deg, rs.inc_deg = in.inc_deg, rs.vsys_kms = in.vsys_kms;
   rs.correct_beam_smearing = m.opt.correct_beam_smearing;  // the mock velocities are smeared like the data
   rs.beam = beam;
+  rs.expected_residual_fraction = in.expected_residual_fraction;
   m.refitter.emplace(vgrid, in.velocity_error, std::move(line_on_vgrid), rs);
   m.velocity_sigma = m.refitter->pixel_sigma();
   for (double& s : m.velocity_sigma)
     if (!std::isfinite(s)) s = in.velocity_noise_kms;
+  // Without the data fit's value, one noise-free re-fit of the symmetric
+  // disc computes it for all (the expectation does not depend on the noise).
+  if (!(rs.expected_residual_fraction > 0.0)) {
+    try {
+      const auto f = m.refitter->fit(m.velocity[0], 0);
+      if (f.status == "ok" && f.centre_errors.applied)
+        m.refitter->share_expected_residual_fraction(f.centre_errors.expected_residual_fraction);
+    } catch (const std::exception&) {
+      // Each re-fit computes its own.
+    }
+  }
   // The same grid and kernel: the velocity noise is the second field of the
   // line noise's transform; otherwise a generator of its own.
   const Eigen::Matrix2d vk = noise_kernel(beam, voff.jacobian(), in.noise_correlation_beams);

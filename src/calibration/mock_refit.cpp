@@ -27,6 +27,7 @@ MockRefit::MockRefit(const Image& velocity, const Image* velocity_error, std::ve
   ko.inc_guess_deg = setup.inc_deg;
   ko.vsys_guess_kms = setup.vsys_kms;
   ko.starts.enabled = false;
+  ko.expected_residual_fraction = setup.expected_residual_fraction;
   ko.correct_beam_smearing = setup.correct_beam_smearing && beam_.has_value();
 
   grids_.resize(models_.size());

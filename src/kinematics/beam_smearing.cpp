@@ -105,6 +105,57 @@ std::vector<double> smear_moment1(const std::vector<double>& velocity,
   return out;
 }
 
+std::vector<std::vector<double>> smear_moment1_fields(const std::vector<std::vector<double>>& fields,
+                                                      const std::vector<double>& intensity, int nx, int ny,
+                                                      const Eigen::Matrix2d& pixel_cov,
+                                                      const std::vector<unsigned char>& where,
+                                                      double truncate_sigma) {
+  const std::size_t n = static_cast<std::size_t>(nx) * static_cast<std::size_t>(ny);
+  const std::size_t p = fields.size();
+  FULCRUM_CHECK(intensity.size() == n, n, intensity.size());
+  FULCRUM_CHECK(where.empty() || where.size() == n, n, where.size());
+  std::vector<std::vector<double>> out(p, std::vector<double>(n, kNaN));
+  if (p == 0) return out;
+  const PixelKernel kernel = gaussian_kernel(pixel_cov, truncate_sigma);
+  // Emission I, and I times every field interleaved per pixel ([pixel][field]).
+  std::vector<double> w(n, 0.0), wv(n * p, 0.0);
+  for (std::size_t i = 0; i < n; ++i) {
+    const double I = intensity[i];
+    if (!(std::isfinite(I) && I > 0)) continue;
+    w[i] = I;
+    for (std::size_t c = 0; c < p; ++c) {
+      FULCRUM_CHECK(fields[c].size() == n, n, fields[c].size());
+      wv[i * p + c] = I * fields[c][i];
+    }
+  }
+  const int hx = kernel.hx, hy = kernel.hy, kw = 2 * hx + 1;
+  std::vector<double> num(p);
+  for (int y = 0; y < ny; ++y) {
+    for (int x = 0; x < nx; ++x) {
+      const std::size_t i = idx(x, y, nx);
+      if (!where.empty() && !where[i]) continue;
+      const int dx_lo = std::max(-hx, x - (nx - 1)), dx_hi = std::min(hx, x);
+      const int dy_lo = std::max(-hy, y - (ny - 1)), dy_hi = std::min(hy, y);
+      std::fill(num.begin(), num.end(), 0.0);
+      double den = 0.0;
+      for (int dy = dy_lo; dy <= dy_hi; ++dy) {
+        const double* krow = &kernel.weight[static_cast<std::size_t>(kw) * (dy + hy) + hx];
+        for (int dx = dx_lo; dx <= dx_hi; ++dx) {
+          const std::size_t j = idx(x - dx, y - dy, nx);
+          if (w[j] == 0.0) continue;
+          const double k = krow[dx];
+          den += k * w[j];
+          const double* v = &wv[j * p];
+          for (std::size_t c = 0; c < p; ++c) num[c] += k * v[c];
+        }
+      }
+      if (den > 0)
+        for (std::size_t c = 0; c < p; ++c) out[c][i] = num[c] / den;
+    }
+  }
+  return out;
+}
+
 SmearingGrid make_smearing_grid(const Image& velocity, const VelocitySamples& s,
                                 WorldCoord reference, const Beam& beam, const Image* intensity) {
   SmearingGrid g;

@@ -212,8 +212,9 @@ Eigen::MatrixXd smeared_jacobian(const NormalSystem& ns, const VelocitySamples& 
     for (int a = 0; a < m; ++a) col[nz[a].first][b] += nz[a].second;
   }
   Eigen::MatrixXd Js = Eigen::MatrixXd::Zero(ns.p, static_cast<Eigen::Index>(s.size()));
+  const auto smeared = smear_moment1_fields(col, g.intensity, g.nx, g.ny, g.pixel_cov, g.wanted);
   for (int c = 0; c < ns.p; ++c) {
-    const std::vector<double> sm = smear_moment1(col[c], g.intensity, g.nx, g.ny, g.pixel_cov, g.wanted);
+    const std::vector<double>& sm = smeared[static_cast<std::size_t>(c)];
     for (std::size_t i = 0; i < s.size(); ++i) {
       if (!fit.used[i] || !(ns.w[i] > 0.0)) continue;
       const std::size_t b = g.sample_pixel[i];
@@ -387,8 +388,10 @@ GeometryCovariance geometry_covariance(const VelocitySamples& s, const GlobalFit
   out.correlation = measure_residual_correlation(grid, ns.z, fit.used, beam, opt.correlation);
   const NoiseCorrelation model_corr =
       s.beam ? scaled_beam_correlation(*s.beam, out.model_correlation_scale) : NoiseCorrelation{};
-  const double expected = expected_residual_sum(ns, G, Js.size() > 0 ? &Js : nullptr, s, fit.used, opt.radial,
-                                                grid, model_corr, opt.reach_sigma);
+  const double expected = opt.expected_residual_fraction > 0.0
+                              ? opt.expected_residual_fraction * ns.used
+                              : expected_residual_sum(ns, G, Js.size() > 0 ? &Js : nullptr, s, fit.used,
+                                                      opt.radial, grid, model_corr, opt.reach_sigma);
   // A fit that absorbs (nearly) everything leaves no residual to scale by:
   // at least one tenth of the samples' worth is kept as degrees of freedom.
   out.effective_dof = std::max(0.1 * ns.used, expected);

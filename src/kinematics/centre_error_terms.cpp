@@ -25,6 +25,7 @@ CentreErrorTerms centre_error_terms(const VelocitySamples& s, const GlobalFitSum
   t.correlation = gc.correlation;
   t.model_correlation_scale = gc.model_correlation_scale;
   t.effective_dof = gc.effective_dof;
+  t.expected_residual_fraction = gc.n_used > 0 ? gc.effective_dof / gc.n_used : 0.0;
   t.smeared_jacobian = gc.smeared_jacobian;
   if (!gc.ok) {
     t.reason = "the residual covariance could not be computed (" + gc.reason + "): the formal one is kept";

@@ -75,8 +75,9 @@ nlohmann::json centre_json(const Centre& c, const OffsetFrame& frame) {
 // vsys errors by the residual-based ones plus the method spread
 // (centre_error_terms.hpp, docs/uncertainties.md).
 void apply_centre_error_terms(KinematicFit& fit, const VelocitySamples& fitted, const GlobalFitOptions& go,
-                              const SmearingGrid* smearing) {
+                              const SmearingGrid* smearing, double expected_residual_fraction) {
   GeometryCovarianceOptions co;
+  co.expected_residual_fraction = expected_residual_fraction;
   co.smearing = smearing;
   co.smearing_refits = fit.beam_smearing.refits;
   co.weight_power = go.weight_power;
@@ -757,7 +758,8 @@ KinematicFit fit_kinematics_samples(const VelocitySamples& s, const OffsetFrame&
   }
   const VelocitySamples observed = with_scatter(s, fit.scatter.scatter_kms);
   finish_centres(fit, observed, fitted, wcs, opt, width, g.max_radius_arcsec);
-  if (opt.residual_covariance) apply_centre_error_terms(fit, fitted, go, corrected ? smearing : nullptr);
+  if (opt.residual_covariance)
+    apply_centre_error_terms(fit, fitted, go, corrected ? smearing : nullptr, opt.expected_residual_fraction);
   if (opt.method == Method::harmonic) {
     if (!fit.harmonic_centre) {
       refuse(fit, "the harmonic centre failed: " + fit.harmonic_status);

@@ -24,6 +24,7 @@ bool put_fitted_disc(const kinematics::KinematicFit& fit, calibration::MatchedIn
   in.inc_deg = fit.inc_deg;
   in.vsys_kms = fit.vsys_kms;
   in.velocity_scatter_kms = fit.scatter.scatter_kms;
+  in.expected_residual_fraction = fit.centre_errors.expected_residual_fraction;
   for (const auto& r : fit.rings) {
     if (!std::isfinite(r.node.radius_arcsec) || !std::isfinite(r.node.vrot_kms)) continue;
     in.ring_radius_arcsec.push_back(r.node.radius_arcsec);
@@ -52,6 +53,7 @@ calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMa
   in.inc_deg = fit.inc_deg;
   in.vsys_kms = fit.vsys_kms;
   in.velocity_scatter_kms = fit.scatter.scatter_kms;
+  in.expected_residual_fraction = fit.centre_errors.expected_residual_fraction;
   for (const auto& r : s.kinematics->rings) {
     if (!std::isfinite(r.radius_arcsec) || !std::isfinite(r.vrot_kms)) continue;
     in.ring_radius_arcsec.push_back(r.radius_arcsec);

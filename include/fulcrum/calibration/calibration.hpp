@@ -75,6 +75,10 @@ struct MatchedInputs {
   // velocities as a field of its own with the noise's beam correlation, so
   // that the re-fits see what the real fit saw.
   double velocity_scatter_kms = 0.0;
+  // E0[sum z^2] / N of the data fit's residual scale (centre_covariance.hpp),
+  // shared by the re-fitted mocks (same footprint and disc); 0: each re-fit
+  // computes its own.
+  double expected_residual_fraction = 0.0;
   // The fitted kinematics: the kinematic tilted-ring centre (position and
   // covariance in arcsec^2 (east, north); the mocks' true centre).
   Centre centre;

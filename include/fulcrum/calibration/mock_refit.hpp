@@ -40,6 +40,7 @@ struct MockRefitSetup {
   double pa_deg = 0.0, inc_deg = 45.0, vsys_kms = 0.0;
   bool correct_beam_smearing = true;
   std::optional<Beam> beam;          // the velocity map's beam, else the line map's (none: no correction)
+  double expected_residual_fraction = 0.0;  // the data fit's, shared by every re-fit (0: each computes it)
 };
 
 class MockRefit {
@@ -60,6 +61,9 @@ class MockRefit {
 
   // Re-fit mock `mock_velocity` (km/s, on the velocity grid) of set `set`.
   kinematics::KinematicFit fit(const std::vector<double>& mock_velocity, int set) const;
+  // Share E0[sum z^2] / N (centre_covariance.hpp) among the re-fits: it
+  // depends on the footprint, the errors and the disc, not on the noise.
+  void share_expected_residual_fraction(double f) { options_.expected_residual_fraction = f; }
 
  private:
   const Image& velocity_;

@@ -69,6 +69,17 @@ std::vector<double> smear_moment1(const std::vector<double>& velocity,
                                   const std::vector<unsigned char>& where = {},
                                   double truncate_sigma = 4.0);
 
+// The same for several fields at once with one intensity: fields[c] holds
+// field c (nx * ny, every value finite); the result's [c] is field c smeared.
+// B * I is computed once and the numerators of all fields in one pass, so p
+// fields cost about what two single ones do (the Jacobian's columns,
+// centre_covariance.cpp).
+std::vector<std::vector<double>> smear_moment1_fields(const std::vector<std::vector<double>>& fields,
+                                                      const std::vector<double>& intensity, int nx, int ny,
+                                                      const Eigen::Matrix2d& pixel_cov,
+                                                      const std::vector<unsigned char>& where = {},
+                                                      double truncate_sigma = 4.0);
+
 // The part of the velocity map the correction works on: the bounding box of
 // the samples' pixels grown by the kernel's reach, with every box pixel's sky
 // offset and intensity weight.

@@ -75,6 +75,10 @@ struct GeometryCovarianceOptions {
   // the fitted samples, in order): the bread uses the smeared Jacobian.
   const SmearingGrid* smearing = nullptr;
   int smearing_refits = 0;       // K, the refits the correction made
+  // E0[sum z^2] / N when it is known already (> 0): mocks of one fitted disc
+  // share the data fit's value instead of each computing it (the trace
+  // formula is most of the covariance's cost); 0: computed here.
+  double expected_residual_fraction = 0.0;
   ResidualCorrelationOptions correlation;
 };
 

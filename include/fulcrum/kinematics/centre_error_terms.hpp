@@ -41,6 +41,7 @@ struct CentreErrorTerms {
   double model_correlation_scale = 1.0;
   SkyOffset adopted;                // the global fit's centre (arcsec from the reference)
   double effective_dof = 0.0;       // of the residual scale (centre_covariance.hpp)
+  double expected_residual_fraction = 0.0;  // effective_dof / pixels used
   bool smeared_jacobian = false;    // the sandwich's bread allows for the beam-smearing correction
   std::vector<MethodCentre> methods;
   std::string dominant;             // "statistical", "model_misfit" or "method_spread"

@@ -96,6 +96,9 @@ struct KinematicOptions {
   // between centre methods (centre_error_terms.hpp); off: the formal
   // covariance scaled by reduced chi^2 and eta.
   bool residual_covariance = true;
+  // E0[sum z^2] / N of the residual scale, when shared from another fit of
+  // the same disc (calibration mocks); 0: computed (centre_covariance.hpp).
+  double expected_residual_fraction = 0.0;
   // Refusal thresholds.
   int min_pixels = 60;
   double min_pixels_per_parameter = 5.0;
