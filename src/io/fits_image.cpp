@@ -184,6 +184,9 @@ struct RawArray {
   std::vector<double> data;
   std::string header;
   MissingValueCounts missing;
+  // The celestial WCS, parsed from the header before any pixel is read, so
+  // that a bad WCS is refused without reading (or allocating) the data.
+  std::optional<CelestialWcs> wcs;
 };
 
 // "100 x 80": the axis lengths as a person reads them.
@@ -248,6 +251,9 @@ RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt
                                  std::to_string(need) + " bytes with the header) but the file "
                                  "holds " + std::to_string(available) + " bytes");
   }
+  // The WCS before the pixels: a 14000 x 14000 image with a bad WCS is
+  // refused from its header, not after reading 1.6 GB.
+  if (r.naxes.size() >= 2) r.wcs = CelestialWcs::from_header(r.header, name);
   r.data.resize(n);
   std::vector<char> nulls(n, 0);
   std::vector<long> fpixel(static_cast<std::size_t>(naxis), 1);
@@ -304,7 +310,7 @@ Image image_from_raw(RawArray&& r, const std::string& name) {
   img.data = std::move(r.data);
   img.header = std::move(r.header);
   img.path = name;
-  img.wcs = CelestialWcs::from_header(img.header, name);
+  img.wcs = r.wcs ? std::move(*r.wcs) : CelestialWcs::from_header(img.header, name);
   img.beam = read_beam(img.header, name);
   img.unit = trim(header_value(img.header, "BUNIT").value_or(""));
   warn_if_beam_below_pixel(img.beam, img.wcs, img.nx, img.ny, name);
@@ -495,7 +501,7 @@ Cube read_cube(const std::string& path, const ReadOptions& options) {
   c.data = std::move(r.data);
   c.header = std::move(r.header);
   c.path = path;
-  c.wcs = CelestialWcs::from_header(c.header, path);
+  c.wcs = r.wcs ? std::move(*r.wcs) : CelestialWcs::from_header(c.header, path);
   c.beam = read_beam(c.header, path);
   c.unit = trim(header_value(c.header, "BUNIT").value_or(""));
   return c;
