@@ -352,6 +352,11 @@ def make_bad_inputs(d):
     dup = dup[: at + 1] + [card("CRVAL1", repr(float(RA0) + 1.0))] + dup[at + 1:]
     write_bytes(p("vel_duplicate_crval1.fits"), raw_fits(dup + [card("BUNIT", "'km/s'"), card("END", "")],
                                                          np.asarray(vel, dtype=">f4").tobytes()))
+    # A huge BMIN (BMAJ fine): once passed the beam check and ran moments out of memory.
+    hbm = h3.copy()
+    hbm["BMAJ"], hbm["BMIN"], hbm["BPA"] = BMAJ, 99999999999.0, 0.0
+    fits.PrimaryHDU((np.zeros((3, NY, NX)) + mom0).astype(np.float32), header=hbm).writeto(
+        p("cube_bmin_huge.fits"), overwrite=True)
     import gzip
     with open(p("good_mom0.fits"), "rb") as f, gzip.open(p("good_mom0.fits.gz"), "wb") as g:
         g.write(f.read())

@@ -4,6 +4,7 @@
 #include <csignal>
 #include <cstdio>
 #include <cstdlib>
+#include <filesystem>
 #include <iostream>
 #include <map>
 
@@ -67,6 +68,18 @@ std::string memory_hint(const CLI::App& app) {
     if (auto it = hints.find(sub->get_name()); it != hints.end()) hint = it->second;
   return hint.empty() ? " (give smaller inputs, or refuse larger ones with --max-pixels)"
                       : " (lower " + hint + ", or give smaller inputs: --max-pixels refuses larger ones)";
+}
+
+// "PATH: reason", naming a dangling link on the way when there is one (the
+// system says only "File exists" for it).
+std::string filesystem_problem(const std::filesystem::filesystem_error& e) {
+  namespace fs = std::filesystem;
+  if (e.path1().empty()) return e.code().message();
+  std::error_code ec;
+  for (fs::path p = e.path1(); !p.empty() && p != p.root_path(); p = p.parent_path())
+    if (fs::is_symlink(fs::symlink_status(p, ec)) && !fs::exists(p, ec))
+      return p.string() + ": is a symbolic link to " + fs::read_symlink(p, ec).string() + ", which does not exist";
+  return e.path1().string() + ": " + e.code().message();
 }
 
 }  // namespace
@@ -140,6 +153,11 @@ int main(int argc, char** argv) {
   } catch (const InternalError& e) {
     std::cerr << "fulcrum: " << e.what() << " (please report this)\n";
     return 3;
+  } catch (const std::filesystem::filesystem_error& e) {
+    // A folder or file that cannot be made (a dangling link, a read-only
+    // folder): one line with the path and the reason, as for bad input.
+    std::cerr << "fulcrum: " << filesystem_problem(e) << "\n";
+    return 2;
   } catch (const std::bad_alloc&) {
     std::cerr << "fulcrum: out of memory" << memory_hint(app) << "\n";
     return 3;

@@ -138,9 +138,11 @@ std::optional<Beam> read_beam(const std::string& header, const std::string& name
       !std::isfinite(b.bmin_arcsec))
     throw InputError(name, "beam BMAJ/BMIN must be positive (degrees), got BMAJ=" + *bmaj +
                                " BMIN=" + *bmin);
-  if (b.bmaj_arcsec > 3600.0)
-    throw InputError(name, "beam BMAJ = " + *bmaj + " deg is absurd for a galaxy map; FITS "
-                                                    "gives BMAJ/BMIN in degrees (was it arcsec?)");
+  // Either axis (BMIN > BMAJ is swapped below; a huge BMIN once passed this
+  // check and made moments run out of memory: process fuzzing, issue 17).
+  if (b.bmaj_arcsec > 3600.0 || b.bmin_arcsec > 3600.0)
+    throw InputError(name, "beam " + std::string(b.bmaj_arcsec > 3600.0 ? "BMAJ = " + *bmaj : "BMIN = " + *bmin) +
+                               " deg is absurd for a galaxy map; FITS gives BMAJ/BMIN in degrees (was it arcsec?)");
   if (b.bmin_arcsec > b.bmaj_arcsec) std::swap(b.bmin_arcsec, b.bmaj_arcsec);
   return b;
 }
