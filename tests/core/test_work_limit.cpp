@@ -35,7 +35,7 @@ TEST_CASE("work limit: estimates as text", "[core][limits]") {
   CHECK(estimate_text(1.6e11) == "1.6e+11");
 }
 
-TEST_CASE("work limit: one scale raises every limit, within [1, 1e6]", "[core][limits]") {
+TEST_CASE("work limit: one scale raises every limit, from 1 to 1e6", "[core][limits]") {
   CHECK(work_limit_scale() == 1.0);  // the test runner sets no FULCRUM_LIMIT_SCALE
   CHECK_THROWS_AS(check_work_limit("step_arcsec", "0.1", "the scan grid", 5e8, 1e8, "points"), SettingError);
   set_work_limit_scale(10.0);
