@@ -558,6 +558,9 @@ GalaxySummary run_one(const GalaxyInput& g, const AnalysisOptions& ao, const Sam
     res.name = g.name;
     res.summary = failed_galaxy(g, failed, ao);
   }
+  // An unusable input stops only this galaxy, but is said on stderr.
+  if (!res.summary.unusable_file.empty())
+    warn(g.name + ": " + res.summary.unusable_file + ": " + res.summary.unusable_problem + " (listed as undetermined)");
   res.summary.sample = ref;
   res.report = to_json(res.summary);
   try {
