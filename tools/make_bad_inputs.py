@@ -314,6 +314,56 @@ def make_bad_inputs(d):
     with open(p("manifest_binary.toml"), "wb") as f:
         f.write(bytes(range(256)) * 4)
 
+    # --- issue 17, round two: keywords that read but mean nothing usable --
+    hlp = celestial_header()
+    hlp["LONPOLE"] = 1e300
+    write(p("vel_lonpole_huge.fits"), vel, hlp, "km/s")
+    htiny = celestial_header()
+    htiny["CDELT1"], htiny["CDELT2"] = -1e-15, 1e-15
+    write(p("vel_cdelt_tiny.fits"), vel, htiny, "km/s")
+    write(p("mom0_cdelt_tiny.fits"), mom0, htiny, "Jy/beam.km/s")
+    hct = h3.copy()
+    hct["CDELT3"] = "ten km/s"
+    write(p("cube_cdelt3_text.fits"), np.zeros((3, NY, NX)) + mom0, hct, "Jy/beam")
+    hgal = celestial_header()
+    hgal["CTYPE1"], hgal["CTYPE2"] = "GLON-SIN", "GLAT-SIN"
+    write(p("vel_galactic.fits"), vel, hgal, "km/s")
+    write(p("mom0_galactic.fits"), mom0, hgal, "Jy/beam.km/s")
+    hecl = celestial_header()
+    hecl["CTYPE1"], hecl["CTYPE2"] = "ELON-SIN", "ELAT-SIN"
+    write(p("mom0_ecliptic.fits"), mom0, hecl, "Jy/beam.km/s")
+    hfk4 = celestial_header()
+    hfk4["RADESYS"], hfk4["EQUINOX"] = "FK4", 1950.0
+    write(p("vel_fk4_b1950.fits"), vel, hfk4, "km/s")
+    write(p("mom0_no_bunit.fits"), mom0, h, None)
+    write(p("mom0_bunit_kms.fits"), mom0, h, "km/s")
+    vinf = vel.copy()
+    idx = np.argwhere(np.isfinite(vel))[:5]
+    for (yy, xx) in idx:
+        vinf[yy, xx] = np.inf
+    write(p("vel_inf_pixels.fits"), vinf, h, "km/s")
+    # A line map shifted by 3 arcsec (1.5 pixels) against the velocity field.
+    hshift = celestial_header()
+    hshift["CRPIX1"] = hshift["CRPIX1"] + 3.0 / PIX_ARCSEC
+    write(p("mom0_shifted_3arcsec.fits"), mom0, hshift, "Jy/beam.km/s")
+    # Two CRVAL1 cards (the second 1 degree away).
+    dup = good_cards()
+    at = [i for i, c in enumerate(dup) if c.startswith("CRVAL1")][0]
+    dup = dup[: at + 1] + [card("CRVAL1", repr(float(RA0) + 1.0))] + dup[at + 1:]
+    write_bytes(p("vel_duplicate_crval1.fits"), raw_fits(dup + [card("BUNIT", "'km/s'"), card("END", "")],
+                                                         np.asarray(vel, dtype=">f4").tobytes()))
+    # A huge BMIN (BMAJ fine): once passed the beam check and ran moments out of memory.
+    hbm = h3.copy()
+    hbm["BMAJ"], hbm["BMIN"], hbm["BPA"] = BMAJ, 99999999999.0, 0.0
+    fits.PrimaryHDU((np.zeros((3, NY, NX)) + mom0).astype(np.float32), header=hbm).writeto(
+        p("cube_bmin_huge.fits"), overwrite=True)
+    import gzip
+    with open(p("good_mom0.fits"), "rb") as f, gzip.open(p("good_mom0.fits.gz"), "wb") as g:
+        g.write(f.read())
+    hdu = fits.CompImageHDU(mom0.astype(np.float32), header=h)
+    hdu.header["BUNIT"] = "Jy/beam.km/s"
+    fits.HDUList([fits.PrimaryHDU(), hdu]).writeto(p("mom0_tile_compressed.fits"), overwrite=True)
+
 
 def make_corpus(d):
     """Small valid and near-valid FITS seeds for the fuzzer (each <= 3 blocks)."""

@@ -7,11 +7,15 @@
 #include <filesystem>
 #include <iostream>
 #include <memory>
+#include <optional>
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/io/distinct_paths.hpp"
+#include "fulcrum/io/staged_folder.hpp"
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
+#include "fulcrum/pipeline/galaxy_stages.hpp"
 #include "fulcrum/pipeline/report_reader.hpp"
 #include "fulcrum/pipeline/input_settings.hpp"
 #include "fulcrum/pipeline/sample_run.hpp"
@@ -45,32 +49,47 @@ void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
   const int calibrate = setting::calibrate(a.calibrate);
   const std::uint64_t seed = setting::seed(a.seed);
   namespace fs = std::filesystem;
-  if (fs::exists(fs::path(a.out) / "report.json") && !cli::global_flags().force)
-    throw InputError(a.out, "already holds a report.json (use --force to overwrite)");
-  if (fs::exists(a.out) && !fs::is_directory(a.out))
-    throw InputError(a.out, "exists and is not a folder: choose another output folder");
+  check_inputs_outside_folder(cli::galaxy_input_paths(in), {"out", a.out});
+  // Every input map read and checked before the output folder is made: an
+  // unusable one is a one-line refusal, exit 2 (docs/reliability.md).
+  std::optional<pipeline::GalaxyMaps> maps;
+  if (in.cube.empty()) maps = pipeline::load_galaxy_maps(in);
+  // One writer: a private staging folder beside --out, renamed into place at
+  // the end; a failed or killed run leaves --out as it was.
+  StagedFolder out(a.out, cli::global_flags().force);
+  const std::string dir = out.path();
+  try {
+    if (!in.cube.empty()) {
+      note("making the moment maps of " + in.cube);
+      in = pipeline::make_maps_from_cube(in, dir);
+    }
 
-  if (!in.cube.empty()) {
-    note("making the moment maps of " + in.cube);
-    in = pipeline::make_maps_from_cube(in, a.out);
+    pipeline::AnalysisOptions o;
+    o.seed = seed;
+    o.draws = draws;
+    o.figures = !a.no_figures;
+    o.calibrate = calibrate;
+    o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a.bootstrap_centres);
+    note("analysing " + in.name);
+    auto r = maps ? pipeline::analyse_galaxy(in, std::move(*maps), o) : pipeline::analyse_galaxy(in, o);
+    // An input a stage found unusable (a velocity map in m/s labelled km/s, a
+    // map the fit cannot use): refused like an unreadable one; nothing is
+    // written (docs/reliability.md, exit codes).
+    if (!r.summary.unusable_file.empty()) throw InputError(r.summary.unusable_file, r.summary.unusable_problem);
+    pipeline::write_galaxy_outputs(r, dir);
+    // The page and the summary say what report.json says (the one reader).
+    const auto g = pipeline::read_report(r.report, (fs::path(a.out) / "report.json").string());
+    pipeline::write_galaxy_html(dir, g);
+    out.commit();
+    for (const auto& n : r.notes) warn(in.name + ": " + n);
+    std::cout << g.statement << "\n\n"
+              << pipeline::summary_text({g}) << "\nreport: " << (fs::path(a.out) / "report.json").string()
+              << "\nfigures and page: " << (fs::path(a.out) / "report.html").string() << "\n";
+  } catch (const InputError& e) {
+    // A failed write names the file in --out, not the hidden staging folder.
+    if (e.file() == out.shown_in_target(e).file()) throw;
+    throw out.shown_in_target(e);
   }
-
-  pipeline::AnalysisOptions o;
-  o.seed = seed;
-  o.draws = draws;
-  o.figures = !a.no_figures;
-  o.calibrate = calibrate;
-  o.bootstrap_from_estimates = pipeline::bootstrap_centres_from_estimates(a.bootstrap_centres);
-  note("analysing " + in.name);
-  auto r = pipeline::analyse_galaxy(in, o);
- pipeline::write_galaxy_outputs(r, a.out);
-  // The page and the summary say what report.json says (the one reader).
-  const auto g = pipeline::read_report(r.report, (fs::path(a.out) / "report.json").string());
-  pipeline::write_galaxy_html(a.out, g);
-  for (const auto& n : r.notes) warn(in.name + ": " + n);
-  std::cout << g.statement << "\n\n"
-            << pipeline::summary_text({g}) << "\nreport: " << (fs::path(a.out) / "report.json").string()
-            << "\nfigures and page: " << (fs::path(a.out) / "report.html").string() << "\n";
 }
 
 }  // namespace

@@ -14,6 +14,8 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/distinct_paths.hpp"
+#include "fulcrum/io/staged_folder.hpp"
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/pipeline/galaxy_analysis.hpp"
 #include "fulcrum/pipeline/galaxy_stages.hpp"
@@ -46,58 +48,67 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
   const auto mock_draws = static_cast<std::size_t>(a.mock_draws);
   const auto refit_every = static_cast<std::size_t>(check_integer_in_range("refit_every", a.refit_every, 1, 100000));
   const fs::path out_file = fs::path(a.out) / "calibration.json";
-  if (fs::exists(out_file) && !cli::global_flags().force)
-    throw InputError(a.out, "already holds a calibration.json (use --force to overwrite)");
-
-  if (!in.cube.empty()) {
-    note("making the moment maps of " + in.cube);
-    in = pipeline::make_maps_from_cube(in, a.out);
-  }
-
-  // The analysis: a finished one read through the one reader of report.json,
-  // or run now. Either way the typed summary gives the matched inputs.
-  pipeline::GalaxySummary summary;
-  const std::string report_path = (fs::path(a.from) / "report.json").string();
-  if (!a.from.empty()) {
-    summary = pipeline::read_report_file(report_path);
-  } else {
-    pipeline::AnalysisOptions o;
-    o.seed = seed;
-    o.draws = draws;
-    o.figures = false;
-    note("analysing " + in.name);
-    summary = pipeline::analyse_galaxy(in, o).summary;
-  }
-  const auto maps = pipeline::load_galaxy_maps(in);
-  calibration::MatchedInputs mi;
+  auto inputs = cli::galaxy_input_paths(in);
+  inputs.emplace_back("from", a.from);
+  check_inputs_outside_folder(inputs, {"out", a.out});
+  // One writer: a staging folder beside --out, renamed into place at the end
+  // (io/staged_folder.hpp).
+  StagedFolder out(a.out, cli::global_flags().force);
   try {
-    mi = pipeline::matched_inputs(summary, maps);
+    if (!in.cube.empty()) {
+      note("making the moment maps of " + in.cube);
+      in = pipeline::make_maps_from_cube(in, out.path());
+    }
+
+    // The analysis: a finished one read through the one reader of report.json,
+    // or run now. Either way the typed summary gives the matched inputs.
+    pipeline::GalaxySummary summary;
+    const std::string report_path = (fs::path(a.from) / "report.json").string();
+    if (!a.from.empty()) {
+      summary = pipeline::read_report_file(report_path);
+    } else {
+      pipeline::AnalysisOptions o;
+      o.seed = seed;
+      o.draws = draws;
+      o.figures = false;
+      note("analysing " + in.name);
+      summary = pipeline::analyse_galaxy(in, o).summary;
+    }
+    const auto maps = pipeline::load_galaxy_maps(in);
+    calibration::MatchedInputs mi;
+    try {
+      mi = pipeline::matched_inputs(summary, maps);
+    } catch (const InputError& e) {
+      if (a.from.empty()) throw;
+      throw InputError(report_path, e.problem());  // name the report the summary came from
+    }
+    calibration::CalibrationOptions co;
+    co.n_mocks = mocks;
+    // The galaxy seed of the analysis unless --seed is given.
+    co.seed = summary.robustness && !cmd->count("--seed") ? summary.seed : seed;
+    co.n_draws = mock_draws;
+    co.refit_centre = !a.no_refit;
+    co.refit_every = refit_every;
+    co.chain.bootstrap_estimates = summary.bootstrap_from_estimates;
+    auto s = calibration::calibrate(mi, co);
+    nlohmann::json j = calibration::to_json(s, a.per_mock);
+    j["galaxy"] = s.galaxy;
+    j["verdict"] = robustness::verdict_name(summary.verdict);
+    j["mock_draws"] = co.n_draws;
+    j["refit_every"] = co.refit_centre ? nlohmann::json(co.refit_every) : nlohmann::json(nullptr);
+    j["seconds"] = s.seconds;
+    write_text_file(out.file("calibration.json"), pipeline::dump_json(j));
+    out.commit();
+    std::cout << s.galaxy << ": " << s.statement << ".\n"
+              << "bias of A " << s.bias << " +- " << s.bias_err << "; 68%/95% interval coverage "
+              << s.coverage68.rate << " / " << s.coverage95.rate << "; centre within 2 sigma "
+              << s.centre_coverage.rate << " of " << s.centre_coverage.n << " re-fits\n"
+              << "calibration: " << out_file.string() << "\n";
   } catch (const InputError& e) {
-    if (a.from.empty()) throw;
-    throw InputError(report_path, e.problem());  // name the report the summary came from
+    // A failed write names the file in --out, not the hidden staging folder.
+    if (e.file() == out.shown_in_target(e).file()) throw;
+    throw out.shown_in_target(e);
   }
-  calibration::CalibrationOptions co;
-  co.n_mocks = mocks;
-  // The galaxy seed of the analysis unless --seed is given.
-  co.seed = summary.robustness && !cmd->count("--seed") ? summary.seed : seed;
-  co.n_draws = mock_draws;
-  co.refit_centre = !a.no_refit;
-  co.refit_every = refit_every;
-  co.chain.bootstrap_estimates = summary.bootstrap_from_estimates;
-  auto s = calibration::calibrate(mi, co);
-  nlohmann::json j = calibration::to_json(s, a.per_mock);
-  j["galaxy"] = s.galaxy;
-  j["verdict"] = robustness::verdict_name(summary.verdict);
-  j["mock_draws"] = co.n_draws;
-  j["refit_every"] = co.refit_centre ? nlohmann::json(co.refit_every) : nlohmann::json(nullptr);
-  j["seconds"] = s.seconds;
-  fs::create_directories(a.out);
-  write_text_file(out_file.string(), pipeline::dump_json(j));
-  std::cout << s.galaxy << ": " << s.statement << ".\n"
-            << "bias of A " << s.bias << " +- " << s.bias_err << "; 68%/95% interval coverage "
-            << s.coverage68.rate << " / " << s.coverage95.rate << "; centre within 2 sigma "
-            << s.centre_coverage.rate << " of " << s.centre_coverage.n << " re-fits\n"
-            << "calibration: " << out_file.string() << "\n";
 }
 
 }  // namespace

@@ -9,6 +9,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
+#include "fulcrum/io/staged_folder.hpp"
 #include "fulcrum/pipeline/sample_run.hpp"
 #include "subcommand.hpp"
 
@@ -27,8 +28,8 @@ void run_demo(const DemoArgs& a, CLI::App* cmd) {
   set_quiet(cli::global_flags().quiet);
   fs::path data = fs::path(a.out) / "data";
   fs::path results = fs::path(a.out) / "results";
-  if (fs::exists(results / "sample.json") && !cli::global_flags().force)
-    throw InputError(a.out, "already holds a demo run; use --force to run it again");
+  // One demo run at a time into a folder; one holding anything needs --force.
+  const OutputLock lock(a.out, cli::global_flags().force);
   auto sample = synth::demo_sample();
   note("writing " + std::to_string(sample.size()) + " invented demo galaxies into " + data.string());
   std::string manifest = synth::write_sample(data.string(), sample, "Orrin cluster (invented demo sample)", 7);

@@ -47,6 +47,14 @@ inline std::vector<CLI::Option*> add_moment_options(CLI::App* cmd, MomentSetting
   return out;
 }
 
+// The files a galaxy is read from, with their settings (for the checks of
+// io/distinct_paths.hpp).
+inline std::vector<std::pair<std::string, std::string>> galaxy_input_paths(const pipeline::GalaxyInput& in) {
+  return {{"cube", in.cube},         {"velocity", in.velocity}, {"velocity_error", in.velocity_error},
+          {"intensity", in.intensity}, {"intensity_error", in.intensity_error}, {"optical", in.optical},
+          {"optical_mask", in.optical_mask}, {"tail_image", in.tail_image}};
+}
+
 // The inputs of one galaxy, as `analyse` and `calibrate` take them.
 struct GalaxyArgs {
   pipeline::GalaxyInput in;

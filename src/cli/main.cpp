@@ -4,11 +4,14 @@
 #include <csignal>
 #include <cstdio>
 #include <cstdlib>
+#include <filesystem>
 #include <iostream>
+#include <map>
 
 #include <glog/logging.h>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/core/version.hpp"
@@ -42,6 +45,43 @@ extern "C" void on_termination_signal(int sig) {
   std::signal(sig, SIG_DFL);
   std::raise(sig);
 }
+}  // namespace
+
+namespace {
+
+// What to lower when a command runs out of memory: the settings that size its
+// work (docs/reliability.md), then the input size.
+std::string memory_hint(const CLI::App& app) {
+  static const std::map<std::string, std::string> hints = {
+      {"analyse", "--draws or --calibrate"},
+      {"calibrate", "--mocks, --mock-draws or --draws"},
+      {"run", "--threads, --draws or --calibrate"},
+      {"demo", "--threads or --draws"},
+      {"scan", "the grid: a larger --step or --angle-step, a smaller --half-width or --angle-half-width"},
+      {"kinematics", "--max-radius or raise --ring-width"},
+      {"moments", "--grow-pixels or --grow-channels"},
+      {"photometry", "--bootstrap"},
+      {"synth", "--grid-nx/--grid-ny or --cube-n-channels"},
+  };
+  std::string hint;
+  for (const auto* sub : app.get_subcommands())
+    if (auto it = hints.find(sub->get_name()); it != hints.end()) hint = it->second;
+  return hint.empty() ? " (give smaller inputs, or refuse larger ones with --max-pixels)"
+                      : " (lower " + hint + ", or give smaller inputs: --max-pixels refuses larger ones)";
+}
+
+// "PATH: reason", naming a dangling link on the way when there is one (the
+// system says only "File exists" for it).
+std::string filesystem_problem(const std::filesystem::filesystem_error& e) {
+  namespace fs = std::filesystem;
+  if (e.path1().empty()) return e.code().message();
+  std::error_code ec;
+  for (fs::path p = e.path1(); !p.empty() && p != p.root_path(); p = p.parent_path())
+    if (fs::is_symlink(fs::symlink_status(p, ec)) && !fs::exists(p, ec))
+      return p.string() + ": is a symbolic link to " + fs::read_symlink(p, ec).string() + ", which does not exist";
+  return e.path1().string() + ": " + e.code().message();
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -78,6 +118,11 @@ int main(int argc, char** argv) {
                        : "must be a positive whole number, got '" + text + "'";
           },
           "POSITIVE"));
+  app.add_option_function<double>(
+         "--limit-scale", [](double f) { set_work_limit_scale(f); },
+         "Multiply the work limits (scan grid points, tilted rings, mock bootstrap draws) by this factor, "
+         "1 to 1e6 (default 1, or the FULCRUM_LIMIT_SCALE environment variable); images: --max-pixels")
+      ->configurable(false);
   app.fallthrough();
 
   auto entries = cli::subcommand_registry();
@@ -100,7 +145,7 @@ int main(int argc, char** argv) {
     return 2;
   } catch (const SettingError& e) {
     // A setting given on the command line: name its flag, not its manifest key.
-    std::cerr << "fulcrum: " << e.message_as(cli::setting_flag(e.setting())) << "\n";
+    std::cerr << "fulcrum: " << cli::with_flags(e.message_as(cli::setting_flag(e.setting()))) << "\n";
     return 2;
   } catch (const InputError& e) {
     std::cerr << "fulcrum: " << cli::with_flags(e.what()) << "\n";
@@ -108,8 +153,13 @@ int main(int argc, char** argv) {
   } catch (const InternalError& e) {
     std::cerr << "fulcrum: " << e.what() << " (please report this)\n";
     return 3;
+  } catch (const std::filesystem::filesystem_error& e) {
+    // A folder or file that cannot be made (a dangling link, a read-only
+    // folder): one line with the path and the reason, as for bad input.
+    std::cerr << "fulcrum: " << filesystem_problem(e) << "\n";
+    return 2;
   } catch (const std::bad_alloc&) {
-    std::cerr << "fulcrum: out of memory (try a smaller input or --max-pixels)\n";
+    std::cerr << "fulcrum: out of memory" << memory_hint(app) << "\n";
     return 3;
   } catch (const std::exception& e) {
     std::cerr << "fulcrum: " << e.what() << "\n";

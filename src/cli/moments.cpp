@@ -8,7 +8,8 @@
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/io/fits_image.hpp"
-#include "fulcrum/io/output_folder.hpp"
+#include "fulcrum/io/distinct_paths.hpp"
+#include "fulcrum/io/staged_folder.hpp"
 #include "fulcrum/moments/moment_maps.hpp"
 #include "fulcrum/moments/moment_settings.hpp"
 #include "galaxy_args.hpp"
@@ -26,11 +27,22 @@ void run_moments(MomentsCli& cli) {
   using namespace fulcrum;
   namespace fs = std::filesystem;
   const MomentOptions o = resolve_moment_settings(cli.settings, option_name);
+  check_inputs_outside_folder({{"cube", cli.cube}}, {"out", cli.out});
+  // One writer: a staging folder beside --out, renamed into place at the end
+  // (io/staged_folder.hpp); taken before the cube is read, so that a second
+  // run into the same folder is refused at once.
+  StagedFolder folder(cli.out, cli::global_flags().force);
   Cube cube = read_cube(cli.cube);
   MomentProducts p = make_moment_maps(cube, o);
-  OutputFolder folder(cli.out, cli::global_flags().force);
-  auto files = write_moment_maps(folder.path().string(), p, cli.cube);
-  folder.keep();
+  std::vector<std::string> files;
+  try {
+    files = write_moment_maps(folder.path(), p, cli.cube);
+    folder.commit();
+  } catch (const InputError& e) {
+    // A failed write names the file in --out, not the hidden staging folder.
+    if (e.file() == folder.shown_in_target(e).file()) throw;
+    throw folder.shown_in_target(e);
+  }
   std::cout << "total flux " << p.total_flux << " +/- " << p.total_flux_err << " " << p.flux_unit << "  ("
             << mask_method_name(o.mask) << " mask, " << p.mask_voxels << " voxels, "
             << convention_name(p.axis.convention) << " velocities)\n";

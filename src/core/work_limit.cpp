@@ -3,6 +3,7 @@
 
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
 
 #include "fulcrum/core/settings_check.hpp"
 
@@ -16,13 +17,39 @@ std::string estimate_text(double value) {
   return buf;
 }
 
+namespace {
+double g_scale = 0.0;  // 0: not yet decided
+}  // namespace
+
+void set_work_limit_scale(double factor) {
+  if (!std::isfinite(factor) || factor < 1.0 || factor > 1e6)
+    throw SettingError("limit_scale", setting_value_text(factor), "a number within [1, 1e6]");
+  g_scale = factor;
+}
+
+double work_limit_scale() {
+  if (g_scale == 0.0) {
+    g_scale = 1.0;
+    if (const char* env = std::getenv("FULCRUM_LIMIT_SCALE")) {
+      char* end = nullptr;
+      const double v = std::strtod(env, &end);
+      if (end == env || *end != '\0' || !std::isfinite(v) || v < 1.0 || v > 1e6)
+        throw InputError("", std::string("FULCRUM_LIMIT_SCALE = '") + env + "' is not allowed: must be a number within [1, 1e6]");
+      g_scale = v;
+    }
+  }
+  return g_scale;
+}
+
 void check_work_limit(std::string_view setting, const std::string& value_text, std::string_view what,
                       double estimate, double limit, std::string_view unit, const std::string& detail) {
+  limit *= work_limit_scale();
   if (std::isfinite(estimate) && estimate <= limit) return;
   std::string rule = "within the limit of " + estimate_text(limit) + " " + std::string(unit) + " for " +
                      std::string(what) + "; this asks for ";
   rule += detail.empty() ? estimate_text(estimate) + " " + std::string(unit)
                          : detail + " = " + estimate_text(estimate) + " " + std::string(unit);
+  rule += " (" + setting_ref("limit_scale") + " raises the limit)";
   throw SettingError(std::string(setting), value_text, rule);
 }
 

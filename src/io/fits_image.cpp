@@ -138,9 +138,11 @@ std::optional<Beam> read_beam(const std::string& header, const std::string& name
       !std::isfinite(b.bmin_arcsec))
     throw InputError(name, "beam BMAJ/BMIN must be positive (degrees), got BMAJ=" + *bmaj +
                                " BMIN=" + *bmin);
-  if (b.bmaj_arcsec > 3600.0)
-    throw InputError(name, "beam BMAJ = " + *bmaj + " deg is absurd for a galaxy map; FITS "
-                                                    "gives BMAJ/BMIN in degrees (was it arcsec?)");
+  // Either axis (BMIN > BMAJ is swapped below; a huge BMIN once passed this
+  // check and made moments run out of memory: process fuzzing, issue 17).
+  if (b.bmaj_arcsec > 3600.0 || b.bmin_arcsec > 3600.0)
+    throw InputError(name, "beam " + std::string(b.bmaj_arcsec > 3600.0 ? "BMAJ = " + *bmaj : "BMIN = " + *bmin) +
+                               " deg is absurd for a galaxy map; FITS gives BMAJ/BMIN in degrees (was it arcsec?)");
   if (b.bmin_arcsec > b.bmaj_arcsec) std::swap(b.bmin_arcsec, b.bmaj_arcsec);
   return b;
 }
@@ -184,6 +186,9 @@ struct RawArray {
   std::vector<double> data;
   std::string header;
   MissingValueCounts missing;
+  // The celestial WCS, parsed from the header before any pixel is read, so
+  // that a bad WCS is refused without reading (or allocating) the data.
+  std::optional<CelestialWcs> wcs;
 };
 
 // "100 x 80": the axis lengths as a person reads them.
@@ -248,6 +253,9 @@ RawArray read_array(fitsfile* f, const std::string& name, const ReadOptions& opt
                                  std::to_string(need) + " bytes with the header) but the file "
                                  "holds " + std::to_string(available) + " bytes");
   }
+  // The WCS before the pixels: a 14000 x 14000 image with a bad WCS is
+  // refused from its header, not after reading 1.6 GB.
+  if (r.naxes.size() >= 2) r.wcs = CelestialWcs::from_header(r.header, name);
   r.data.resize(n);
   std::vector<char> nulls(n, 0);
   std::vector<long> fpixel(static_cast<std::size_t>(naxis), 1);
@@ -304,7 +312,7 @@ Image image_from_raw(RawArray&& r, const std::string& name) {
   img.data = std::move(r.data);
   img.header = std::move(r.header);
   img.path = name;
-  img.wcs = CelestialWcs::from_header(img.header, name);
+  img.wcs = r.wcs ? std::move(*r.wcs) : CelestialWcs::from_header(img.header, name);
   img.beam = read_beam(img.header, name);
   img.unit = trim(header_value(img.header, "BUNIT").value_or(""));
   warn_if_beam_below_pixel(img.beam, img.wcs, img.nx, img.ny, name);
@@ -495,7 +503,7 @@ Cube read_cube(const std::string& path, const ReadOptions& options) {
   c.data = std::move(r.data);
   c.header = std::move(r.header);
   c.path = path;
-  c.wcs = CelestialWcs::from_header(c.header, path);
+  c.wcs = r.wcs ? std::move(*r.wcs) : CelestialWcs::from_header(c.header, path);
   c.beam = read_beam(c.header, path);
   c.unit = trim(header_value(c.header, "BUNIT").value_or(""));
   return c;

@@ -6,17 +6,21 @@
 #include <wcslib/wcsfix.h>
 #include <wcslib/wcshdr.h>
 #include <wcslib/wcsutil.h>
+#include <wcslib/wcsmath.h>
 
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
 #include <cstring>
+#include <map>
+#include <regex>
 #include <mutex>
 #include <string_view>
 #include <vector>
 
 #include "fulcrum/core/error.hpp"
+#include "fulcrum/core/log.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/io/header_card.hpp"
 
@@ -195,6 +199,50 @@ CelestialWcs& CelestialWcs::operator=(const CelestialWcs& other) {
   return *this;
 }
 
+namespace {
+
+// A WCS keyword given twice: wcslib takes the last silently; say so.
+void warn_duplicate_wcs_cards(const std::string& header, const std::string& source) {
+  static const std::regex wcs_key(R"re((CTYPE|CRVAL|CRPIX|CDELT|CUNIT|CROTA)[0-9]+|(CD|PC|PV)[0-9]+_[0-9]+|LONPOLE|LATPOLE|RADESYS|RADECSYS|EQUINOX|EPOCH)re");
+  std::map<std::string, int> count;
+  for (std::size_t pos = 0; pos + 80 <= header.size(); pos += 80) {
+    const std::string_view card(header.data() + pos, 80);
+    if (!has_value_indicator(card)) continue;
+    std::string key(card.substr(0, 8));
+    key.erase(key.find_last_not_of(' ') + 1);
+    if (std::regex_match(key, wcs_key)) ++count[key];
+  }
+  for (const auto& [key, n] : count)
+    if (n > 1)
+      warn(source + ": " + key + " appears " + std::to_string(n) +
+           " times in the header; the last one is used: check which is right");
+}
+
+// The celestial frame must be equatorial ICRS or FK5 J2000 (the frame every
+// position of fulcrum is in); others are refused, never read as RA/Dec.
+void check_celestial_frame(const wcsprm& w, int lng, const std::string& source) {
+  const std::string ctype(w.ctype[lng]);
+  const std::string axis = "CTYPE" + std::to_string(lng + 1) + " = '" + ctype + "'";
+  auto refuse = [&](const std::string& what) {
+    throw InputError(source, what + ": fulcrum reads equatorial ICRS or FK5 J2000 (RA/Dec) maps only; "
+                                    "reproject the map to RA/Dec first");
+  };
+  if (ctype.rfind("GLON", 0) == 0) refuse(axis + " is galactic longitude");
+  if (ctype.rfind("ELON", 0) == 0) refuse(axis + " is ecliptic longitude");
+  if (ctype.rfind("SLON", 0) == 0) refuse(axis + " is supergalactic longitude");
+  std::string frame(w.radesys);
+  frame.erase(frame.find_last_not_of(' ') + 1);
+  const bool equinox_set = !undefined(w.equinox);
+  if (frame == "FK4" || frame == "FK4-NO-E" || frame == "GAPPT")
+    refuse("RADESYS = '" + frame + "'" + (equinox_set ? " (EQUINOX " + std::to_string(w.equinox).substr(0, 6) + ")" : ""));
+  if (frame.empty() && equinox_set && w.equinox < 1984.0)
+    refuse("EQUINOX = " + std::to_string(w.equinox).substr(0, 6) + " without RADESYS means FK4 B1950");
+  if (frame == "FK5" && equinox_set && std::abs(w.equinox - 2000.0) > 1e-6)
+    refuse("RADESYS = 'FK5' with EQUINOX = " + std::to_string(w.equinox).substr(0, 6) + " (not J2000)");
+}
+
+}  // namespace
+
 CelestialWcs CelestialWcs::from_header(const std::string& header_cards, const std::string& source) {
   const int nkeyrec = static_cast<int>(header_cards.size() / 80);
   // wcspih must only see printable ASCII (see read_header in fits_image.cpp).
@@ -239,6 +287,13 @@ CelestialWcs CelestialWcs::from_header(const std::string& header_cards, const st
                              "them on axes " + std::to_string(lng + 1) + " and " +
                              std::to_string(lat + 1) + ")");
   }
+  try {
+    check_celestial_frame(*prim, lng, source);
+  } catch (...) {
+    wcsvfree(&nwcs, &all);
+    throw;
+  }
+  warn_duplicate_wcs_cards(header_cards, source);
   // Keywords the standard lets default but whose defaults are never right for
   // a sky map: a missing CRVAL puts the map at RA = Dec = 0, a missing pixel
   // scale (no CDi_j, no CDELTi) makes each pixel one degree (Greisen &

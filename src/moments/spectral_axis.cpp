@@ -7,6 +7,7 @@
 #include <wcslib/wcserr.h>
 #include <wcslib/wcshdr.h>
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -61,6 +62,28 @@ double optical_velocity_kms(double freq_hz, double rest_hz) { return kLightKms *
 double frequency_from_radio_kms(double v_kms, double rest_hz) { return rest_hz * (1.0 - v_kms / kLightKms); }
 double frequency_from_optical_kms(double v_kms, double rest_hz) { return rest_hz / (1.0 + v_kms / kLightKms); }
 
+namespace {
+
+// A spectral keyword that is there but not a number (CDELT3 = 'ten km/s')
+// is dropped by wcslib, which then takes its default (a channel width of
+// 1 in the axis unit): refuse it instead.
+void check_spectral_numbers(const std::string& header, int axis, const std::string& source) {
+  const std::string n = std::to_string(axis);
+  for (const std::string key : {"CRVAL" + n, "CDELT" + n, "CRPIX" + n, "CD" + n + "_" + n, std::string("RESTFRQ"),
+                                std::string("RESTFREQ"), std::string("RESTWAV")}) {
+    const auto v = header_value(header, key);
+    if (!v) continue;
+    std::string text = trim(*v);
+    std::replace(text.begin(), text.end(), 'D', 'E');  // FITS allows a D exponent
+    char* end = nullptr;
+    const double x = text.empty() ? 0.0 : std::strtod(text.c_str(), &end);
+    if (text.empty() || end == nullptr || *end != '\0' || !std::isfinite(x))
+      throw InputError(source, key + " = '" + trim(*v) + "' is not a finite number: the spectral axis cannot be read");
+  }
+}
+
+}  // namespace
+
 SpectralAxis spectral_axis_from_header(const std::string& header, int spectral_axis, int nz,
                                        const SpectralAxisOptions& options, const std::string& source) {
   if (nz < 1) throw InputError(source, "the cube has no channels");
@@ -68,6 +91,7 @@ SpectralAxis spectral_axis_from_header(const std::string& header, int spectral_a
   if (ctype.empty())
     throw InputError(source, "no spectral axis: CTYPE" + std::to_string(spectral_axis) +
                                  " is missing (expected FREQ, VRAD, VOPT or VELO-xxx)");
+  check_spectral_numbers(header, spectral_axis, source);
   const int nkeyrec = static_cast<int>(header.size() / 80);
   std::vector<char> buf(header.begin(), header.end());
   buf.push_back('\0');

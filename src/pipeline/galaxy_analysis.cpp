@@ -28,6 +28,19 @@ void record(GalaxySummary& s, const char* stage, StageStatus status, std::string
   s.stages.push_back({stage, status, std::move(reason)});
 }
 
+// A stage's InputError that names one of the galaxy's files (not a setting).
+void note_unusable_input(GalaxySummary& s, const InputError& e) {
+  if (!s.unusable_file.empty() || e.file().empty()) return;
+  const auto& in = s.input;
+  for (const auto* f : {&in.velocity, &in.velocity_error, &in.intensity, &in.intensity_error, &in.optical,
+                        &in.optical_mask, &in.tail_image, &in.cube})
+    if (!f->empty() && *f == e.file()) {
+      s.unusable_file = e.file();
+      s.unusable_problem = e.problem();
+      return;
+    }
+}
+
 // inputs -> the maps (empty on failure, with the reason): read from the
 // files, or `given` in memory.
 GalaxyMaps inputs_step(GalaxySummary& s, std::optional<GalaxyMaps>& given) {
@@ -47,6 +60,7 @@ GalaxyMaps inputs_step(GalaxySummary& s, std::optional<GalaxyMaps>& given) {
   } catch (const InputError& e) {
     record(s, "inputs", StageStatus::failed, e.what());
     s.undetermined_reason = std::string("an input could not be read: ") + e.what();
+    note_unusable_input(s, e);
     return {};
   }
 }
@@ -57,6 +71,7 @@ void kinematics_step(const GalaxyMaps& maps, const kinematics::KinematicOptions&
   } catch (const InputError& e) {
     record(s, "kinematics", StageStatus::failed, e.what());
     s.failures.push_back(std::string("the kinematic fit could not run: ") + e.what());
+    note_unusable_input(s, e);
     return;
   }
   const auto& fit = s.kinematics->fit;

@@ -2,6 +2,9 @@
 #include "fulcrum/pipeline/sample_run.hpp"
 
 #include <algorithm>
+#include <cerrno>
+#include <cstring>
+#include <unistd.h>
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
@@ -21,6 +24,7 @@
 #include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/staged_folder.hpp"
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/report/html_report.hpp"
 #include "fulcrum/report/sample_statistics.hpp"
@@ -554,6 +558,9 @@ GalaxySummary run_one(const GalaxyInput& g, const AnalysisOptions& ao, const Sam
     res.name = g.name;
     res.summary = failed_galaxy(g, failed, ao);
   }
+  // An unusable input stops only this galaxy, but is said on stderr.
+  if (!res.summary.unusable_file.empty())
+    warn(g.name + ": " + res.summary.unusable_file + ": " + res.summary.unusable_problem + " (listed as undetermined)");
   res.summary.sample = ref;
   res.report = to_json(res.summary);
   try {
@@ -566,16 +573,45 @@ GalaxySummary run_one(const GalaxyInput& g, const AnalysisOptions& ao, const Sam
 
 }  // namespace
 
+namespace {
+
+// Every file the selected galaxies name must exist and be readable; checked
+// before any folder is made. The message names the file, the manifest and
+// the line of the galaxy's table. (A file that is there but not a usable map
+// is that galaxy's failure: it is listed as undetermined, and the others run.)
+void check_galaxy_files(const SampleManifest& manifest, const std::vector<GalaxyInput>& selected) {
+  for (const auto& g : selected) {
+    const std::pair<const char*, const std::string*> files[] = {
+        {"cube", &g.cube},           {"velocity", &g.velocity},   {"velocity_error", &g.velocity_error},
+        {"intensity", &g.intensity}, {"intensity_error", &g.intensity_error}, {"optical", &g.optical},
+        {"optical_mask", &g.optical_mask}, {"tail_image", &g.tail_image}};
+    for (const auto& [key, path] : files) {
+      if (path->empty()) continue;
+      const std::string where = manifest.path + ": line " + std::to_string(g.manifest_line) + ": galaxy '" + g.name +
+                                "': '" + key + "'";
+      std::error_code ec;
+      if (!fs::exists(*path, ec)) throw InputError(*path, "does not exist (" + where + ")");
+      if (fs::is_directory(*path, ec)) throw InputError(*path, "is a folder, not a FITS file (" + where + ")");
+      if (::access(path->c_str(), R_OK) != 0)
+        throw InputError(*path, std::string("cannot be read: ") + std::strerror(errno) + " (" + where + ")");
+    }
+  }
+}
+
+}  // namespace
+
 RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
   if (o.out_dir.empty()) throw SettingError("out", "''", "the name of a folder");
   fs::path out(o.out_dir);
-  if (fs::exists(out / "sample.json") && !o.overwrite)
-    throw InputError(o.out_dir, "already holds a sample run (sample.json); allow overwriting (" + setting_ref("overwrite") + ") or choose another folder");
+  // One run at a time into a folder (a lock), and a folder with anything in
+  // it (not only sample.json) only with `overwrite` (io/staged_folder.hpp).
   auto selected = select_galaxies(manifest, o.selection);
   if (selected.empty()) throw InputError(manifest.path, "the selection (" + setting_ref("only") + ", " + setting_ref("shard") + ") leaves no galaxy to run");
   // Capped at the cores and the galaxies (core/thread_count.hpp), checked
   // before any folder is made.
   const int threads = thread_count("threads", o.threads, selected.size());
+  check_galaxy_files(manifest, selected);
+  const OutputLock lock(o.out_dir, o.overwrite, kStagingFolder);
   std::map<std::string, int> index;
   for (std::size_t i = 0; i < manifest.galaxies.size(); ++i) index[manifest.galaxies[i].name] = static_cast<int>(i);
   // Written through a staging folder, the shard record last: a run killed

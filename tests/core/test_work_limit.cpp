@@ -21,7 +21,7 @@ TEST_CASE("work limit: within passes, beyond is refused naming setting, estimate
     CHECK(e.setting() == "angle_step_deg");
     CHECK(std::string(e.what()) ==
           "angle_step_deg = 1e-06 is not allowed: must be within the limit of 1e+08 points for the scan grid; "
-          "this asks for 441 offsets x 3.6e+08 angles = 1.6e+11 points");
+          "this asks for 441 offsets x 3.6e+08 angles = 1.6e+11 points (`limit_scale` raises the limit)");
   }
   // A non-finite estimate (an infinite width) is refused, never compared as passing.
   CHECK_THROWS_AS(check_work_limit("x", "inf", "w", std::numeric_limits<double>::infinity(), 1e8, "points"),
@@ -33,4 +33,16 @@ TEST_CASE("work limit: estimates as text", "[core][limits]") {
   CHECK(estimate_text(441) == "441");
   CHECK(estimate_text(1e6) == "1000000");
   CHECK(estimate_text(1.6e11) == "1.6e+11");
+}
+
+TEST_CASE("work limit: one scale raises every limit, from 1 to 1e6", "[core][limits]") {
+  CHECK(work_limit_scale() == 1.0);  // the test runner sets no FULCRUM_LIMIT_SCALE
+  CHECK_THROWS_AS(check_work_limit("step_arcsec", "0.1", "the scan grid", 5e8, 1e8, "points"), SettingError);
+  set_work_limit_scale(10.0);
+  CHECK_NOTHROW(check_work_limit("step_arcsec", "0.1", "the scan grid", 5e8, 1e8, "points"));
+  CHECK_THROWS_WITH(check_work_limit("step_arcsec", "0.01", "the scan grid", 5e10, 1e8, "points"),
+                    Catch::Contains("within the limit of 1e+09 points"));
+  CHECK_THROWS_AS(set_work_limit_scale(0.5), SettingError);
+  CHECK_THROWS_AS(set_work_limit_scale(std::nan("")), SettingError);
+  set_work_limit_scale(1.0);
 }

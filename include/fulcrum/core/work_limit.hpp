@@ -30,6 +30,14 @@ namespace fulcrum {
 void check_work_limit(std::string_view setting, const std::string& value_text, std::string_view what,
                       double estimate, double limit, std::string_view unit, const std::string& detail = "");
 
+// Every limit of check_work_limit is multiplied by one factor, 1 by default:
+// set_work_limit_scale() (the global option --limit-scale) or else the
+// environment variable FULCRUM_LIMIT_SCALE; within [1, 1e6] (SettingError /
+// InputError otherwise). Raising it lets a machine with more memory and time
+// run what the default refuses; the image limit is --max-pixels.
+void set_work_limit_scale(double factor);
+double work_limit_scale();
+
 // An estimate as short text: whole numbers up to 1e6 as digits, larger ones
 // as 1.6e+11.
 std::string estimate_text(double value);

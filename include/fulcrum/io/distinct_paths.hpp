@@ -25,4 +25,10 @@ namespace fulcrum {
 void check_distinct_paths(const std::vector<std::pair<std::string, std::string>>& inputs,
                           const std::vector<std::pair<std::string, std::string>>& outputs);
 
+// For commands whose output is a folder that a run replaces whole (analyse,
+// calibrate, moments; io/staged_folder.hpp): no input may lie in it.
+//   OUT/vel.fits: the input `velocity` lies in the output folder `out`, ...
+void check_inputs_outside_folder(const std::vector<std::pair<std::string, std::string>>& inputs,
+                                 const std::pair<std::string, std::string>& folder);
+
 }  // namespace fulcrum

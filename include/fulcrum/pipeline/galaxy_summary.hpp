@@ -113,6 +113,11 @@ struct GalaxySummary {
   std::string statement;
   std::string undetermined_reason;       // set when the verdict is undetermined
   std::vector<std::string> failures;     // known problems that the verdict must take into account
+  // An input file found unusable by a stage (an InputError naming one of the
+  // galaxy's files: a velocity map in m/s labelled km/s, ...): the file and
+  // the problem. Not written to report.json; `analyse` refuses such a galaxy
+  // (exit 2, docs/reliability.md), a sample run lists it as undetermined.
+  std::string unusable_file, unusable_problem;
   std::vector<std::string> notes;        // for the HTML page and the terminal
   std::vector<FigureRef> figures;        // the figure files written beside report.json
   std::optional<SampleRef> sample;       // set by a sample run
