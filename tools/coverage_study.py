@@ -39,19 +39,9 @@ import numpy as np
 HERE = os.path.dirname(os.path.abspath(__file__))
 sys.path.insert(0, os.path.join(HERE, "..", "tests", "python"))
 import mockgen  # noqa: E402
+from mockgen import gnomonic_offset  # noqa: E402
 
 VERDICTS = ["robust", "marginal", "centre-sensitive", "reversed", "undetermined"]
-
-
-def gnomonic_offset(ra0, dec0, ra, dec):
-    """(east, north) arcsec of (ra, dec) from (ra0, dec0), gnomonic projection."""
-    a, d = math.radians(ra), math.radians(dec)
-    a0, d0 = math.radians(ra0), math.radians(dec0)
-    cosc = math.sin(d0) * math.sin(d) + math.cos(d0) * math.cos(d) * math.cos(a - a0)
-    east = math.cos(d) * math.sin(a - a0) / cosc
-    north = (math.cos(d0) * math.sin(d) - math.sin(d0) * math.cos(d) * math.cos(a - a0)) / cosc
-    k = 180.0 / math.pi * 3600.0
-    return east * k, north * k
 
 
 def angle_diff(a, b, period=360.0):

@@ -62,47 +62,11 @@ std::vector<double> smear_moment1(const std::vector<double>& velocity,
                                   const std::vector<unsigned char>& where, double truncate_sigma) {
   const std::size_t n = static_cast<std::size_t>(nx) * static_cast<std::size_t>(ny);
   FULCRUM_CHECK(velocity.size() == n && intensity.size() == n, n, velocity.size());
-  FULCRUM_CHECK(where.empty() || where.size() == n, n, where.size());
-  const PixelKernel kernel = gaussian_kernel(pixel_cov, truncate_sigma);
-  // Emission I and I v, zero where there is none.
-  std::vector<double> w(n, 0.0), wv(n, 0.0);
-  for (std::size_t i = 0; i < n; ++i) {
-    const double I = intensity[i], v = velocity[i];
-    if (std::isfinite(I) && I > 0 && std::isfinite(v)) {
-      w[i] = I;
-      wv[i] = I * v;
-    }
-  }
-  std::vector<double> out(n, kNaN);
-  const int hx = kernel.hx, hy = kernel.hy, kw = 2 * hx + 1;
-  // Threads only pay off for large maps: on a small one (a few thousand
-  // pixels) starting and spinning them costs more than the sums.
-  const std::size_t outputs =
-      where.empty() ? n : static_cast<std::size_t>(std::count(where.begin(), where.end(), 1));
-  const bool threaded = static_cast<double>(outputs) * static_cast<double>(kernel.weight.size()) > 2e7;
-#pragma omp parallel for schedule(static) if (threaded)
-  for (int y = 0; y < ny; ++y) {
-    for (int x = 0; x < nx; ++x) {
-      const std::size_t i = idx(x, y, nx);
-      if (!where.empty() && !where[i]) continue;
-      // out(x, y) = sum_{dx, dy} k(dx, dy) f(x - dx, y - dy), over the grid.
-      const int dx_lo = std::max(-hx, x - (nx - 1)), dx_hi = std::min(hx, x);
-      const int dy_lo = std::max(-hy, y - (ny - 1)), dy_hi = std::min(hy, y);
-      double num = 0.0, den = 0.0;
-      for (int dy = dy_lo; dy <= dy_hi; ++dy) {
-        const double* krow = &kernel.weight[static_cast<std::size_t>(kw) * (dy + hy) + hx];
-        const double* wrow = &w[idx(x, y - dy, nx)];
-        const double* wvrow = &wv[idx(x, y - dy, nx)];
-        for (int dx = dx_lo; dx <= dx_hi; ++dx) {
-          const double k = krow[dx];
-          num += k * wvrow[-dx];
-          den += k * wrow[-dx];
-        }
-      }
-      if (den > 0) out[i] = num / den;
-    }
-  }
-  return out;
+  // A pixel without a finite velocity carries no emission.
+  std::vector<double> I(intensity), v(velocity);
+  for (std::size_t i = 0; i < n; ++i)
+    if (!std::isfinite(v[i])) I[i] = 0.0, v[i] = 0.0;
+  return std::move(smear_moment1_fields({std::move(v)}, I, nx, ny, pixel_cov, where, truncate_sigma).front());
 }
 
 std::vector<std::vector<double>> smear_moment1_fields(const std::vector<std::vector<double>>& fields,
@@ -129,8 +93,15 @@ std::vector<std::vector<double>> smear_moment1_fields(const std::vector<std::vec
     }
   }
   const int hx = kernel.hx, hy = kernel.hy, kw = 2 * hx + 1;
-  std::vector<double> num(p);
+  // Threads only pay off for large maps: on a small one (a few thousand
+  // pixels) starting and spinning them costs more than the sums.
+  const std::size_t outputs =
+      where.empty() ? n : static_cast<std::size_t>(std::count(where.begin(), where.end(), 1));
+  const bool threaded =
+      static_cast<double>(outputs) * static_cast<double>(kernel.weight.size()) * static_cast<double>(p) > 2e7;
+#pragma omp parallel for schedule(static) if (threaded)
   for (int y = 0; y < ny; ++y) {
+    std::vector<double> num(p);
     for (int x = 0; x < nx; ++x) {
       const std::size_t i = idx(x, y, nx);
       if (!where.empty() && !where[i]) continue;

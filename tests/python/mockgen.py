@@ -156,6 +156,12 @@ def sky_offsets(w, x, y, ra0, dec0):
     """(east, north) arcsec of 0-based pixel positions from (ra0, dec0): the
     gnomonic projection about (ra0, dec0) of each pixel's world position."""
     ra, dec = w.wcs_pix2world(x, y, 0)
+    return gnomonic_offset(ra0, dec0, ra, dec)
+
+
+def gnomonic_offset(ra0, dec0, ra, dec):
+    """(east, north) arcsec of (ra, dec) (deg, scalars or arrays) from
+    (ra0, dec0), gnomonic projection about (ra0, dec0)."""
     a, d = np.radians(ra), np.radians(dec)
     a0, d0 = math.radians(ra0), math.radians(dec0)
     cosc = math.sin(d0) * np.sin(d) + math.cos(d0) * np.cos(d) * np.cos(a - a0)

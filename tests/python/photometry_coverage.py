@@ -53,17 +53,6 @@ ESTIMATORS = ["photometric-peak", "photometric-centroid", "photometric-profile",
               "photometric-isophote", "photometric-symmetry"]
 
 
-def offset_arcsec(ra, dec, ra0, dec0):
-    """(east, north) arcsec of (ra, dec) from (ra0, dec0), gnomonic."""
-    a, d = math.radians(ra), math.radians(dec)
-    a0, d0 = math.radians(ra0), math.radians(dec0)
-    cosc = math.sin(d0) * math.sin(d) + math.cos(d0) * math.cos(d) * math.cos(a - a0)
-    e = math.cos(d) * math.sin(a - a0) / cosc
-    n = (math.cos(d0) * math.sin(d) - math.sin(d0) * math.cos(d) * math.cos(a - a0)) / cosc
-    k = 180.0 / math.pi * 3600.0
-    return e * k, n * k
-
-
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--fulcrum", required=True)
@@ -101,7 +90,7 @@ def main():
             centres = j["centres"] if "centres" in j else j["photometry"]["centres"]
             for c in centres:
                 if c["id"] in res and c["status"] == "ok":
-                    e, n = offset_arcsec(c["ra_deg"], c["dec_deg"], tra, tdec)
+                    e, n = mockgen.gnomonic_offset(tra, tdec, c["ra_deg"], c["dec_deg"])
                     res[c["id"]].append((e, n, np.array(c["cov_arcsec2"], dtype=float)))
 
     print(f"photometric centre coverage: {a.n} realisations, peak {a.peak} adu above the sky, "
