@@ -254,6 +254,25 @@ bool same_sky_grid(const Image& a, const Image& b) {
   return true;
 }
 
+// How two grids differ, in words: their sizes, or how far apart on the sky
+// the same pixel indices lie (at the corners and the centre).
+std::string grid_difference(const Image& a, const Image& b) {
+  if (a.nx != b.nx || a.ny != b.ny)
+    return std::to_string(a.nx) + " x " + std::to_string(a.ny) + " against " + std::to_string(b.nx) + " x " +
+           std::to_string(b.ny) + " pixels";
+  try {
+    const double scale = separation_arcsec(a.wcs.pixel_to_world({0, 0}), a.wcs.pixel_to_world({1, 0}));
+    double most = 0.0;
+    for (const PixelCoord p : {PixelCoord{0, 0}, PixelCoord{a.nx - 1.0, 0}, PixelCoord{0, a.ny - 1.0},
+                               PixelCoord{a.nx - 1.0, a.ny - 1.0}, PixelCoord{0.5 * (a.nx - 1), 0.5 * (a.ny - 1)}})
+      most = std::max(most, separation_arcsec(a.wcs.pixel_to_world(p), b.wcs.pixel_to_world(p)));
+    return "the same pixel lies up to " + significant_text(most, 3) + " arcsec (" +
+           significant_text(most / scale, 3) + " pixels) apart in the two";
+  } catch (const InputError&) {
+    return "a pixel of one has no sky position in the other";
+  }
+}
+
 }  // namespace
 
 KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
@@ -300,11 +319,11 @@ KinematicFit fit_kinematics(const Image& velocity, const Image* velocity_error,
   if (intensity && !same_sky_grid(velocity, *intensity)) {
     // No resampling is needed: every step works on sky positions, and the
     // intensity is read at the velocity pixels' positions through its WCS.
-    const std::string w = "the velocity map " + velocity.path + " and the intensity map " +
-                          intensity->path + " do not share a sky grid: the intensity (nearest pixel) is read at "
-                          "the velocity pixels' sky positions (no resampling)";
-    warn(w);
-    notes.push_back(w);
+    // (Warned with the other notes at the end.)
+    notes.push_back("the velocity map " + velocity.path + " and the intensity map " + intensity->path +
+                    " do not share a sky grid (" + grid_difference(velocity, *intensity) +
+                    "): the intensity (nearest pixel) is read at the velocity pixels' sky positions (no "
+                    "resampling); check that this is intended");
   }
   const std::optional<SmearingGrid> grid =
       smearing_grid_for(velocity, intensity, s, reference, options, smearing_notes);
