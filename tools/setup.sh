@@ -60,7 +60,9 @@ case "$action" in
   demo)
     install_missing "${build_packages[@]}"
     build fulcrum
-    "$build_dir/fulcrum" demo ${FULCRUM_DEMO_ARGS:-} ;;
+    # --force: running the README's demo command again replaces the demo's
+    # own folder (./fulcrum-demo) instead of refusing it.
+    "$build_dir/fulcrum" demo --force ${FULCRUM_DEMO_ARGS:-} ;;
   test)
     install_missing "${build_packages[@]}" "${test_packages[@]}"
     build
