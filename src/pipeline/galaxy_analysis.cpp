@@ -165,7 +165,8 @@ void centre_bootstrap_step(const GalaxyMaps& maps, const AnalysisOptions& opt, G
                       std::to_string(b.refits) + " re-fitted mocks of the fitted disc scatter more than its "
                       "covariance says (mean m^2 " + fixed_text(b.mean_m2, 2) + ", 2 expected)");
   if (b.pa_scale2 > 1.0 || b.inc_scale2 > 1.0)
-    s.notes.push_back("the same re-fits widened the PA error x" + fixed_text(std::sqrt(b.pa_scale2), 2) +
+    s.notes.push_back(std::to_string(b.refits) + " re-fitted mocks of the fitted disc widened the PA error x" +
+                      fixed_text(std::sqrt(b.pa_scale2), 2) +
                       " and the inclination error x" + fixed_text(std::sqrt(b.inc_scale2), 2) +
                       " (mean squared pulls " + fixed_text(b.mean_pa_pull2, 2) + " and " +
                       fixed_text(b.mean_inc_pull2, 2) + ", 1 expected)");
