@@ -8,6 +8,7 @@
 #include <fstream>
 #include <iostream>
 #include <memory>
+#include <optional>
 #include <sstream>
 
 #include "fulcrum/calibration/calibration.hpp"
@@ -51,6 +52,15 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
   auto inputs = cli::galaxy_input_paths(in);
   inputs.emplace_back("from", a.from);
   check_inputs_outside_folder(inputs, {"out", a.out});
+  // Inputs first: the maps and a --from report are read and checked before
+  // any output folder is taken (a cube is checked as its moments are made).
+  std::optional<pipeline::GalaxyMaps> maps;
+  if (in.cube.empty()) maps = pipeline::load_galaxy_maps(in);
+  // The analysis: a finished one read through the one reader of report.json,
+  // or run now. Either way the typed summary gives the matched inputs.
+  pipeline::GalaxySummary summary;
+  const std::string report_path = (fs::path(a.from) / "report.json").string();
+  if (!a.from.empty()) summary = pipeline::read_report_file(report_path);
   // One writer: a staging folder beside --out, renamed into place at the end
   // (io/staged_folder.hpp).
   StagedFolder out(a.out, cli::global_flags().force);
@@ -58,15 +68,9 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
     if (!in.cube.empty()) {
       note("making the moment maps of " + in.cube);
       in = pipeline::make_maps_from_cube(in, out.path());
+      maps = pipeline::load_galaxy_maps(in);
     }
-
-    // The analysis: a finished one read through the one reader of report.json,
-    // or run now. Either way the typed summary gives the matched inputs.
-    pipeline::GalaxySummary summary;
-    const std::string report_path = (fs::path(a.from) / "report.json").string();
-    if (!a.from.empty()) {
-      summary = pipeline::read_report_file(report_path);
-    } else {
+    if (a.from.empty()) {
       pipeline::AnalysisOptions o;
       o.seed = seed;
       o.draws = draws;
@@ -74,10 +78,9 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
       note("analysing " + in.name);
       summary = pipeline::analyse_galaxy(in, o).summary;
     }
-    const auto maps = pipeline::load_galaxy_maps(in);
     calibration::MatchedInputs mi;
     try {
-      mi = pipeline::matched_inputs(summary, maps);
+      mi = pipeline::matched_inputs(summary, *maps);
     } catch (const InputError& e) {
       if (a.from.empty()) throw;
       throw InputError(report_path, e.problem());  // name the report the summary came from
