@@ -13,6 +13,17 @@ namespace {
 
 constexpr std::uint64_t kCentreBootstrapStream = 0x63656e7472656669ull;  // "centrefi"
 
+// What the mocks take from the kinematic fit besides its centre and rings:
+// the disc's orientation and vsys, the extra velocity scatter, and the
+// residual scale's expectation (shared by every re-fit).
+void put_fitted_geometry(const kinematics::KinematicFit& fit, calibration::MatchedInputs& in) {
+  in.pa_deg = fit.pa_deg;
+  in.inc_deg = fit.inc_deg;
+  in.vsys_kms = fit.vsys_kms;
+  in.velocity_scatter_kms = fit.scatter.scatter_kms;
+  in.expected_residual_fraction = fit.centre_errors.expected_residual_fraction;
+}
+
 // The fitted disc of `fit` as the mocks' truth: the tilted-ring centre
 // (with its covariance), PA, inclination, vsys, the velocity scatter beyond
 // the error map and the rotation curve (its finite nodes); false when the
@@ -20,11 +31,7 @@ constexpr std::uint64_t kCentreBootstrapStream = 0x63656e7472656669ull;  // "cen
 bool put_fitted_disc(const kinematics::KinematicFit& fit, calibration::MatchedInputs& in) {
   if (fit.status != "ok" || !fit.ring_centre || !fit.ring_centre->ok()) return false;
   in.centre = *fit.ring_centre;
-  in.pa_deg = fit.pa_deg;
-  in.inc_deg = fit.inc_deg;
-  in.vsys_kms = fit.vsys_kms;
-  in.velocity_scatter_kms = fit.scatter.scatter_kms;
-  in.expected_residual_fraction = fit.centre_errors.expected_residual_fraction;
+  put_fitted_geometry(fit, in);
   for (const auto& r : fit.rings) {
     if (!std::isfinite(r.node.radius_arcsec) || !std::isfinite(r.node.vrot_kms)) continue;
     in.ring_radius_arcsec.push_back(r.node.radius_arcsec);
@@ -48,12 +55,7 @@ calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMa
   if (!s.robustness) throw InputError(who, "has no split (calibration needs the measured asymmetry)");
   calibration::MatchedInputs in;
   in.centre = *rings;
-  const auto& fit = s.kinematics->fit;
-  in.pa_deg = fit.pa_deg;
-  in.inc_deg = fit.inc_deg;
-  in.vsys_kms = fit.vsys_kms;
-  in.velocity_scatter_kms = fit.scatter.scatter_kms;
-  in.expected_residual_fraction = fit.centre_errors.expected_residual_fraction;
+  put_fitted_geometry(s.kinematics->fit, in);
   for (const auto& r : s.kinematics->rings) {
     if (!std::isfinite(r.radius_arcsec) || !std::isfinite(r.vrot_kms)) continue;
     in.ring_radius_arcsec.push_back(r.radius_arcsec);
