@@ -12,7 +12,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
-#include "fulcrum/io/output_folder.hpp"
+#include "fulcrum/io/staged_folder.hpp"
 #include "fulcrum/synth/mock_field_table.hpp"
 #include "fulcrum/synth/mock_galaxy.hpp"
 #include "subcommand.hpp"
@@ -69,15 +69,14 @@ void run_synth(const SynthCli& cli) {
     for (const auto& [opt, set] : cli.setters)
       if (opt->count() > 0)
         throw InputError("", "--demo-sample takes no mock parameters (got " + opt->get_name() + ")");
-    OutputFolder folder(cli.out, force);
+    StagedFolder folder(cli.out, force);
     auto sample = synth::demo_sample();
     note("writing " + std::to_string(sample.size()) + " demo galaxies into " + cli.out);
-    std::string manifest =
-        synth::write_sample(folder.path().string(), sample, "Orrin cluster (invented demo sample)", 7);
-    folder.keep();
+    synth::write_sample(folder.path(), sample, "Orrin cluster (invented demo sample)", 7);
+    folder.commit();
     for (const auto& g : sample)
       std::cout << (fs::path(cli.out) / g.name).string() << "/  (" << g.expected_verdict << ")\n";
-    std::cout << manifest << "\n";
+    std::cout << (fs::path(cli.out) / "sample.toml").string() << "\n";
     return;
   }
   MockGalaxy g = cli.config.empty() ? MockGalaxy{} : synth::mock_from_toml(cli.config);
@@ -85,9 +84,9 @@ void run_synth(const SynthCli& cli) {
     if (opt->count() > 0) set(g);
   synth::validate_mock(g);
   auto products = synth::make_mock(g);
-  OutputFolder folder(cli.out, force);
-  auto files = synth::write_mock(folder.path().string(), products);
-  folder.keep();
+  StagedFolder folder(cli.out, force);
+  auto files = synth::write_mock(folder.path(), products);
+  folder.commit();
   for (const auto& f : files) std::cout << (fs::path(cli.out) / f).string() << "\n";
 }
 

@@ -84,18 +84,24 @@ void check_folder_is_clean(const fs::path& dir) {
   }
 }
 
-// Wait until the run has a temporary file open in `dir` (it is writing an
-// output) and has already finished `after` outputs; false on timeout or exit.
+// Wait until the run has a temporary file open in `dir` or in its staging
+// folder beside it (.NAME.fulcrum-staging-PID, io/staged_folder.hpp): it is
+// writing an output and has already finished `after` outputs; false on
+// timeout or exit.
 bool wait_for_write(pid_t pid, const fs::path& dir, int after) {
+  const std::string staging = "." + dir.filename().string() + ".fulcrum-staging-";
   std::set<std::string> seen;
   for (int i = 0; i < 120000; ++i) {  // at most ~2 minutes
     std::error_code ec;
-    if (fs::exists(dir, ec))
-      for (const auto& e : fs::directory_iterator(dir, ec))
+    for (const auto& folder : fs::directory_iterator(dir.parent_path(), ec)) {
+      const std::string name = folder.path().filename().string();
+      if (name != dir.filename().string() && name.rfind(staging, 0) != 0) continue;
+      for (const auto& e : fs::directory_iterator(folder.path(), ec))
         if (e.path().filename().string().find(".part-") != std::string::npos) {
           seen.insert(e.path().filename().string());
           if (static_cast<int>(seen.size()) > after) return true;
         }
+    }
     int status = 0;
     if (::waitpid(pid, &status, WNOHANG) == pid) return false;
     std::this_thread::sleep_for(std::chrono::milliseconds(1));
