@@ -11,6 +11,7 @@
 #include <numbers>
 
 #include "fulcrum/calibration/mock_refit.hpp"
+#include "fulcrum/core/binomial_interval.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/core/random.hpp"
@@ -45,6 +46,8 @@ Rate make_rate(std::size_t k, std::size_t n) {
     r.rate = static_cast<double>(k) / static_cast<double>(n);
     r.err = std::sqrt(r.rate * (1.0 - r.rate) / static_cast<double>(n));
   }
+  const ProportionInterval ci = wilson_interval(k, n);
+  r.lo95 = ci.lo, r.hi95 = ci.hi;
   return r;
 }
 
@@ -511,10 +514,11 @@ void refuse_if_every_mock_failed(const CalibrationSummary& s) {
 std::string calibration_statement(const CalibrationSummary& s, const CalibrationOptions& opt) {
   char buf[512];
   std::snprintf(buf, sizeof buf,
-                "a symmetric disc with these data is called robust or reversed in %.1f%% (+- %.1f%%) of %zu "
-                "matched mocks, and a disc with the measured A = %.3f is called %s in %.1f%% of %zu",
-                100.0 * s.false_robust.rate, 100.0 * s.false_robust.err, s.false_robust.n, s.achieved_asymmetry,
-                recovered_verdict(s).c_str(), 100.0 * s.recovery.rate, s.recovery.n);
+                "a symmetric disc with these data is called robust or reversed in %.1f%% of %zu matched mocks "
+                "(95%% interval %.1f-%.1f%%), and a disc with the measured A = %.3f is called %s in %.1f%% of %zu",
+                100.0 * s.false_robust.rate, s.false_robust.n, 100.0 * s.false_robust.lo95,
+                100.0 * s.false_robust.hi95, s.achieved_asymmetry, recovered_verdict(s).c_str(),
+                100.0 * s.recovery.rate, s.recovery.n);
   std::string st = buf;
   if (s.symmetric_failures + s.lopsided_failures > 0) {
     std::snprintf(buf, sizeof buf, "; %zu symmetric and %zu lopsided mocks failed (centre re-fit or analysis) "
@@ -692,7 +696,9 @@ robustness::CalibrationEvidence verdict_evidence(const CalibrationSummary& s) {
 }
 
 namespace {
-json rate_json(const Rate& r) { return {{"k", r.k}, {"n", r.n}, {"rate", r.rate}, {"err", r.err}}; }
+json rate_json(const Rate& r) {
+  return {{"k", r.k}, {"n", r.n}, {"rate", r.rate}, {"err", r.err}, {"ci95", {r.lo95, r.hi95}}};
+}
 json num(double v) { return std::isfinite(v) ? json(v) : json(nullptr); }
 }  // namespace
 

@@ -171,7 +171,10 @@ void read_calibration(const Fields& r, GalaxySummary& s) {
   if (c.has("false_robust_rate")) {
     calibration::CalibrationSummary cs;
     cs.false_robust.rate = c.number("false_robust_rate");
-    cs.false_robust.err = c.sub("false_robust").number("err");
+    const Fields fr = c.sub("false_robust");
+    cs.false_robust.err = fr.number("err");
+    if (const double lo = fr.number_at("ci95", 0), hi = fr.number_at("ci95", 1); std::isfinite(lo) && std::isfinite(hi))
+      cs.false_robust.lo95 = lo, cs.false_robust.hi95 = hi;
     cs.recovery.rate = c.number("recovery_rate");
     cs.statement = c.text("statement");
     out.summary = cs;

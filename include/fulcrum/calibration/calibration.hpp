@@ -152,6 +152,7 @@ struct MockOutcome {
 struct Rate {
   std::size_t k = 0, n = 0;
   double rate = 0.0, err = 0.0;     // k/n and sqrt(p(1-p)/n) (binomial)
+  double lo95 = 0.0, hi95 = 1.0;    // Wilson 95% interval (core/binomial_interval.hpp)
 };
 
 struct CalibrationSummary {
