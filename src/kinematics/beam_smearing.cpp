@@ -78,50 +78,103 @@ std::vector<std::vector<double>> smear_moment1_fields(const std::vector<std::vec
   const std::size_t p = fields.size();
   FULCRUM_CHECK(intensity.size() == n, n, intensity.size());
   FULCRUM_CHECK(where.empty() || where.size() == n, n, where.size());
+  for (const auto& f : fields) FULCRUM_CHECK(f.size() == n, n, f.size());
   std::vector<std::vector<double>> out(p, std::vector<double>(n, kNaN));
   if (p == 0) return out;
   const PixelKernel kernel = gaussian_kernel(pixel_cov, truncate_sigma);
-  // Emission I, and I times every field interleaved per pixel ([pixel][field]).
-  std::vector<double> w(n, 0.0), wv(n * p, 0.0);
-  for (std::size_t i = 0; i < n; ++i) {
-    const double I = intensity[i];
-    if (!(std::isfinite(I) && I > 0)) continue;
-    w[i] = I;
-    for (std::size_t c = 0; c < p; ++c) {
-      FULCRUM_CHECK(fields[c].size() == n, n, fields[c].size());
-      wv[i * p + c] = I * fields[c][i];
-    }
-  }
   const int hx = kernel.hx, hy = kernel.hy, kw = 2 * hx + 1;
+
+  // Every output pixel sums its taps k * I and k * I v in one fixed order
+  // (dy, then dx, ascending). A pixel without emission or beyond the grid,
+  // and a tap of weight 0, add a zero, which leaves a sum as it was (a sum
+  // that starts at +0 never becomes -0): whether such terms are added or left
+  // out does not change a bit. So the planes below are zero-padded and their
+  // empty pixels added, and each kernel row's zero taps at its ends are left
+  // out; the sums are bit for bit those of a pixel-by-pixel loop that skips
+  // every empty pixel (tested). A block of kLanes consecutive output pixels
+  // is advanced tap by tap with one sum each, which keeps every pixel's order
+  // while the additions run as vector operations across the block (as
+  // convolve_gaussian does). The fields are smeared one after the other
+  // through one plane, sharing B * I.
+  constexpr int kLanes = 8;
+  const int pw = nx + 2 * hx + kLanes, ph = ny + 2 * hy;
+  const std::size_t np = static_cast<std::size_t>(pw) * static_cast<std::size_t>(ph);
+  auto padded = [&](int x, int y) {
+    return static_cast<std::size_t>(x + hx) + static_cast<std::size_t>(pw) * static_cast<std::size_t>(y + hy);
+  };
+  // The emission I, zero-padded; then one plane of I times a field at a time.
+  std::vector<double> emission(np, 0.0), plane(np, 0.0);
+  for (int y = 0; y < ny; ++y)
+    for (int x = 0; x < nx; ++x) {
+      const double I = intensity[idx(x, y, nx)];
+      if (std::isfinite(I) && I > 0) emission[padded(x, y)] = I;
+    }
+  // Per kernel row, the taps of non-zero weight (a contiguous run of dx for
+  // the truncated ellipse; the zero taps add +0 and are left out).
+  std::vector<int> dx_first(static_cast<std::size_t>(2 * hy + 1)), dx_last(dx_first.size());
+  for (int dy = -hy; dy <= hy; ++dy) {
+    int lo = hx + 1, hi = -hx - 1;
+    for (int dx = -hx; dx <= hx; ++dx)
+      if (kernel.at(dx, dy) != 0.0) lo = std::min(lo, dx), hi = std::max(hi, dx);
+    dx_first[static_cast<std::size_t>(dy + hy)] = lo;
+    dx_last[static_cast<std::size_t>(dy + hy)] = hi;
+  }
+  // The sums over the taps for the output pixels x0 .. x0 + kLanes - 1 of
+  // row y, on one zero-padded plane.
+  auto block_sum = [&](const std::vector<double>& pl, int x0, int y, double* result) {
+    // An Eigen array of kLanes sums, so that the additions run element-wise
+    // across the block (one lane per output pixel), never within one sum.
+    using Lanes = Eigen::Array<double, kLanes, 1>;
+    Lanes acc = Lanes::Zero();
+    for (int dy = -hy; dy <= hy; ++dy) {
+      const std::size_t r = static_cast<std::size_t>(dy + hy);
+      const double* krow = &kernel.weight[static_cast<std::size_t>(kw) * r + static_cast<std::size_t>(hx)];
+      const double* row = pl.data() + padded(x0, y - dy);
+      for (int dx = dx_first[r]; dx <= dx_last[r]; ++dx) acc += krow[dx] * Eigen::Map<const Lanes>(row - dx);
+    }
+    Eigen::Map<Lanes> out_block(result);
+    out_block = acc;
+  };
+  // The blocks holding a pixel to compute, per row.
+  std::vector<std::vector<int>> blocks(static_cast<std::size_t>(ny));
+  for (int y = 0; y < ny; ++y)
+    for (int x0 = 0; x0 < nx; x0 += kLanes) {
+      bool any = where.empty();
+      for (int l = 0; l < kLanes && x0 + l < nx && !any; ++l) any = where[idx(x0 + l, y, nx)] != 0;
+      if (any) blocks[static_cast<std::size_t>(y)].push_back(x0);
+    }
   // Threads only pay off for large maps: on a small one (a few thousand
   // pixels) starting and spinning them costs more than the sums.
   const std::size_t outputs =
       where.empty() ? n : static_cast<std::size_t>(std::count(where.begin(), where.end(), 1));
   const bool threaded =
       static_cast<double>(outputs) * static_cast<double>(kernel.weight.size()) * static_cast<double>(p) > 2e7;
+  // B * I at every block pixel (nx rounded up to whole blocks per row).
+  const std::size_t bw = static_cast<std::size_t>((nx + kLanes - 1) / kLanes * kLanes);
+  std::vector<double> den(bw * static_cast<std::size_t>(ny), 0.0);
 #pragma omp parallel for schedule(static) if (threaded)
-  for (int y = 0; y < ny; ++y) {
-    std::vector<double> num(p);
-    for (int x = 0; x < nx; ++x) {
-      const std::size_t i = idx(x, y, nx);
-      if (!where.empty() && !where[i]) continue;
-      const int dx_lo = std::max(-hx, x - (nx - 1)), dx_hi = std::min(hx, x);
-      const int dy_lo = std::max(-hy, y - (ny - 1)), dy_hi = std::min(hy, y);
-      std::fill(num.begin(), num.end(), 0.0);
-      double den = 0.0;
-      for (int dy = dy_lo; dy <= dy_hi; ++dy) {
-        const double* krow = &kernel.weight[static_cast<std::size_t>(kw) * (dy + hy) + hx];
-        for (int dx = dx_lo; dx <= dx_hi; ++dx) {
-          const std::size_t j = idx(x - dx, y - dy, nx);
-          if (w[j] == 0.0) continue;
-          const double k = krow[dx];
-          den += k * w[j];
-          const double* v = &wv[j * p];
-          for (std::size_t c = 0; c < p; ++c) num[c] += k * v[c];
+  for (int y = 0; y < ny; ++y)
+    for (int x0 : blocks[static_cast<std::size_t>(y)])
+      block_sum(emission, x0, y, &den[bw * static_cast<std::size_t>(y) + static_cast<std::size_t>(x0)]);
+  for (std::size_t c = 0; c < p; ++c) {
+    const std::vector<double>& f = fields[c];
+    for (int y = 0; y < ny; ++y)
+      for (int x = 0; x < nx; ++x) {
+        const std::size_t q = padded(x, y);
+        if (emission[q] != 0.0) plane[q] = emission[q] * f[idx(x, y, nx)];
+      }
+    std::vector<double>& o = out[c];
+#pragma omp parallel for schedule(static) if (threaded)
+    for (int y = 0; y < ny; ++y) {
+      double num[kLanes];
+      for (int x0 : blocks[static_cast<std::size_t>(y)]) {
+        block_sum(plane, x0, y, num);
+        const double* d = &den[bw * static_cast<std::size_t>(y) + static_cast<std::size_t>(x0)];
+        for (int l = 0; l < kLanes && x0 + l < nx; ++l) {
+          const std::size_t i = idx(x0 + l, y, nx);
+          if ((where.empty() || where[i]) && d[l] > 0) o[i] = num[l] / d[l];
         }
       }
-      if (den > 0)
-        for (std::size_t c = 0; c < p; ++c) out[c][i] = num[c] / den;
     }
   }
   return out;
