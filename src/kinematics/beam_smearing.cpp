@@ -62,16 +62,26 @@ constexpr int kLanes = 16;
 // by lane, so every lane is an ordinary sum of its own.
 using Lanes4 = double __attribute__((vector_size(32)));
 
+// A zero-padded plane (pw columns, x fastest) with, per row, the first and
+// last column holding a non-zero value (lo > hi: none).
+struct PaddedPlane {
+  std::vector<double> value;
+  std::vector<int> lo, hi;
+};
+
 // The tap sums of one block of kLanes output pixels on a zero-padded plane:
 // for kernel rows r = 0 .. rows - 1 (dy = r - hy ascending), the plane row
-// `row0 - r * row_step` (the padded row y - dy, at the block's first pixel),
-// and the taps dx = first[r] .. last[r] of kernel row `krow0 + r * k_step`
+// `row0 - r * row_step` (the padded row y - dy, at the block's first pixel,
+// padded column col0) with its non-zero columns lo0[-r] .. hi0[-r], and
+// the taps dx = first[r] .. last[r] of kernel row `krow0 + r * k_step`
 // (indexed by dx), result[l] = sum over (r, dx) in that order of
-// k(dx, dy) * plane[row - dx + l]. Compiled twice, for AVX and for the
+// k(dx, dy) * plane[row - dx + l]. A tap whose kLanes values are all zero
+// is left out (it would add zeros). Compiled twice, for AVX and for the
 // baseline, the one chosen when the program starts: AVX without FMA does the
 // same multiplications and additions in the same order, so both give the
 // same bits (tested against a pixel-by-pixel loop).
 __attribute__((target_clones("avx", "default"))) void tap_sums(const double* row0, std::ptrdiff_t row_step,
+                                                               const int* lo0, const int* hi0, int col0,
                                                                const double* krow0, std::ptrdiff_t k_step,
                                                                const int* first, const int* last, int rows,
                                                                double* result) {
@@ -81,7 +91,9 @@ __attribute__((target_clones("avx", "default"))) void tap_sums(const double* row
   for (int r = 0; r < rows; ++r) {
     const double* krow = krow0 + r * k_step;
     const double* row = row0 - r * row_step;
-    for (int dx = first[r]; dx <= last[r]; ++dx) {
+    // Tap dx reads columns col0 - dx .. col0 - dx + kLanes - 1.
+    const int dx_lo = std::max(first[r], col0 - hi0[-r]), dx_hi = std::min(last[r], col0 + kLanes - 1 - lo0[-r]);
+    for (int dx = dx_lo; dx <= dx_hi; ++dx) {
       const double k = krow[dx];
       const Lanes4 kk = {k, k, k, k};
       for (int v = 0; v < kVectors; ++v) {
@@ -130,25 +142,43 @@ std::vector<std::vector<double>> smear_moment1_fields(const std::vector<std::vec
   // and a tap of weight 0, add a zero, which leaves a sum as it was (a sum
   // that starts at +0 never becomes -0): whether such terms are added or left
   // out does not change a bit. So the planes below are zero-padded and their
-  // empty pixels added, and each kernel row's zero taps at its ends are left
-  // out; the sums are bit for bit those of a pixel-by-pixel loop that skips
-  // every empty pixel (tested). A block of kLanes consecutive output pixels
-  // is advanced tap by tap with one sum each, which keeps every pixel's order
-  // while the additions run as vector operations across the block (as
-  // convolve_gaussian does). The fields are smeared one after the other
-  // through one plane, sharing B * I.
+  // empty pixels added, while each kernel row's zero taps at its ends and
+  // every tap that reads only zeros for the whole block (beyond a row's
+  // non-zero extent: a node speed's column of the Jacobian is non-zero in an
+  // annulus only) are left out; the sums are bit for bit those of a
+  // pixel-by-pixel loop that skips every empty pixel (tested). A block of
+  // kLanes consecutive output pixels is advanced tap by tap with one sum
+  // each, which keeps every pixel's order while the additions run as vector
+  // operations across the block (as convolve_gaussian does). The fields are
+  // smeared one after the other through one plane, sharing B * I.
   const int pw = nx + 2 * hx + kLanes, ph = ny + 2 * hy;
   const std::size_t np = static_cast<std::size_t>(pw) * static_cast<std::size_t>(ph);
   auto padded = [&](int x, int y) {
     return static_cast<std::size_t>(x + hx) + static_cast<std::size_t>(pw) * static_cast<std::size_t>(y + hy);
   };
   // The emission I, zero-padded; then one plane of I times a field at a time.
-  std::vector<double> emission(np, 0.0), plane(np, 0.0);
-  for (int y = 0; y < ny; ++y)
+  PaddedPlane emission, plane;
+  for (PaddedPlane* pp : {&emission, &plane}) {
+    pp->value.assign(np, 0.0);
+    pp->lo.assign(static_cast<std::size_t>(ph), pw);
+    pp->hi.assign(static_cast<std::size_t>(ph), -1);
+  }
+  // Row y's value v(x) into the plane, with the row's non-zero extent.
+  auto fill_row = [&](PaddedPlane& pp, int y, auto&& v) {
+    int lo = pw, hi = -1;
     for (int x = 0; x < nx; ++x) {
-      const double I = intensity[idx(x, y, nx)];
-      if (std::isfinite(I) && I > 0) emission[padded(x, y)] = I;
+      const double a = v(x);
+      pp.value[padded(x, y)] = a;
+      if (a != 0.0) lo = std::min(lo, x + hx), hi = std::max(hi, x + hx);
     }
+    pp.lo[static_cast<std::size_t>(y + hy)] = lo;
+    pp.hi[static_cast<std::size_t>(y + hy)] = hi;
+  };
+  for (int y = 0; y < ny; ++y)
+    fill_row(emission, y, [&](int x) {
+      const double I = intensity[idx(x, y, nx)];
+      return std::isfinite(I) && I > 0 ? I : 0.0;
+    });
   // Per kernel row, the taps of non-zero weight (a contiguous run of dx for
   // the truncated ellipse; the zero taps add +0 and are left out).
   std::vector<int> dx_first(static_cast<std::size_t>(2 * hy + 1)), dx_last(dx_first.size());
@@ -161,9 +191,11 @@ std::vector<std::vector<double>> smear_moment1_fields(const std::vector<std::vec
   }
   // The sums over the taps for the output pixels x0 .. x0 + kLanes - 1 of
   // row y, on one zero-padded plane.
-  auto block_sum = [&](const std::vector<double>& pl, int x0, int y, double* result) {
-    tap_sums(pl.data() + padded(x0, y + hy), pw, &kernel.weight[static_cast<std::size_t>(hx)], kw,
-             dx_first.data(), dx_last.data(), 2 * hy + 1, result);
+  auto block_sum = [&](const PaddedPlane& pl, int x0, int y, double* result) {
+    const std::size_t top = static_cast<std::size_t>(y + 2 * hy);  // padded row of dy = -hy
+    tap_sums(pl.value.data() + padded(x0, y + hy), pw, &pl.lo[top], &pl.hi[top], x0 + hx,
+             &kernel.weight[static_cast<std::size_t>(hx)], kw, dx_first.data(), dx_last.data(), 2 * hy + 1,
+             result);
   };
   // The blocks holding a pixel to compute, per row.
   std::vector<std::vector<int>> blocks(static_cast<std::size_t>(ny));
@@ -189,10 +221,10 @@ std::vector<std::vector<double>> smear_moment1_fields(const std::vector<std::vec
   for (std::size_t c = 0; c < p; ++c) {
     const std::vector<double>& f = fields[c];
     for (int y = 0; y < ny; ++y)
-      for (int x = 0; x < nx; ++x) {
-        const std::size_t q = padded(x, y);
-        if (emission[q] != 0.0) plane[q] = emission[q] * f[idx(x, y, nx)];
-      }
+      fill_row(plane, y, [&](int x) {
+        const double I = emission.value[padded(x, y)];
+        return I != 0.0 ? I * f[idx(x, y, nx)] : 0.0;
+      });
     std::vector<double>& o = out[c];
 #pragma omp parallel for schedule(static) if (threaded)
     for (int y = 0; y < ny; ++y) {
