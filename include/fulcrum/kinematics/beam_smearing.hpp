@@ -71,9 +71,9 @@ std::vector<double> smear_moment1(const std::vector<double>& velocity,
 
 // The same for several fields at once with one intensity: fields[c] holds
 // field c (nx * ny, every value finite); the result's [c] is field c smeared.
-// B * I is computed once and the numerators of all fields in one pass, so p
-// fields cost about what two single ones do (the Jacobian's columns,
-// centre_covariance.cpp).
+// B * I is computed once for all fields (the Jacobian's columns,
+// centre_covariance.cpp), so p fields cost about (p + 1) / 2 single ones.
+// Every result is bit for bit that of smear_moment1 on its field.
 std::vector<std::vector<double>> smear_moment1_fields(const std::vector<std::vector<double>>& fields,
                                                       const std::vector<double>& intensity, int nx, int ny,
                                                       const Eigen::Matrix2d& pixel_cov,
