@@ -631,12 +631,12 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
   // Capped at the cores and the galaxies (core/thread_count.hpp), checked
   // before any folder is made.
   const int threads = thread_count("threads", o.threads, selected.size());
-  check_galaxy_files(manifest, selected);
   // The folder is replaced whole: no input may lie in it.
   std::vector<std::pair<std::string, std::string>> inputs{{"manifest", manifest.path}};
   for (const auto& g : selected)
     for (const auto& f : galaxy_files(g)) inputs.emplace_back(f.first, *f.second);
   check_inputs_outside_folder(inputs, {"out", o.out_dir});
+  check_galaxy_files(manifest, selected);
   // One writer (io/staged_folder.hpp): one run at a time into a folder (a
   // lock); a folder with anything in it only with `overwrite`; everything,
   // the shard record last, written into a staging folder beside DIR and

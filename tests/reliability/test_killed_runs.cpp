@@ -107,7 +107,7 @@ std::string joined(const std::vector<std::string>& v) {
 
 }  // namespace
 
-TEST_CASE("analyse killed with SIGKILL mid-work leaves no output folder; the next run needs no --force",
+TEST_CASE("analyse killed with SIGKILL mid-work leaves no output folder, and the next run needs no --force",
           "[reliability][output-safety][sigkill]") {
   const auto dir = fulcrum::test::temp_dir("sigkill-analyse");
   fulcrum::test::TinyDisc d;
@@ -126,7 +126,7 @@ TEST_CASE("analyse killed with SIGKILL mid-work leaves no output folder; the nex
   CHECK(entries(dir) == std::vector<std::string>{"disc", "res"});
 }
 
-TEST_CASE("run killed with SIGKILL mid-work: no folder, or the old one whole; the next run is clean",
+TEST_CASE("run killed with SIGKILL mid-work: no folder or the old one whole, and the next run is clean",
           "[reliability][output-safety][sigkill]") {
   const auto dir = fulcrum::test::temp_dir("sigkill-run");
   const std::string manifest = fulcrum::test::write_tiny_sample(dir, 3, 7, 300, 4);
