@@ -1,7 +1,7 @@
 #!/usr/bin/python3
 """Black-box fuzzing of the fulcrum executable (no instrumentation).
 
-    tools/fuzz_processes.py FULCRUM INPUTS SECONDS cli|cube [SEED]
+    tools/fuzz_processes.py FULCRUM INPUTS SECONDS cli|cube|fits|toml [SEED]
 
 INPUTS is a folder made by tools/make_bad_inputs.py. Each trial runs the
 executable in a fresh folder under a 2.5 GB address-space limit and a 30 s
@@ -12,11 +12,17 @@ time limit, and counts as a finding when it
   * fails (status 2) with other than exactly one line "fulcrum: ..." on
     stderr (warnings aside), or
   * leaves files in its output folder after a refusal.
-`cli`: random command lines: a subcommand, options taken from its --help,
+`cli`: random command lines: a subcommand (not `demo`), options taken from its --help,
 values drawn from edge cases (0, -1, nan, inf, 1e300, huge integers, empty,
 long text, the bad inputs). `cube`: `moments --cube` on mutations of a valid
 cube (header cards replaced, duplicated or dropped; bytes flipped; the file
-cut short). Prints a summary and the first findings; exit 1 when any.
+cut short). `fits`: the same mutations of the valid velocity and line maps
+of INPUTS (good_vel.fits, good_mom0.fits), read by `inspect`, `split`,
+`kinematics` or `analyse`. `toml`: `run` on mutations of a valid sample
+manifest naming those maps (a value replaced by an edge value, a line given
+twice, dropped or cut, a key renamed, a table header put in, bytes flipped,
+the text cut short). Prints a summary and the first findings; exit 1 when
+any.
 """
 import os
 import random
@@ -88,7 +94,7 @@ def cli_trial(exe, inputs, subs, rng, work):
     return args
 
 
-def cube_trial(good, rng, work):
+def mutate_fits(good, rng):
     data = bytearray(good)
     kind = rng.randrange(4)
     header_end = data.find(b"END" + b" " * 77)
@@ -114,10 +120,79 @@ def cube_trial(good, rng, work):
             data[rng.randrange(len(data))] = rng.randrange(256)
     else:  # cut short
         data = data[: rng.randrange(len(data))]
+    return bytes(data)
+
+
+def cube_trial(good, rng, work):
     path = os.path.join(work, "cube.fits")
     with open(path, "wb") as f:
-        f.write(bytes(data))
+        f.write(mutate_fits(good, rng))
     return ["moments", "--cube", path, "--out", os.path.join(work, "out")]
+
+
+def fits_trial(inputs, rng, work):
+    vel, mom0 = os.path.join(inputs, "good_vel.fits"), os.path.join(inputs, "good_mom0.fits")
+    which = rng.choice(["velocity", "intensity"])
+    path = os.path.join(work, which + ".fits")
+    with open(vel if which == "velocity" else mom0, "rb") as f:
+        good = f.read()
+    with open(path, "wb") as f:
+        f.write(mutate_fits(good, rng))
+    if which == "velocity":
+        vel = path
+    else:
+        mom0 = path
+    command = rng.choice(["inspect", "inspect", "split", "split", "kinematics", "analyse"])
+    if command == "inspect":
+        return ["inspect", path]
+    if command == "split":
+        return ["split", "--intensity", mom0, "--rms", "0.01", "--centre", "150.0,20.0", "--tail-pa", "300",
+                "--json", os.path.join(work, "s.json")]
+    if command == "kinematics":
+        return ["kinematics", "--velocity", vel, "--json", os.path.join(work, "k.json")]
+    return ["analyse", "--velocity", vel, "--intensity", mom0, "--rms", "0.01", "--tail-pa", "300", "--draws", "100",
+            "--calibrate", "0", "--no-figures", "--out", os.path.join(work, "out")]
+
+
+TOML_VALUES = ["0", "-1", "1e300", "nan", "inf", "-inf", "true", '""', '"x"', "[]", "{}", "[1, 2]",
+               '"' + "n" * 300 + '"', "9223372036854775807", "18446744073709551616", "1979-05-27T07:32:00Z",
+               "'''a'''", '"\\u0000"', '"../../etc"', '"/dev/null"', '"good_vel.fits"', "300.0", "2e9"]
+TOML_KEYS = ["name", "velocity", "cube", "rms", "seed", "draws", "tail_pa_deg", "centre", "psf_fwhm_arcsec",
+             "grow_pixels", "x" * 200, "", "a.b"]
+TOML_TABLES = ["[[galaxy]]", "[sample]", "[galaxy]", "[[sample]]", "[", "[[galaxy]", "[moments]"]
+
+
+def toml_trial(inputs, rng, work):
+    lines = ['[sample]', 'name = "fuzz sample"', 'seed = 7', 'draws = 100', 'calibrate = 0', '',
+             '[[galaxy]]', 'name = "Mock-A"', 'velocity = "%s"' % os.path.join(inputs, "good_vel.fits"),
+             'intensity = "%s"' % os.path.join(inputs, "good_mom0.fits"),
+             'intensity_error = "%s"' % os.path.join(inputs, "good_mom0_err.fits"),
+             'tail_pa_deg = 300.0', 'tail_pa_err_deg = 10.0', 'distance_mpc = 16.5']
+    for _ in range(rng.randint(1, 3)):
+        kind = rng.randrange(6)
+        i = rng.randrange(len(lines))
+        if kind == 0 and "=" in lines[i]:  # replace a value
+            lines[i] = lines[i].split("=")[0] + "= " + rng.choice(TOML_VALUES)
+        elif kind == 1:  # a line given twice (a key or a table)
+            lines.insert(i, lines[i])
+        elif kind == 2:  # drop a line
+            del lines[i]
+        elif kind == 3 and "=" in lines[i]:  # rename a key
+            lines[i] = rng.choice(TOML_KEYS) + " =" + lines[i].split("=", 1)[1]
+        elif kind == 4:  # cut a line
+            lines[i] = lines[i][: rng.randrange(len(lines[i]) + 1)]
+        else:  # a table header in between
+            lines.insert(i, rng.choice(TOML_TABLES))
+    data = bytearray(("\n".join(lines) + "\n").encode())
+    if rng.random() < 0.15:
+        for _ in range(rng.randint(1, 5)):
+            data[rng.randrange(len(data))] = rng.randrange(256)
+    if rng.random() < 0.1:
+        data = data[: rng.randrange(len(data))]
+    path = os.path.join(work, "sample.toml")
+    with open(path, "wb") as f:
+        f.write(bytes(data))
+    return ["run", path, "--threads", "1", "--no-figures", "--out", os.path.join(work, "out")]
 
 
 def make_cube(path):
@@ -135,13 +210,19 @@ def make_cube(path):
 
 
 def main(argv):
-    exe, inputs, seconds, mode = os.path.abspath(argv[1]), argv[2], float(argv[3]), argv[4]
+    exe, inputs, seconds, mode = os.path.abspath(argv[1]), os.path.abspath(argv[2]), float(argv[3]), argv[4]
+    if mode not in ("cli", "cube", "fits", "toml"):
+        sys.exit("mode must be cli, cube, fits or toml")
     rng = random.Random(int(argv[5]) if len(argv) > 5 else 1)
     subs = {}
     if mode == "cli":
         listed = subprocess.run([exe, "--help"], capture_output=True, text=True).stdout
         for sub in re.findall(r"^\s+([a-z]+)\s", listed.split("SUBCOMMANDS")[-1], re.M):
-            subs[sub] = options_of(exe, sub)
+            # `demo` alone is a valid run of minutes (six galaxies, their
+            # calibration), a timeout by design; its settings are in the
+            # catalogue and the resource sweep.
+            if sub != "demo":
+                subs[sub] = options_of(exe, sub)
     base = tempfile.mkdtemp(prefix="fulcrum-fuzz-")
     good = None
     if mode == "cube":
@@ -151,7 +232,14 @@ def main(argv):
     while time.time() - start < seconds:
         work = os.path.join(base, "t%d" % trials)
         os.makedirs(work)
-        args = cli_trial(exe, inputs, subs, rng, work) if mode == "cli" else cube_trial(good, rng, work)
+        if mode == "cli":
+            args = cli_trial(exe, inputs, subs, rng, work)
+        elif mode == "cube":
+            args = cube_trial(good, rng, work)
+        elif mode == "fits":
+            args = fits_trial(inputs, rng, work)
+        else:
+            args = toml_trial(inputs, rng, work)
         code, err = run(exe, args, work)
         codes[code] = codes.get(code, 0) + 1
         bad = judge(code, err, os.path.join(work, "out"))

@@ -538,8 +538,8 @@ std::string calibration_statement(const CalibrationSummary& s, const Calibration
 }  // namespace
 
 void check_mock_work(std::string_view mocks_setting, std::int64_t n_mocks, std::int64_t n_draws) {
-  check_integer_in_range(mocks_setting, n_mocks, 1, 100000, "mocks per set");
-  check_integer_in_range("mock_draws", n_draws, 100, 10000000);
+  check_count_limit(mocks_setting, n_mocks, 1, 1e5, "the calibration", "mocks per set");
+  check_count_limit("mock_draws", n_draws, 100, 1e7, "each mock's bootstrap", "draws");
   const double total = 2.0 * static_cast<double>(n_mocks) * static_cast<double>(n_draws);
   check_work_limit("mock_draws", std::to_string(n_draws), "the mocks' bootstraps", total, kMaxMockDraws, "draws",
                    "2 sets x " + std::to_string(n_mocks) + " mocks x " + std::to_string(n_draws) + " draws");

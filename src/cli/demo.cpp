@@ -6,10 +6,12 @@
 #include <fstream>
 #include <iostream>
 #include <memory>
+#include <optional>
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
 #include "fulcrum/io/staged_folder.hpp"
+#include "fulcrum/pipeline/input_settings.hpp"
 #include "fulcrum/pipeline/sample_run.hpp"
 #include "subcommand.hpp"
 
@@ -19,40 +21,56 @@ namespace {
 struct DemoArgs {
   std::string out = "fulcrum-demo";
   int threads = 0;
-  int draws = 0;
+  std::int64_t draws = 0;
 };
 
 void run_demo(const DemoArgs& a, CLI::App* cmd) {
   using namespace fulcrum;
   namespace fs = std::filesystem;
   set_quiet(cli::global_flags().quiet);
-  fs::path data = fs::path(a.out) / "data";
-  fs::path results = fs::path(a.out) / "results";
-  // One demo run at a time into a folder; one holding anything needs --force.
-  const OutputLock lock(a.out, cli::global_flags().force);
   auto sample = synth::demo_sample();
-  note("writing " + std::to_string(sample.size()) + " invented demo galaxies into " + data.string());
-  std::string manifest = synth::write_sample(data.string(), sample, "Orrin cluster (invented demo sample)", 7);
-  auto m = pipeline::read_manifest(manifest);
-  pipeline::RunOptions o;
-  o.out_dir = results.string();
-  o.threads = a.threads;
-  o.overwrite = true;
-  if (cmd->count("--draws")) o.draws = a.draws;
-  auto s = pipeline::run_sample(m, o);
-  std::cout << pipeline::summary_text(s.galaxies) << "\n";
-  int matched = 0;
-  for (const auto& g : sample) {
-    std::string got;
-    for (const auto& r : s.galaxies)
-      if (r.input.name == g.name) got = robustness::verdict_name(r.verdict);
-    bool ok = got == g.expected_verdict;
-    matched += ok;
-    std::cout << (ok ? "  as built:  " : "  DIFFERENT: ") << g.name << " built to be " << g.expected_verdict
-              << ", found " << got << "\n";
+  std::optional<int> draws;  // checked before anything is written
+  if (cmd->count("--draws")) draws = pipeline::setting::draws(a.draws);
+  // One writer (io/staged_folder.hpp): data and results are written into a
+  // staging folder beside --out and renamed into place at the end; one demo
+  // run at a time into a folder; one holding anything needs --force, which
+  // replaces it whole.
+  StagedFolder out(a.out, cli::global_flags().force);
+  const fs::path data = fs::path(out.path()) / "data", results = fs::path(out.path()) / "results";
+  const fs::path shown = fs::path(a.out);
+  try {
+    note("writing " + std::to_string(sample.size()) + " invented demo galaxies into " + (shown / "data").string());
+    const std::string manifest =
+        synth::write_sample(data.string(), sample, "Orrin cluster (invented demo sample)", 7);
+    auto m = pipeline::read_manifest(manifest);
+    pipeline::RunOptions o;
+    o.out_dir = results.string();
+    o.threads = a.threads;
+    // report.json names the data where it will be once --out is in place.
+    o.shown_paths = {out.path(), a.out};
+    o.draws = draws;
+    auto s = pipeline::run_sample(m, o);
+    out.commit();
+    std::cout << pipeline::summary_text(s.galaxies) << "\n";
+    int matched = 0;
+    for (const auto& g : sample) {
+      std::string got;
+      for (const auto& r : s.galaxies)
+        if (r.input.name == g.name) got = robustness::verdict_name(r.verdict);
+      bool ok = got == g.expected_verdict;
+      matched += ok;
+      std::cout << (ok ? "  as built:  " : "  DIFFERENT: ") << g.name << " built to be " << g.expected_verdict
+                << ", found " << got << "\n";
+    }
+    std::cout << "\n" << matched << " of " << sample.size()
+              << " demo galaxies reached the verdict they were built for.\n"
+              << "manifest: " << (shown / "data" / fs::path(manifest).filename()).string()
+              << "\nreport:   " << (shown / "results" / "report.html").string() << "\n";
+  } catch (const InputError& e) {
+    // A failed write names the file in --out, not the hidden staging folder.
+    if (e.file() == out.shown_in_target(e).file()) throw;
+    throw out.shown_in_target(e);
   }
-  std::cout << "\n" << matched << " of " << sample.size() << " demo galaxies reached the verdict they were built for.\n"
-            << "manifest: " << manifest << "\nreport:   " << s.html_path << "\n";
 }
 }  // namespace
 

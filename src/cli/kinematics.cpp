@@ -23,6 +23,7 @@
 #include <memory>
 #include <optional>
 
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/io/distinct_paths.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/number_text.hpp"
@@ -115,7 +116,7 @@ void run(const KinematicsArgs& a) {
     for (const auto& p : {model_path, resid_path, smeared_path, ecsv_path, csv_path}) check_new(p);
   }
 
-  const auto centre_refits = check_integer_in_range("centre_refits", a.centre_refits, 0, 10000, "re-fits");
+  const auto centre_refits = check_count_limit("centre_refits", a.centre_refits, 0, 1e4, "the centre bootstrap", "re-fits");
   const std::uint64_t seed = pipeline::setting::seed(a.seed);
   KinematicFit fit = fit_kinematics(vel, err ? &*err : nullptr, opt, inten ? &*inten : nullptr);
   // The re-fit bootstrap widens the tilted-ring centre's covariance as the

@@ -120,8 +120,9 @@ int main(int argc, char** argv) {
           "POSITIVE"));
   app.add_option_function<double>(
          "--limit-scale", [](double f) { set_work_limit_scale(f); },
-         "Multiply the work limits (scan grid points, tilted rings, mock bootstrap draws) by this factor, "
-         "1 to 1e6 (default 1, or the FULCRUM_LIMIT_SCALE environment variable); images: --max-pixels")
+         "Multiply every work limit (scan grid points, tilted rings, bootstrap draws, mocks, mask growth, "
+         "centre re-fits, manifest size) by this factor, 1 to 1e6 (default 1, or the FULCRUM_LIMIT_SCALE "
+         "environment variable); images: --max-pixels")
       ->configurable(false);
   app.fallthrough();
 

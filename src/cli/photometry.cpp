@@ -13,6 +13,7 @@
 #include <memory>
 #include <sstream>
 
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/io/distinct_paths.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/log.hpp"
@@ -64,7 +65,7 @@ void run_photometry(const PhotometryArgs& a, CLI::App* cmd) {
   check_distinct_paths({{"image", a.image}, {"mask", a.mask}}, {{"json", a.json}});
   if (std::filesystem::exists(a.json) && !cli::global_flags().force)
     throw InputError(a.json, "the output file exists (use --force to overwrite it)");
-  const int bootstrap = static_cast<int>(check_integer_in_range("bootstrap", a.bootstrap, 3, 1000000, "draws"));
+  const int bootstrap = static_cast<int>(check_count_limit("bootstrap", a.bootstrap, 3, 1e6, "the centre bootstrap", "draws"));
   const std::uint64_t seed = pipeline::setting::seed(a.seed);
   // Given: must be usable (never silently replaced by the header's beam).
   if (cmd->count("--psf-fwhm")) pipeline::setting::psf_fwhm_arcsec(a.psf_fwhm);

@@ -53,4 +53,25 @@ void check_work_limit(std::string_view setting, const std::string& value_text, s
   throw SettingError(std::string(setting), value_text, rule);
 }
 
+std::string count_limit_rule(std::int64_t value, std::int64_t lo, double limit, std::string_view what,
+                             std::string_view unit, std::int64_t type_max) {
+  const double scaled = limit * work_limit_scale();
+  const bool capped = !(scaled < static_cast<double>(type_max));
+  const std::int64_t hi = capped ? type_max : static_cast<std::int64_t>(scaled);
+  if (value < lo || (capped && value > hi))
+    return "a whole number within [" + std::to_string(lo) + ", " + std::to_string(hi) + "]" +
+           (unit.empty() ? "" : " " + std::string(unit));
+  if (value <= hi) return "";
+  return "within the limit of " + estimate_text(static_cast<double>(hi)) + " " + std::string(unit) + " for " +
+         std::string(what) + "; this asks for " + estimate_text(static_cast<double>(value)) + " " +
+         std::string(unit) + " (" + setting_ref("limit_scale") + " raises the limit)";
+}
+
+std::int64_t check_count_limit(std::string_view setting, std::int64_t value, std::int64_t lo, double limit,
+                               std::string_view what, std::string_view unit, std::int64_t type_max) {
+  const std::string rule = count_limit_rule(value, lo, limit, what, unit, type_max);
+  if (!rule.empty()) throw SettingError(std::string(setting), std::to_string(value), rule);
+  return value;
+}
+
 }  // namespace fulcrum

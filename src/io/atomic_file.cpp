@@ -1,6 +1,10 @@
 #include "fulcrum/io/atomic_file.hpp"
 
+#include <fcntl.h>
 #include <unistd.h>
+
+#include <cerrno>
+#include <cstring>
 
 #include <atomic>
 #include <cstdio>
@@ -42,21 +46,34 @@ AtomicFile::~AtomicFile() {
 
 void AtomicFile::commit() {
   if (std::rename(tmp_.c_str(), final_.c_str()) != 0) {
+    const int e = errno;
     std::remove(tmp_.c_str());
-    throw InputError(final_, "cannot write the output file (rename from temporary failed)");
+    throw InputError(final_, std::string("cannot write the output file (rename from temporary failed): ") +
+                                 std::strerror(e));
   }
   committed_ = true;
 }
 
 void write_text_file(const std::string& path, const std::string& contents) {
   AtomicFile f(path);
-  {
-    std::ofstream out(f.temporary_path(), std::ios::binary);
-    if (!out) throw InputError(path, "cannot open for writing");
-    out << contents;
-    out.flush();
-    if (!out) throw InputError(path, "write failed (disk full?)");
+  // POSIX calls, so that a failure is told with the system's reason
+  // (EROFS, ENOSPC, EFBIG, ...), naming the file as the caller named it.
+  const int fd = ::open(f.temporary_path().c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
+  if (fd < 0) throw InputError(path, std::string("cannot open for writing: ") + std::strerror(errno));
+  const char* p = contents.data();
+  std::size_t left = contents.size();
+  while (left > 0) {
+    const ssize_t n = ::write(fd, p, left);
+    if (n < 0 && errno == EINTR) continue;
+    if (n <= 0) {
+      const int e = n < 0 ? errno : ENOSPC;
+      ::close(fd);
+      throw InputError(path, std::string("write failed: ") + std::strerror(e));
+    }
+    p += n;
+    left -= static_cast<std::size_t>(n);
   }
+  if (::close(fd) != 0) throw InputError(path, std::string("write failed: ") + std::strerror(errno));
   f.commit();
 }
 

@@ -5,6 +5,7 @@
 
 #include <fitsio.h>
 
+#include <cerrno>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -548,19 +549,31 @@ void write_common(fitsfile* f, const std::optional<Beam>& beam, const std::strin
   if (status) throw InputError(name, "cannot write header keywords: " + cfitsio_message(status));
 }
 
+// CFITSIO's message of a failed write, with the system's reason (errno, set
+// by the failed write CFITSIO made: ENOSPC, EROFS, EFBIG) when there is one.
+// errno is cleared before each writing call that uses this.
+std::string write_failure(int status) {
+  const int e = errno;
+  std::string m = cfitsio_message(status);
+  if (e != 0) m += ": " + std::string(std::strerror(e));
+  return m;
+}
+
 FitsPtr create_fits(const std::string& tmp, const std::string& name) {
   fitsfile* f = nullptr;
   int status = 0;
   std::string bang = "!" + tmp;
+  errno = 0;
   if (fits_create_file(&f, bang.c_str(), &status))
-    throw InputError(name, "cannot create FITS file: " + cfitsio_message(status));
+    throw InputError(name, "cannot create FITS file: " + write_failure(status));
   return FitsPtr(f);
 }
 
 void close_checked(FitsPtr& fp, const std::string& name) {
   int status = 0;
+  errno = 0;
   fits_close_file(fp.release(), &status);
-  if (status) throw InputError(name, "cannot finish writing FITS file: " + cfitsio_message(status));
+  if (status) throw InputError(name, "cannot finish writing FITS file: " + write_failure(status));
 }
 
 }  // namespace
@@ -577,9 +590,10 @@ void write_image(const std::string& path, const Image& image, const std::vector<
     write_card_strings(f.get(), image.wcs.header_cards(), path, true);
     write_common(f.get(), image.beam, image.unit, extra, path);
     long fpixel[2] = {1, 1};
+    errno = 0;
     fits_write_pix(f.get(), TDOUBLE, fpixel, static_cast<LONGLONG>(image.size()),
                    const_cast<double*>(image.data.data()), &status);
-    if (status) throw InputError(path, "cannot write pixel data: " + cfitsio_message(status));
+    if (status) throw InputError(path, "cannot write pixel data: " + write_failure(status));
     close_checked(f, path);
   }
   out.commit();
@@ -600,9 +614,10 @@ void write_cube(const std::string& path, const Cube& cube, const std::string& sp
     write_card_strings(f.get(), spectral_cards, path, true);
     write_common(f.get(), cube.beam, cube.unit, extra, path);
     long fpixel[3] = {1, 1, 1};
+    errno = 0;
     fits_write_pix(f.get(), TDOUBLE, fpixel, static_cast<LONGLONG>(cube.data.size()),
                    const_cast<double*>(cube.data.data()), &status);
-    if (status) throw InputError(path, "cannot write pixel data: " + cfitsio_message(status));
+    if (status) throw InputError(path, "cannot write pixel data: " + write_failure(status));
     close_checked(f, path);
   }
   out.commit();

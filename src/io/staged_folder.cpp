@@ -191,4 +191,16 @@ OutputLock::OutputLock(const std::string& out, bool force, const std::string& ig
 
 OutputLock::~OutputLock() { release_lock(lock_fd_, lock_); }
 
+bool has_unfinished_run(const std::string& out) {
+  std::error_code ec;
+  fs::path p = fs::absolute(fs::path(out), ec).lexically_normal();
+  if (ec) return false;
+  if (!p.has_filename()) p = p.parent_path();
+  if (fs::exists(p / ".partial", ec)) return true;
+  const std::string staging = "." + p.filename().string() + ".fulcrum-staging-";
+  for (auto it = fs::directory_iterator(p.parent_path(), ec); !ec && it != fs::directory_iterator(); it.increment(ec))
+    if (it->path().filename().string().rfind(staging, 0) == 0) return true;
+  return false;
+}
+
 }  // namespace fulcrum

@@ -6,6 +6,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/number_text.hpp"
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/io/fits_image.hpp"
 
 namespace fulcrum {
@@ -71,12 +72,11 @@ std::string moment_settings_problem(const MomentSettings& s,
   // Upper bounds: the growth's work is the footprint's area times the masked
   // voxels; a growth wider than any map is a typing error, refused before
   // the cube is read (a million pixels once took 4.2 GB).
-  if (o.grow_channels < 0 || o.grow_channels > kMaxGrowChannels)
-    return bad("grow_channels", std::to_string(o.grow_channels),
-               "a whole number of channels within [0, " + std::to_string(kMaxGrowChannels) + "]");
-  if (o.grow_pixels < 0 || o.grow_pixels > kMaxGrowPixels)
-    return bad("grow_pixels", std::to_string(o.grow_pixels),
-               "a whole number of pixels within [0, " + std::to_string(kMaxGrowPixels) + "]");
+  // Scaled by `limit_scale` like every work limit (core/work_limit.hpp).
+  if (auto r = count_limit_rule(o.grow_channels, 0, kMaxGrowChannels, "the mask growth", "channels"); !r.empty())
+    return bad("grow_channels", std::to_string(o.grow_channels), r);
+  if (auto r = count_limit_rule(o.grow_pixels, 0, kMaxGrowPixels, "the mask growth", "pixels"); !r.empty())
+    return bad("grow_pixels", std::to_string(o.grow_pixels), r);
   if (!(o.smooth_factor > 1.0) || !std::isfinite(o.smooth_factor)) 
     return bad("smooth_factor", shortest_text(o.smooth_factor), "a finite number > 1");
   if (o.smooth_channels < 1 || o.smooth_channels % 2 == 0)

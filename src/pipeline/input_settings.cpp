@@ -6,6 +6,7 @@
 #include <cstdlib>
 
 #include "fulcrum/core/settings_check.hpp"
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/sky/centre.hpp"
 
 namespace fulcrum::pipeline::setting {
@@ -31,10 +32,15 @@ double distance_mpc(double v) {
 
 std::uint64_t seed(std::int64_t v) { return check_seed("seed", v); }
 
-int draws(std::int64_t v) { return static_cast<int>(check_integer_in_range("draws", v, 100, 10000000)); }
+// Work limits (core/work_limit.hpp, scaled by `limit_scale`): about 40
+// bytes per bootstrap draw (1e8 draws took 3.9 GB); a calibration's mocks
+// are each a whole analysis.
+int draws(std::int64_t v) {
+  return static_cast<int>(check_count_limit("draws", v, 100, 1e7, "the bootstrap (about 4e+08 bytes)", "draws"));
+}
 
 int calibrate(std::int64_t v) {
-  return static_cast<int>(check_integer_in_range("calibrate", v, 0, 100000, "mocks per set"));
+  return static_cast<int>(check_count_limit("calibrate", v, 0, 1e5, "the calibration", "mocks per set"));
 }
 
 std::string co_line(const std::string& v) { return check_one_of("co_line", v, {"1-0", "2-1"}); }

@@ -11,6 +11,7 @@
 
 #include <toml++/toml.h>
 
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/random.hpp"
 #include "fulcrum/core/settings_check.hpp"
@@ -343,9 +344,10 @@ SampleManifest read_manifest(const std::string& path) {
   // Checked before reading: a manifest lists galaxies in a few hundred bytes each.
   std::error_code ec;
   const auto bytes = fs::file_size(path, ec);
-  if (!ec && bytes > kMaxManifestBytes)
+  const double limit = static_cast<double>(kMaxManifestBytes) * work_limit_scale();
+  if (!ec && static_cast<double>(bytes) > limit)
     throw InputError(path, "is " + std::to_string(bytes) + " bytes; a sample manifest may be at most " +
-                               std::to_string(kMaxManifestBytes) + " bytes");
+                               estimate_text(limit) + " bytes (" + setting_ref("limit_scale") + " raises the limit)");
   std::stringstream ss;
   ss << in.rdbuf();
   return parse_manifest(ss.str(), path);

@@ -7,6 +7,7 @@
 #include <unistd.h>
 #include <cmath>
 #include <cstdio>
+#include <exception>
 #include <filesystem>
 #include <fstream>
 #include <functional>
@@ -24,6 +25,7 @@
 #include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
+#include "fulcrum/io/distinct_paths.hpp"
 #include "fulcrum/io/staged_folder.hpp"
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/report/html_report.hpp"
@@ -31,7 +33,6 @@
 #include "fulcrum/pipeline/centre_asymmetries.hpp"
 #include "fulcrum/pipeline/report_json.hpp"
 #include "fulcrum/pipeline/report_reader.hpp"
-#include "fulcrum/pipeline/run_staging.hpp"
 #include "fulcrum/pipeline/shard_record.hpp"
 #include "fulcrum/sky/offset_frame.hpp"
 
@@ -538,7 +539,27 @@ namespace {
 
 // One galaxy of a sample run: its maps (from its cube when given), the
 // analysis, its outputs, and the summary as report.json says it.
-GalaxySummary run_one(const GalaxyInput& g, const AnalysisOptions& ao, const SampleRef& ref, const fs::path& out) {
+// The folder `from` (and every path under it) named anywhere in a string
+// of `j` (a path, or a sentence such as "error map DIR/x.fits") named as
+// `to` instead (RunOptions::shown_paths).
+void show_paths_as(json& j, const std::string& from, const std::string& to) {
+  if (j.is_string()) {
+    std::string v = j.get<std::string>();
+    for (std::size_t p = v.find(from); p != std::string::npos; p = v.find(from, p + 1)) {
+      const std::size_t end = p + from.size();
+      if (end == v.size() || v[end] == '/') {
+        v.replace(p, from.size(), to);
+        p += to.size() - (to.empty() ? 0 : 1);
+      }
+    }
+    j = v;
+  } else if (j.is_structured()) {
+    for (auto& e : j) show_paths_as(e, from, to);
+  }
+}
+
+GalaxySummary run_one(const GalaxyInput& g, const AnalysisOptions& ao, const SampleRef& ref, const fs::path& out,
+                      const std::pair<std::string, std::string>& shown_paths) {
   GalaxyResult res;
   std::string failed;
   try {
@@ -563,11 +584,10 @@ GalaxySummary run_one(const GalaxyInput& g, const AnalysisOptions& ao, const Sam
     warn(g.name + ": " + res.summary.unusable_file + ": " + res.summary.unusable_problem + " (listed as undetermined)");
   res.summary.sample = ref;
   res.report = to_json(res.summary);
-  try {
-    write_galaxy_outputs(res, (out / g.name).string());
-  } catch (const std::exception& e) {
-    warn(g.name + ": could not write its outputs: " + e.what());
-  }
+  if (!shown_paths.first.empty()) show_paths_as(res.report, shown_paths.first, shown_paths.second);
+  // A failed write (a full disk) is the run's failure, not the galaxy's:
+  // it reaches run_sample, which leaves the output folder as it was.
+  write_galaxy_outputs(res, (out / g.name).string());
   return read_report(res.report, g.name);
 }
 
@@ -579,13 +599,16 @@ namespace {
 // before any folder is made. The message names the file, the manifest and
 // the line of the galaxy's table. (A file that is there but not a usable map
 // is that galaxy's failure: it is listed as undetermined, and the others run.)
+// The files a galaxy names, with their manifest keys (empty ones included).
+std::vector<std::pair<const char*, const std::string*>> galaxy_files(const GalaxyInput& g) {
+  return {{"cube", &g.cube},           {"velocity", &g.velocity},   {"velocity_error", &g.velocity_error},
+          {"intensity", &g.intensity}, {"intensity_error", &g.intensity_error}, {"optical", &g.optical},
+          {"optical_mask", &g.optical_mask}, {"tail_image", &g.tail_image}};
+}
+
 void check_galaxy_files(const SampleManifest& manifest, const std::vector<GalaxyInput>& selected) {
   for (const auto& g : selected) {
-    const std::pair<const char*, const std::string*> files[] = {
-        {"cube", &g.cube},           {"velocity", &g.velocity},   {"velocity_error", &g.velocity_error},
-        {"intensity", &g.intensity}, {"intensity_error", &g.intensity_error}, {"optical", &g.optical},
-        {"optical_mask", &g.optical_mask}, {"tail_image", &g.tail_image}};
-    for (const auto& [key, path] : files) {
+    for (const auto& [key, path] : galaxy_files(g)) {
       if (path->empty()) continue;
       const std::string where = manifest.path + ": line " + std::to_string(g.manifest_line) + ": galaxy '" + g.name +
                                 "': '" + key + "'";
@@ -603,48 +626,70 @@ void check_galaxy_files(const SampleManifest& manifest, const std::vector<Galaxy
 RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
   if (o.out_dir.empty()) throw SettingError("out", "''", "the name of a folder");
   fs::path out(o.out_dir);
-  // One run at a time into a folder (a lock), and a folder with anything in
-  // it (not only sample.json) only with `overwrite` (io/staged_folder.hpp).
   auto selected = select_galaxies(manifest, o.selection);
   if (selected.empty()) throw InputError(manifest.path, "the selection (" + setting_ref("only") + ", " + setting_ref("shard") + ") leaves no galaxy to run");
   // Capped at the cores and the galaxies (core/thread_count.hpp), checked
   // before any folder is made.
   const int threads = thread_count("threads", o.threads, selected.size());
+  // The folder is replaced whole: no input may lie in it.
+  std::vector<std::pair<std::string, std::string>> inputs{{"manifest", manifest.path}};
+  for (const auto& g : selected)
+    for (const auto& f : galaxy_files(g)) inputs.emplace_back(f.first, *f.second);
+  check_inputs_outside_folder(inputs, {"out", o.out_dir});
   check_galaxy_files(manifest, selected);
-  const OutputLock lock(o.out_dir, o.overwrite, kStagingFolder);
+  // One writer (io/staged_folder.hpp): one run at a time into a folder (a
+  // lock); a folder with anything in it only with `overwrite`; everything,
+  // the shard record last, written into a staging folder beside DIR and
+  // renamed into place at the end, replacing an old DIR whole. A run killed
+  // and started again leaves the same files; nothing of it is reused.
+  StagedFolder staging(o.out_dir, o.overwrite);
+  const fs::path work(staging.path());
   std::map<std::string, int> index;
   for (std::size_t i = 0; i < manifest.galaxies.size(); ++i) index[manifest.galaxies[i].name] = static_cast<int>(i);
-  // Written through a staging folder, the shard record last: a run killed
-  // and started again leaves the same files (pipeline/run_staging.hpp).
-  fs::create_directories(out);
-  remove_shard_record(o.out_dir);
-  RunStaging staging(o.out_dir);
-  const fs::path work(staging.path());
 
   std::vector<GalaxySummary> galaxies(selected.size());
-  Progress progress("galaxies", selected.size());
-  const int n = static_cast<int>(selected.size());
+  try {
+    Progress progress("galaxies", selected.size());
+    const int n = static_cast<int>(selected.size());
+    // The first failure that stops the run (a write), carried out of the
+    // parallel loop; the galaxies not yet started are skipped.
+    std::exception_ptr stop;
 #pragma omp parallel for schedule(dynamic, 1) num_threads(threads)
-  for (int i = 0; i < n; ++i) {
-    const GalaxyInput& g = selected[i];
-    AnalysisOptions ao;
-    ao.seed = galaxy_seed(o.seed.value_or(manifest.seed), g);
-    ao.draws = o.draws.value_or(manifest.draws);
-    ao.calibrate = o.calibrate.value_or(manifest.calibrate);
-    ao.figures = o.figures;
-    ao.bootstrap_from_estimates = o.bootstrap_from_estimates;
-    const SampleRef ref{manifest.name, manifest.path, index[g.name], o.seed.value_or(manifest.seed)};
-    galaxies[i] = run_one(g, ao, ref, work);
+    for (int i = 0; i < n; ++i) {
+      bool stopped = false;
+#pragma omp critical(sample_stop)
+      stopped = stop != nullptr;
+      if (stopped) continue;
+      try {
+        const GalaxyInput& g = selected[i];
+        AnalysisOptions ao;
+        ao.seed = galaxy_seed(o.seed.value_or(manifest.seed), g);
+        ao.draws = o.draws.value_or(manifest.draws);
+        ao.calibrate = o.calibrate.value_or(manifest.calibrate);
+        ao.figures = o.figures;
+        ao.bootstrap_from_estimates = o.bootstrap_from_estimates;
+        const SampleRef ref{manifest.name, manifest.path, index[g.name], o.seed.value_or(manifest.seed)};
+        galaxies[i] = run_one(g, ao, ref, work, o.shown_paths);
+      } catch (...) {
+#pragma omp critical(sample_stop)
+        if (!stop) stop = std::current_exception();
+      }
 #pragma omp critical(sample_progress)
-    progress.advance();
-  }
-  progress.finish();
-  write_sample_products(staging.path(), galaxies);
-  staging.commit();
-  if (o.record_shard) {
-    ShardRecord record{o.selection.shard_index, o.selection.shard_count, manifest.path, manifest.name, {}};
-    for (const auto& g : selected) record.galaxies.push_back(g.name);
-    write_shard_record(o.out_dir, record);
+      progress.advance();
+    }
+    if (stop) std::rethrow_exception(stop);
+    progress.finish();
+    write_sample_products(staging.path(), galaxies);
+    if (o.record_shard) {
+      ShardRecord record{o.selection.shard_index, o.selection.shard_count, manifest.path, manifest.name, {}};
+      for (const auto& g : selected) record.galaxies.push_back(g.name);
+      write_shard_record(staging.path(), record);
+    }
+    staging.commit();
+  } catch (const InputError& e) {
+    // A failed write names the file in DIR, not the hidden staging folder.
+    if (e.file() == staging.shown_in_target(e).file()) throw;
+    throw staging.shown_in_target(e);
   }
   RunSummary s;
   s.galaxies = galaxies;

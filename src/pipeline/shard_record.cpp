@@ -11,7 +11,7 @@
 
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/io/atomic_file.hpp"
-#include "fulcrum/pipeline/run_staging.hpp"
+#include "fulcrum/io/staged_folder.hpp"
 
 namespace fulcrum::pipeline {
 
@@ -66,21 +66,15 @@ std::optional<ShardRecord> read_shard_record(const std::string& dir) {
   return parse_record(file.string());
 }
 
-void remove_shard_record(const std::string& dir) {
-  std::error_code ec;
-  fs::remove(fs::path(dir) / kShardRecordFile, ec);
-  if (ec) throw InputError((fs::path(dir) / kShardRecordFile).string(), "cannot be removed: " + ec.message());
-}
-
 void check_shards_complete(const std::vector<std::string>& dirs) {
   std::map<int, std::string> held;  // shard index -> folder
   std::optional<ShardRecord> first;
   std::string first_dir;
   for (const auto& d : dirs) {
-    if (!fs::is_directory(d)) throw InputError(d, "is not a folder (a shard that never ran?)");
     if (has_unfinished_run(d))
-      throw InputError(d, "holds an unfinished run (its staging folder " + std::string(kStagingFolder) +
-                              " is still there: killed, failed or still running); run that shard again");
+      throw InputError(d, "holds an unfinished run (its staging folder is still there: killed, failed or still "
+                          "running); run that shard again");
+    if (!fs::is_directory(d)) throw InputError(d, "is not a folder (a shard that never ran?)");
     const auto record = read_shard_record(d);
     check_finished(d, record);
     if (!record) continue;

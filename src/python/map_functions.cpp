@@ -7,6 +7,7 @@
 
 #include "bindings.hpp"
 #include "convert.hpp"
+#include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/core/settings_check.hpp"
 #include "fulcrum/kinematics/kinematic_fit.hpp"
@@ -79,7 +80,7 @@ py::dict photometry(const py::object& image, const py::object& mask, const py::o
                     const py::object& progress) {
   photometry::PhotometryOptions o;
   o.bootstrap.draws =
-      static_cast<int>(check_integer_in_range("bootstrap", integer_argument(bootstrap, "bootstrap"), 3, 1000000, "draws"));
+      static_cast<int>(check_count_limit("bootstrap", integer_argument(bootstrap, "bootstrap"), 3, 1e6, "the centre bootstrap", "draws"));
   o.bootstrap.seed = pipeline::setting::seed(integer_argument(seed, "seed"));
   if (!psf_fwhm_arcsec.is_none())
     o.psf_fwhm_arcsec = pipeline::setting::psf_fwhm_arcsec(number_argument(psf_fwhm_arcsec, "psf_fwhm_arcsec"));

@@ -29,6 +29,7 @@ Exit 77 (CTest: skipped) with the reason when the daemons cannot start here:
 not root, a missing program, munged or slurmd refusing to start.
 """
 import argparse
+import glob
 import os
 import signal
 import socket
@@ -305,11 +306,18 @@ def shard_process(cluster, array_job, task, exe):
     return None
 
 
+def staged_galaxy(out, shard, galaxy):
+    """The galaxy's report.json in the shard's staging folder (beside the
+    shard's folder, io/staged_folder.hpp), or None while there is none."""
+    found = glob.glob(os.path.join(out, "shards", ".%d.fulcrum-staging-*" % shard, galaxy, "report.json"))
+    return found[0] if found else None
+
+
 def kill_shard_mid_run(cluster, array_job, out, exe):
-    staging = os.path.join(out, "shards", "1", ".partial")
-    done_galaxy = os.path.join(staging, "mock-1", "report.json")
     pid = wait_for("shard 1 to write its first galaxy into its staging folder",
-                   lambda: shard_process(cluster, array_job, 1, exe) if os.path.exists(done_galaxy) else None, step=0.005)
+                   lambda: shard_process(cluster, array_job, 1, exe) if staged_galaxy(out, 1, "mock-1") else None,
+                   step=0.005)
+    staging = os.path.dirname(os.path.dirname(staged_galaxy(out, 1, "mock-1")))
     os.kill(pid, signal.SIGKILL)
     print(f"shard 1 (pid {pid}) killed with SIGKILL; its staging folder holds {sorted(os.listdir(staging))}")
     state = wait_final(cluster, array_job + "_1", "killed shard 1")
@@ -341,9 +349,8 @@ def case_requeue(args, cluster, manifest, out, script, whole):
 def case_slurm_requeue(args, cluster, manifest, out, script, whole):
     array_job, merge_job = submit(cluster, script)
     task = array_job + "_1"
-    done_galaxy = os.path.join(out, "shards", "1", ".partial", "mock-1", "report.json")
     wait_for("shard 1 to write its first galaxy into its staging folder",
-             lambda: os.path.exists(done_galaxy) and cluster.job_state(task) == "RUNNING", step=0.005)
+             lambda: staged_galaxy(out, 1, "mock-1") and cluster.job_state(task) == "RUNNING", step=0.005)
     r = cluster.run(["scontrol", "requeue", task])
     if r.returncode != 0:
         raise AssertionError("scontrol requeue failed: " + r.stderr)
@@ -373,7 +380,7 @@ def case_array(args, cluster, manifest, out, script, whole):
             raise AssertionError(f"shard {i} did not complete")
         if not os.path.exists(os.path.join(out, "shards", str(i), "shard.json")):
             raise AssertionError(f"shard {i} left no shard.json")
-        if os.path.exists(os.path.join(out, "shards", str(i), ".partial")):
+        if glob.glob(os.path.join(out, "shards", ".%d.fulcrum-staging-*" % i)):
             raise AssertionError(f"shard {i} left its staging folder")
     compare_trees(whole, out)
 

@@ -46,3 +46,26 @@ TEST_CASE("work limit: one scale raises every limit, from 1 to 1e6", "[core][lim
   CHECK_THROWS_AS(set_work_limit_scale(std::nan("")), SettingError);
   set_work_limit_scale(1.0);
 }
+
+TEST_CASE("count limit: a count's upper end is a work limit the scale raises, the lower end a range",
+          "[core][limits]") {
+  CHECK(check_count_limit("draws", 10000000, 100, 1e7, "the bootstrap", "draws") == 10000000);
+  CHECK_THROWS_WITH(check_count_limit("draws", 99, 100, 1e7, "the bootstrap", "draws"),
+                    "draws = 99 is not allowed: must be a whole number within [100, 10000000] draws");
+  CHECK_THROWS_WITH(check_count_limit("draws", 10000001, 100, 1e7, "the bootstrap", "draws"),
+                    "draws = 10000001 is not allowed: must be within the limit of 1e+07 draws for the bootstrap; "
+                    "this asks for 1e+07 draws (`limit_scale` raises the limit)");
+  set_work_limit_scale(10.0);
+  CHECK(check_count_limit("draws", 100000000, 100, 1e7, "the bootstrap", "draws") == 100000000);
+  CHECK_THROWS_WITH(check_count_limit("draws", 100000001, 100, 1e7, "the bootstrap", "draws"),
+                    Catch::Contains("within the limit of 1e+08 draws"));
+  // Never beyond what the count's type holds, whatever the scale.
+  set_work_limit_scale(1e6);
+  CHECK_THROWS_WITH(check_count_limit("draws", 3000000000LL, 100, 1e7, "the bootstrap", "draws"),
+                    "draws = 3000000000 is not allowed: must be a whole number within [100, 2147483647] draws");
+  set_work_limit_scale(1.0);
+  CHECK(count_limit_rule(1000, 0, 1000, "the mask growth", "pixels").empty());
+  CHECK(count_limit_rule(1001, 0, 1000, "the mask growth", "pixels") ==
+        "within the limit of 1000 pixels for the mask growth; this asks for 1001 pixels (`limit_scale` raises the "
+        "limit)");
+}

@@ -230,8 +230,13 @@ TEST_CASE("fulcrum demo runs the invented sample and its report renders in Chrom
     // Bootstrap centres about the adopted centre only: the 68% interval of A
     // holds A at the adopted centre (with draws from every estimate it did
     // not on four of the five determined demo galaxies).
-    auto rep = nlohmann::json::parse(slurp(dir / "demo" / "results" / name / "report.json"));
+    const std::string rep_text = slurp(dir / "demo" / "results" / name / "report.json");
+    auto rep = nlohmann::json::parse(rep_text);
     CHECK(rep["robustness"]["centre_draws"] == "adopted");
+    // The demo is written through a staging folder renamed to --out at the
+    // end (io/staged_folder.hpp): the report names its data under --out.
+    CHECK(rep_text.find("fulcrum-staging") == std::string::npos);
+    CHECK(rep["inputs"]["velocity"]["path"] == (dir / "demo" / "data" / name / "vel.fits").string());
     if (rep["verdict"] != "undetermined") {
       const double a = rep["split"]["asymmetry"].get<double>();
       INFO(name << ": A = " << a << ", 68% interval " << rep["robustness"]["asymmetry_ci68"]);

@@ -1,4 +1,4 @@
-// Shards safe to run again (pipeline/run_staging.hpp) and merge's refusal
+// Shards safe to run again (io/staged_folder.hpp) and merge's refusal
 // of a missing or unfinished shard (pipeline/shard_record.hpp): a shard
 // whose earlier run was killed (its staging folder left with partial
 // files, an old galaxy folder with a stray file) gives, run again, the same
@@ -39,12 +39,13 @@ TEST_CASE("a shard run again after a kill leaves the files of a shard run once",
   const std::string manifest = test::write_tiny_sample(dir, 3);
   const std::string shard = " --shard 1/2 --draws 300 --calibrate 0 --no-figures";
   REQUIRE(run_cmd("run " + manifest + shard + " --out " + (dir / "once").string()).exit_code == 0);
-  // What a run killed mid-way leaves: a staging folder with part of a
-  // galaxy, and (from an earlier complete run) a galaxy folder with a stray
-  // file and a shard record that must not survive.
-  const fs::path again = dir / "again";
-  fs::create_directories(again / ".partial" / "tiny-1");
-  std::ofstream(again / ".partial" / "tiny-1" / "report.json") << "{\"trunc";
+  // What a run killed mid-way leaves: its staging folder beside the output
+  // folder (io/staged_folder.hpp) with part of a galaxy, and (from an
+  // earlier complete run) a galaxy folder with a stray file and a shard
+  // record that must not survive.
+  const fs::path again = dir / "again", staging = dir / ".again.fulcrum-staging-999999";
+  fs::create_directories(staging / "tiny-1");
+  std::ofstream(staging / "tiny-1" / "report.json") << "{\"trunc";
   fs::create_directories(again / "tiny-3");
   std::ofstream(again / "tiny-3" / "stray.txt") << "left by an older run\n";
   std::ofstream(again / "shard.json") << "{}";
@@ -52,6 +53,7 @@ TEST_CASE("a shard run again after a kill leaves the files of a shard run once",
   CHECK(refused.exit_code == 2);
   CHECK(refused.err.find(again.string() + ": holds an unfinished run") != std::string::npos);
   REQUIRE(run_cmd("--force run " + manifest + shard + " --out " + again.string()).exit_code == 0);
+  CHECK_FALSE(fs::exists(staging));
   const auto a = files_of(dir / "once"), b = files_of(again);
   REQUIRE(a == b);
   for (const auto& f : a) {

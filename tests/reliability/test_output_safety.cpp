@@ -125,3 +125,35 @@ TEST_CASE("analyse: any content needs --force, which replaces the folder whole a
   CHECK(inside.exit_code == 2);
   CHECK(inside.err.find("lies in the output folder --out") != std::string::npos);
 }
+
+TEST_CASE("run --force replaces the whole output folder: nothing of an earlier run or anyone else is left",
+          "[reliability][output-safety]") {
+  const auto dir = fulcrum::test::temp_dir("safety-run-force");
+  const std::string manifest = fulcrum::test::write_tiny_sample(dir, 2);
+  const auto out = dir / "sample";
+  // What an earlier run of a larger sample and a person left there.
+  fs::create_directories(out / "tiny-9" / "figures");
+  std::ofstream(out / "tiny-9" / "report.json") << "{}\n";
+  std::ofstream(out / "notes.txt") << "mine\n";
+  std::ofstream(out / "robustness.csv") << "old table\n";
+  const std::string run = "run " + manifest + " --no-figures --out " + out.string();
+  auto refused = run_shell(fulcrum_cmd(run));
+  CHECK(refused.exit_code == 2);
+  CHECK(refused.err.find("holds files") != std::string::npos);
+  CHECK(fulcrum::test::slurp(out / "robustness.csv") == "old table\n");
+  auto forced = run_shell(fulcrum_cmd("--force " + run));
+  INFO(forced.err);
+  REQUIRE(forced.exit_code == 0);
+  CHECK(entries(out) == std::vector<std::string>{"report.html", "robustness-wide.tex", "robustness.csv",
+                                                 "robustness.ecsv", "robustness.fits", "robustness.md",
+                                                 "robustness.tex", "sample.json", "tiny-1", "tiny-2"});
+  CHECK(entries(dir) == std::vector<std::string>{"sample", "sample.toml", "tiny-1", "tiny-2"});
+  // No report names the staging folder the run wrote into.
+  for (const auto& e : fs::recursive_directory_iterator(out))
+    if (e.is_regular_file()) CHECK(fulcrum::test::slurp(e.path()).find("fulcrum-staging") == std::string::npos);
+  // The manifest inside --out would be removed by --force: refused.
+  fs::copy_file(manifest, out / "inside.toml");
+  auto inside = run_shell(fulcrum_cmd("--force run " + (out / "inside.toml").string() + " --out " + out.string()));
+  CHECK(inside.exit_code == 2);
+  CHECK(inside.err.find("lies in the output folder --out") != std::string::npos);
+}

@@ -30,11 +30,24 @@ namespace fulcrum {
 void check_work_limit(std::string_view setting, const std::string& value_text, std::string_view what,
                       double estimate, double limit, std::string_view unit, const std::string& detail = "");
 
+// A count whose size is the work (bootstrap draws, mocks per set, pixels a
+// mask grows by): below `lo` refused as out of range ("a whole number
+// within [100, 10000000] draws"); above `limit` times the scale as a work
+// limit naming the value, the limit and the override, like
+// check_work_limit; above `type_max` (what the count's type holds) always,
+// whatever the scale. Returns the refusal rule, or "" when `value` passes.
+std::string count_limit_rule(std::int64_t value, std::int64_t lo, double limit, std::string_view what,
+                             std::string_view unit, std::int64_t type_max = 2147483647);
+// Throws SettingError(setting, value, count_limit_rule(...)) unless it is "".
+std::int64_t check_count_limit(std::string_view setting, std::int64_t value, std::int64_t lo, double limit,
+                               std::string_view what, std::string_view unit, std::int64_t type_max = 2147483647);
+
 // Every limit of check_work_limit is multiplied by one factor, 1 by default:
 // set_work_limit_scale() (the global option --limit-scale) or else the
 // environment variable FULCRUM_LIMIT_SCALE; within [1, 1e6] (SettingError /
 // InputError otherwise). Raising it lets a machine with more memory and time
-// run what the default refuses; the image limit is --max-pixels.
+// run what the default refuses; the image limit is --max-pixels. The count
+// limits (count_limit_rule) are scaled the same way.
 void set_work_limit_scale(double factor);
 double work_limit_scale();
 

@@ -79,4 +79,9 @@ class OutputLock {
   int lock_fd_ = -1;
 };
 
+// True when a run into OUT stopped before its end or is still running: a
+// staging folder PARENT/.NAME.fulcrum-staging-* is there (or, from older
+// versions of `run`, OUT/.partial). `merge` refuses such a folder.
+bool has_unfinished_run(const std::string& out);
+
 }  // namespace fulcrum

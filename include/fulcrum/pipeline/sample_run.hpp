@@ -16,8 +16,11 @@
 //
 // Shards: `--shard I/N` runs every N-th galaxy; each shard writes its own
 // DIR and, when finished, DIR/shard.json (pipeline/shard_record.hpp). Every
-// run writes through a staging folder (pipeline/run_staging.hpp), so a run
-// killed and started again leaves the same files. merge_outputs() refuses a
+// run writes DIR whole through the one output-folder writer
+// (io/staged_folder.hpp): a staging folder beside DIR, renamed to DIR at the
+// end, so a run killed and started again leaves the same files, a failed
+// run leaves DIR as it was, and `overwrite` (--force) replaces an old DIR
+// whole: nothing of an earlier run is kept or reused. merge_outputs() refuses a
 // set of folders with a missing or unfinished shard, naming it; it reads the
 // per-galaxy reports of several DIRs and writes the sample products as if
 // one run had made them: the rows are ordered by each galaxy's position in
@@ -27,7 +30,9 @@
 // (pipeline/report_reader.hpp), so the two cannot differ.
 #pragma once
 
+#include <optional>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include <nlohmann/json.hpp>
@@ -51,6 +56,10 @@ struct RunOptions {
   // Write DIR/shard.json at the end (pipeline/shard_record.hpp): set when
   // the selection is a shard given as "I/N", so `merge` can check the set.
   bool record_shard = false;
+  // Paths in each report.json that lie under `first` are written as lying
+  // under `second` (`demo` reads its data from its own staging folder,
+  // which is renamed to --out at the end). Empty: paths as read.
+  std::pair<std::string, std::string> shown_paths;
 };
 
 struct RunSummary {

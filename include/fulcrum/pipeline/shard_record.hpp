@@ -1,11 +1,11 @@
 // The record a finished shard leaves in its output folder (DIR/shard.json),
 // and the check `merge` makes with it before combining shards.
 //
-// `fulcrum run --shard I/N --out DIR` removes DIR/shard.json when it starts
-// and writes it as its very last step, after every galaxy folder and sample
-// product is in place (pipeline/run_staging.hpp). A folder without it is a
-// shard that was killed, failed or is still running; a shard killed and run
-// again writes it only once the second run has finished.
+// `fulcrum run --shard I/N --out DIR` writes it as its very last file into
+// its staging folder, after every galaxy folder and sample product, and the
+// whole folder is then renamed to DIR (io/staged_folder.hpp). A shard that
+// was killed, failed or is still running has no DIR (or its older DIR,
+// whole) and a staging folder beside it; merge refuses it.
 //
 //   {"shard": 2, "shards": 4, "manifest": "/data/sample.toml",
 //    "sample": "...", "galaxies": ["ngc-a", "ngc-e"]}
@@ -32,8 +32,6 @@ void write_shard_record(const std::string& dir, const ShardRecord& record);
 // The record of DIR, or nothing when DIR has no shard.json. A shard.json
 // that is not such a record is an InputError naming it.
 std::optional<ShardRecord> read_shard_record(const std::string& dir);
-// Remove DIR/shard.json if present (a run starting over in DIR).
-void remove_shard_record(const std::string& dir);
 
 // Refuse, with an InputError naming the folder or the shard, a set of run
 // folders that is not a whole finished sample: a folder that is missing or
