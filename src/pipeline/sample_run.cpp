@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <cerrno>
 #include <cstring>
+#include <fcntl.h>
 #include <unistd.h>
 #include <cmath>
 #include <cstdio>
@@ -26,6 +27,7 @@
 #include "fulcrum/core/version.hpp"
 #include "fulcrum/io/atomic_file.hpp"
 #include "fulcrum/io/distinct_paths.hpp"
+#include "fulcrum/io/staged_entries.hpp"
 #include "fulcrum/io/staged_folder.hpp"
 #include "fulcrum/pipeline/cube_maps.hpp"
 #include "fulcrum/report/html_report.hpp"
@@ -474,7 +476,7 @@ json expected_false_robust(const std::vector<GalaxySummary>& galaxies) {
 }
 
 void write_sample_html(const fs::path& dir, const std::string& sample_name, const std::vector<GalaxySummary>& galaxies,
-                       const report::Table& paper, const json& stats) {
+                       const report::Table& paper, const json& stats, const std::string& galaxies_elsewhere) {
   report::HtmlSample h;
   h.title = sample_name.empty() ? "fulcrum sample report" : sample_name;
   h.subtitle = std::to_string(galaxies.size()) + " galaxies; centre and split robustness of the leading-side excess";
@@ -491,7 +493,12 @@ void write_sample_html(const fs::path& dir, const std::string& sample_name, cons
       {"robust among robust + reversed", std::to_string(s.value("n_leading", 0)) + " of " + std::to_string(s.value("n", 0)) +
                                              ", P(null) = " + p(s["p_null_sign_test"])},
   };
-  for (const auto& g : galaxies) h.galaxies.push_back(html_galaxy(g, dir / g.input.name));
+  for (const auto& g : galaxies) {
+    fs::path folder = dir / g.input.name;
+    std::error_code ec;
+    if (!galaxies_elsewhere.empty() && !fs::exists(folder, ec)) folder = fs::path(galaxies_elsewhere) / g.input.name;
+    h.galaxies.push_back(html_galaxy(g, folder));
+  }
   h.footer = "Made by fulcrum " + version_string() + kFooter;
   write_text_file((dir / "report.html").string(), report::sample_html(h));
 }
@@ -506,7 +513,8 @@ void sort_by_sample_index(std::vector<GalaxySummary>& galaxies) {
 
 }  // namespace
 
-void write_sample_products(const std::string& out_dir, std::vector<GalaxySummary> galaxies) {
+void write_sample_products(const std::string& out_dir, std::vector<GalaxySummary> galaxies,
+                           const std::string& galaxies_elsewhere) {
   sort_by_sample_index(galaxies);
   fs::create_directories(out_dir);
   fs::path dir(out_dir);
@@ -532,7 +540,7 @@ void write_sample_products(const std::string& out_dir, std::vector<GalaxySummary
                               {"report", g.input.name + "/report.json"}});
   if (json e = expected_false_robust(galaxies); !e.is_null()) sj["calibration"] = e;
   write_text_file((dir / "sample.json").string(), dump_json(sj));
-  write_sample_html(dir, sample_name, galaxies, paper, stats);
+  write_sample_html(dir, sample_name, galaxies, paper, stats, galaxies_elsewhere);
 }
 
 namespace {
@@ -698,15 +706,18 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
   return s;
 }
 
-RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string& out_dir, bool overwrite) {
-  if (dirs.empty()) throw InputError("", "merge needs at least one run folder");
-  // Every shard there and finished (pipeline/shard_record.hpp).
-  check_shards_complete(dirs);
-  fs::path out(out_dir);
-  if (fs::exists(out / "sample.json") && !overwrite &&
-      std::find(dirs.begin(), dirs.end(), out_dir) == dirs.end())
-    throw InputError(out_dir, "already holds a sample run (sample.json); allow overwriting (" + setting_ref("overwrite") + ") or choose another folder");
-  std::vector<GalaxySummary> galaxies;
+namespace {
+
+// A galaxy folder of one of the merged folders, and what its report says.
+struct MergedGalaxy {
+  fs::path folder;
+  GalaxySummary summary;
+};
+
+// Every DIR/<galaxy>/report.json of the merged folders; a galaxy found twice
+// is an error naming both reports.
+std::vector<MergedGalaxy> read_merged_galaxies(const std::vector<std::string>& dirs) {
+  std::vector<MergedGalaxy> found;
   std::map<std::string, std::string> seen;
   std::set<std::string> sample_names;
   for (const auto& d : dirs) {
@@ -722,21 +733,169 @@ RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string
       if (seen.count(g.input.name)) throw InputError(file, "galaxy '" + g.input.name + "' is also in " + seen[g.input.name]);
       seen[g.input.name] = file;
       sample_names.insert(g.sample ? g.sample->name : "");
-      fs::path dest = out / p.filename();
-      if (fs::weakly_canonical(dest) != fs::weakly_canonical(p)) {
-        fs::create_directories(dest);
-        fs::copy(p, dest, fs::copy_options::recursive | fs::copy_options::overwrite_existing);
-      }
-      galaxies.push_back(std::move(g));
+      found.push_back({p, std::move(g)});
     }
   }
   if (sample_names.size() > 1) warn("merging galaxies from differently named samples; the first name is used");
-  write_sample_products(out_dir, galaxies);
+  return found;
+}
+
+// A path made comparable: absolute, links of its existing part followed,
+// normalised, without a trailing '/'.
+fs::path comparable(const fs::path& p) {
+  std::error_code ec;
+  fs::path c = fs::weakly_canonical(fs::absolute(p, ec), ec);
+  if (ec) c = fs::absolute(p, ec);
+  c = c.lexically_normal();
+  if (!c.has_filename() && c != c.root_path()) c = c.parent_path();
+  return c;
+}
+
+// True when `inner` is `outer` or lies under it (both comparable()).
+bool lies_in(const fs::path& inner, const fs::path& outer) {
+  auto i = inner.begin();
+  for (auto o = outer.begin(); o != outer.end(); ++o, ++i)
+    if (i == inner.end() || *i != *o) return false;
+  return true;
+}
+
+// The bytes of `from` copied into a new file `to`; a failed read or write
+// names the file and says the system's reason (fs::copy says "Input/output
+// error" for a full disk).
+void copy_file_bytes(const fs::path& from, const fs::path& to) {
+  const int in = ::open(from.c_str(), O_RDONLY | O_CLOEXEC);
+  if (in < 0) throw InputError(from.string(), std::string("cannot be read: ") + std::strerror(errno));
+  const int out = ::open(to.c_str(), O_WRONLY | O_CREAT | O_EXCL | O_CLOEXEC, 0644);
+  if (out < 0) {
+    const int e = errno;
+    ::close(in);
+    throw InputError(to.string(), std::string("cannot be made: ") + std::strerror(e));
+  }
+  std::vector<char> buf(1 << 16);
+  std::string failed;
+  for (;;) {
+    const ssize_t n = ::read(in, buf.data(), buf.size());
+    if (n < 0 && errno == EINTR) continue;
+    if (n < 0) {
+      failed = std::string("read failed: ") + std::strerror(errno);
+      break;
+    }
+    if (n == 0) break;
+    for (ssize_t done = 0; done < n && failed.empty();) {
+      const ssize_t w = ::write(out, buf.data() + done, static_cast<std::size_t>(n - done));
+      if (w < 0 && errno == EINTR) continue;
+      if (w < 0) failed = std::string("write failed: ") + std::strerror(errno);
+      else done += w;
+    }
+    if (!failed.empty()) break;
+  }
+  ::close(in);
+  if (::close(out) != 0 && failed.empty()) failed = std::string("write failed: ") + std::strerror(errno);
+  if (!failed.empty()) throw InputError(to.string(), failed + " (copying " + from.string() + ")");
+}
+
+// A galaxy folder copied into `to`: folders and files (a link followed to
+// its file); a link to a folder is copied as a link; anything else refused.
+void copy_galaxy_folder(const fs::path& from, const fs::path& to) {
+  std::error_code ec;
+  fs::create_directory(to, ec);
+  if (ec) throw InputError(to.string(), "cannot be made: " + ec.message());
+  for (auto it = fs::recursive_directory_iterator(from, ec); !ec && it != fs::recursive_directory_iterator();
+       it.increment(ec)) {
+    const fs::path dest = to / fs::relative(it->path(), from);
+    std::error_code k;
+    if (it->is_symlink(k) && it->is_directory(k)) {
+      fs::copy_symlink(it->path(), dest, k);
+      if (k) throw InputError(dest.string(), "cannot be made: " + k.message());
+    } else if (it->is_directory(k)) {
+      fs::create_directory(dest, k);
+      if (k) throw InputError(dest.string(), "cannot be made: " + k.message());
+    } else if (it->is_regular_file(k)) {
+      copy_file_bytes(it->path(), dest);
+    } else {
+      throw InputError(it->path().string(), "is neither a file nor a folder, so it cannot be merged");
+    }
+  }
+  if (ec) throw InputError(from.string(), "cannot be read: " + ec.message());
+}
+
+// The merge's products written into `dir` (a staging folder): a copy of
+// every galaxy folder not already at OUT/<galaxy> (when OUT is one of the
+// merged folders), then the sample products.
+void write_merge(const std::string& dir, const std::string& out, const std::vector<MergedGalaxy>& found) {
+  std::vector<GalaxySummary> galaxies;
+  for (const auto& f : found) {
+    galaxies.push_back(f.summary);
+    const fs::path name = f.folder.filename();
+    if (comparable(fs::path(out) / name) == comparable(f.folder)) continue;  // already in place
+    copy_galaxy_folder(f.folder, fs::path(dir) / name);
+  }
+  write_sample_products(dir, galaxies, out);
+}
+
+// Into an OUT that holds merged folders no product may replace one of them
+// or a folder holding one (a galaxy named "shards" in the Slurm layout).
+void check_products_spare(const StagedEntries& staging, const std::vector<fs::path>& held) {
+  std::error_code ec;
+  for (auto it = fs::directory_iterator(staging.path(), ec); !ec && it != fs::directory_iterator(); it.increment(ec)) {
+    const fs::path replaced = comparable(fs::path(staging.target()) / it->path().filename());
+    for (const auto& h : held)
+      if (lies_in(h, replaced))
+        throw InputError(replaced.string(), "holds " + h.string() +
+                                                ", one of the folders being merged, and the merged sample has an "
+                                                "entry of the same name; choose another output folder");
+  }
+}
+
+}  // namespace
+
+RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string& out_dir, bool overwrite) {
+  if (dirs.empty()) throw InputError("", "merge needs at least one run folder");
+  if (out_dir.empty()) throw SettingError("out", "''", "the name of a folder");
+  // Every shard there and finished (pipeline/shard_record.hpp), every
+  // report read, before anything is written.
+  check_shards_complete(dirs);
+  const std::vector<MergedGalaxy> found = read_merged_galaxies(dirs);
+  const fs::path out(out_dir), out_c = comparable(out_dir);
+  // The merged folders that lie in OUT (the Slurm layout: OUT/shards/I).
+  std::vector<fs::path> held;
+  bool out_is_merged = false;
+  for (const auto& d : dirs) {
+    const fs::path c = comparable(d);
+    if (lies_in(c, out_c)) held.push_back(c);
+    out_is_merged = out_is_merged || c == out_c;
+  }
+  if (held.empty()) {
+    // OUT holds none of them: written whole, as `run` writes (io/staged_folder.hpp).
+    StagedFolder staging(out_dir, overwrite);
+    try {
+      write_merge(staging.path(), staging.target(), found);
+      staging.commit();
+    } catch (const InputError& e) {
+      if (e.file() == staging.shown_in_target(e).file()) throw;
+      throw staging.shown_in_target(e);
+    }
+  } else {
+    // OUT cannot be replaced whole: staged inside it, moved into place entry
+    // by entry, sample.json last (io/staged_entries.hpp).
+    if (!overwrite && !out_is_merged && fs::exists(out / "sample.json"))
+      throw InputError(out_dir, "already holds a sample run (sample.json); allow overwriting (" +
+                                    setting_ref("overwrite") + ") or choose another folder");
+    StagedEntries staging(out_dir, "sample.json");
+    try {
+      write_merge(staging.path(), staging.target(), found);
+      check_products_spare(staging, held);
+      staging.commit();
+    } catch (const InputError& e) {
+      if (e.file() == staging.shown_in_target(e).file()) throw;
+      throw staging.shown_in_target(e);
+    }
+  }
   RunSummary s;
-  std::stable_sort(galaxies.begin(), galaxies.end(), [](const GalaxySummary& a, const GalaxySummary& b) {
+  for (const auto& f : found) s.galaxies.push_back(f.summary);
+  std::stable_sort(s.galaxies.begin(), s.galaxies.end(), [](const GalaxySummary& a, const GalaxySummary& b) {
     return sample_index(a) < sample_index(b);
   });
-  s.galaxies = galaxies;
   s.out_dir = out_dir;
   s.html_path = (out / "report.html").string();
   return s;

@@ -13,6 +13,7 @@
 #include <unistd.h>
 
 #include <algorithm>
+#include <fstream>
 #include <functional>
 #include <map>
 #include <chrono>
@@ -35,23 +36,56 @@ std::vector<std::string> entries(const fs::path& dir) {
   return out;
 }
 
-// Relative path -> bytes of every regular file under dir.
-std::map<std::string, std::string> tree(const fs::path& dir) {
+// Relative path -> bytes of every regular file under dir (a file above
+// 1 MB, the merge tests' padding, by its size), hidden entries left out
+// when `hidden` is false.
+std::map<std::string, std::string> tree(const fs::path& dir, bool hidden = true) {
   std::map<std::string, std::string> t;
-  for (const auto& e : fs::recursive_directory_iterator(dir))
-    if (e.is_regular_file()) t[fs::relative(e.path(), dir).string()] = fulcrum::test::slurp(e.path());
+  for (auto it = fs::recursive_directory_iterator(dir); it != fs::recursive_directory_iterator(); ++it) {
+    if (!hidden && it->path().filename().string()[0] == '.') {
+      if (it->is_directory()) it.disable_recursion_pending();
+      continue;
+    }
+    if (!it->is_regular_file()) continue;
+    const std::string rel = fs::relative(it->path(), dir).string();
+    t[rel] = it->file_size() > (1u << 20) ? std::to_string(it->file_size()) + " bytes"
+                                          : fulcrum::test::slurp(it->path());
+  }
   return t;
+}
+
+// The entry of `dir` whose name starts with `prefix`, or an empty path.
+fs::path entry_starting(const fs::path& dir, const std::string& prefix) {
+  std::error_code ec;
+  for (auto it = fs::directory_iterator(dir, ec); !ec && it != fs::directory_iterator(); it.increment(ec))
+    if (it->path().filename().string().rfind(prefix, 0) == 0) return it->path();
+  return {};
 }
 
 // The staging folder of a run into `out` (PARENT/.NAME.fulcrum-staging-PID),
 // or an empty path while there is none.
 fs::path staging_of(const fs::path& out) {
-  const std::string prefix = "." + out.filename().string() + ".fulcrum-staging-";
-  std::error_code ec;
-  for (auto it = fs::directory_iterator(out.parent_path(), ec); !ec && it != fs::directory_iterator();
-       it.increment(ec))
-    if (it->path().filename().string().rfind(prefix, 0) == 0) return it->path();
-  return {};
+  return entry_starting(out.parent_path(), "." + out.filename().string() + ".fulcrum-staging-");
+}
+
+// The staging folder of a merge into a folder that holds its shards
+// (OUT/.fulcrum-staging-PID, io/staged_entries.hpp), or an empty path.
+fs::path inner_staging_of(const fs::path& out) { return entry_starting(out, ".fulcrum-staging-"); }
+
+// Two shard runs of a two-galaxy sample into `s1`, `s2`; a 64 MB file in
+// one galaxy folder keeps a merge copying long after its staging folder
+// appears (the kill must land mid-work).
+void two_shards(const fs::path& dir, const fs::path& s1, const fs::path& s2) {
+  const std::string manifest = fulcrum::test::write_tiny_sample(dir, 2, 7, 300);
+  for (const auto& [i, s] : {std::pair{1, s1}, std::pair{2, s2}}) {
+    auto r = run_shell(std::string("OMP_NUM_THREADS=1 ") + FULCRUM_BINARY + " --quiet run " + manifest +
+                       " --shard " + std::to_string(i) + "/2 --no-figures --out " + s.string());
+    INFO(r.err);
+    REQUIRE(r.exit_code == 0);
+  }
+  std::ofstream pad(s1 / "tiny-1" / "padding.bin", std::ios::binary);
+  const std::string block(1 << 20, '\0');
+  for (int i = 0; i < 64; ++i) pad << block;
 }
 
 struct Killed {
@@ -159,4 +193,76 @@ TEST_CASE("run killed with SIGKILL mid-work: no folder or the old one whole, and
   REQUIRE(k.seen_staging);
   CHECK(k.by_sigkill);
   CHECK(tree(out) == before);
+}
+
+TEST_CASE("merge killed with SIGKILL mid-work leaves no output folder, and the next merge needs no --force",
+          "[reliability][output-safety][sigkill][merge]") {
+  const auto dir = fulcrum::test::temp_dir("sigkill-merge");
+  const auto s1 = dir / "s1", s2 = dir / "s2", out = dir / "merged";
+  two_shards(dir, s1, s2);
+  const std::vector<std::string> merge_args{"merge", s1.string(), s2.string(), "--out", out.string()};
+  const Killed k = start_and_kill(merge_args, [&] { return !staging_of(out).empty(); });
+  REQUIRE(k.seen_staging);
+  CHECK(k.by_sigkill);
+  CHECK_FALSE(fs::exists(out));
+  auto again = run_shell(fulcrum_cmd(joined(merge_args)));
+  INFO(again.err);
+  REQUIRE(again.exit_code == 0);
+  CHECK(fs::exists(out / "sample.json"));
+  CHECK(fs::file_size(out / "tiny-1" / "padding.bin") == 64u << 20);
+  CHECK(entries(dir) == std::vector<std::string>{"merged", "s1", "s2", "sample.toml", "tiny-1", "tiny-2"});
+}
+
+TEST_CASE("merge into the folder that holds its shards, killed with SIGKILL, leaves no sample.json or the old one whole",
+          "[reliability][output-safety][sigkill][merge][cluster]") {
+  // The Slurm layout (docs/cluster.md): OUT/shards/I, merged into OUT.
+  const auto dir = fulcrum::test::temp_dir("sigkill-merge-inside");
+  const auto out = dir / "virgo", s1 = out / "shards" / "1", s2 = out / "shards" / "2";
+  fs::create_directories(out / "shards");
+  two_shards(dir, s1, s2);
+  // One time stamp for every merge, so two merges write the same bytes.
+  struct Epoch {
+    Epoch() { ::setenv("SOURCE_DATE_EPOCH", "1700000000", 1); }
+    ~Epoch() { ::unsetenv("SOURCE_DATE_EPOCH"); }
+  } epoch;
+  const auto shards_before = tree(out / "shards");
+  const std::vector<std::string> merge_args{"--force", "merge", s1.string(), s2.string(), "--out", out.string()};
+  auto staged = [&] { return !inner_staging_of(out).empty(); };
+  // A first merge killed: no sample.json, the shards untouched.
+  Killed k = start_and_kill(merge_args, staged);
+  REQUIRE(k.seen_staging);
+  CHECK(k.by_sigkill);
+  CHECK_FALSE(fs::exists(out / "sample.json"));
+  CHECK(tree(out / "shards") == shards_before);
+  // The next merge succeeds, removes the leftover and writes what a merge
+  // into a fresh folder writes.
+  auto again = run_shell(fulcrum_cmd(joined(merge_args)));
+  INFO(again.err);
+  REQUIRE(again.exit_code == 0);
+  CHECK(fs::exists(out / "sample.json"));
+  CHECK(inner_staging_of(out).empty());
+  auto fresh = run_shell(fulcrum_cmd("merge " + s1.string() + " " + s2.string() + " --out " + (dir / "fresh").string()));
+  REQUIRE(fresh.exit_code == 0);
+  auto products = tree(out, false);
+  for (auto it = products.begin(); it != products.end();)
+    it = it->first.rfind("shards/", 0) == 0 ? products.erase(it) : std::next(it);
+  CHECK(products == tree(dir / "fresh"));
+  CHECK(tree(out / "shards") == shards_before);
+  // Without --force an earlier sample is not replaced.
+  auto refused = run_shell(fulcrum_cmd(joined({"merge", s1.string(), s2.string(), "--out", out.string()})));
+  CHECK(refused.exit_code == 2);
+  CHECK(refused.err.find("already holds a sample run") != std::string::npos);
+  // A merge killed over that one: the earlier sample whole (killed before
+  // its commit) or no sample.json (killed during it), never a mix.
+  const auto before = tree(out, false);
+  k = start_and_kill(merge_args, staged);
+  REQUIRE(k.seen_staging);
+  CHECK(k.by_sigkill);
+  if (fs::exists(out / "sample.json")) CHECK(tree(out, false) == before);
+  CHECK(tree(out / "shards") == shards_before);
+  auto last = run_shell(fulcrum_cmd(joined(merge_args)));
+  INFO(last.err);
+  REQUIRE(last.exit_code == 0);
+  CHECK(tree(out, false) == before);  // the same products again
+  for (const auto& e : fs::directory_iterator(out)) CHECK(e.path().filename().string()[0] != '.');
 }

@@ -136,3 +136,67 @@ TEST_CASE("a full output file system (a small tmpfs): one line naming the file, 
     CHECK(r.out.find("left: ") == std::string::npos);
   }
 }
+
+TEST_CASE("merge into a full output file system: one line naming the file, exit 2, --out as it was",
+          "[reliability][output-safety][mounts][merge]") {
+  if (!mounts_allowed()) {
+    WARN("no mount rights here (unshare -m): the full-disk merge cases are not run");
+    return;
+  }
+  const auto dir = fulcrum::test::temp_dir("mount-full-merge");
+  const std::string manifest = fulcrum::test::write_tiny_sample(dir, 2, 7, 300);
+  for (int i = 1; i <= 2; ++i) {
+    auto r = run_shell(fulcrum_cmd("run " + manifest + " --shard " + std::to_string(i) + "/2 --out " +
+                                   (dir / ("s" + std::to_string(i))).string()));
+    INFO(r.err);
+    REQUIRE(r.exit_code == 0);
+  }
+  const std::string s1 = (dir / "s1").string(), s2 = (dir / "s2").string();
+  const fs::path mnt = dir / "mnt";
+  fs::create_directories(mnt);
+  auto check_one_line = [&](const fulcrum::test::CommandResult& r) {
+    INFO(r.out << r.err);
+    REQUIRE(r.exit_code == 0);  // the mount and the set-up worked
+    CHECK(r.out.find("status=2\n") != std::string::npos);
+    const auto lines = error_lines(r.err);
+    REQUIRE(lines.size() == 1);
+    CHECK(lines[0].find(mnt.string()) != std::string::npos);
+    CHECK(lines[0].find("No space left on device") != std::string::npos);
+    CHECK(lines[0].find("fulcrum-staging") == std::string::npos);
+  };
+  {
+    INFO("a fresh --out on a 64 kB file system");
+    const auto r = in_tmpfs(mnt, "64k", false, fulcrum_cmd("merge " + s1 + " " + s2 + " --out $M/merged") + kAfter);
+    check_one_line(r);
+    CHECK(r.out.find("left: ") == std::string::npos);
+  }
+  // An earlier merge, then the disk filled but for 16 kB and the merge run
+  // again with --force: --out keeps every file of the earlier merge, and no
+  // hidden folder is left. Listings with digests go to files outside the
+  // mount (the namespace's mounts vanish with its shell).
+  const std::string listing = "(cd \"$OUT\" && find . | LC_ALL=C sort && find . -type f -exec md5sum {} + | LC_ALL=C sort -k2)";
+  const std::string fill = "dd if=/dev/zero of=$M/fill bs=4096 2>/dev/null; truncate -s -16K $M/fill || exit 93; ";
+  struct Layout {
+    std::string what, setup, merge;
+  };
+  const std::vector<Layout> layouts{
+      {"--out replaced whole (it holds no shard)", "OUT=$M/merged; ",
+       "merge " + s1 + " " + s2 + " --out $OUT"},
+      {"--out holding the shards (the Slurm layout)",
+       "OUT=$M/virgo; mkdir -p $OUT/shards && cp -a " + s1 + " $OUT/shards/1 && cp -a " + s2 +
+           " $OUT/shards/2 || exit 94; ",
+       "merge $OUT/shards/1 $OUT/shards/2 --out $OUT"},
+  };
+  for (const auto& l : layouts) {
+    INFO(l.what);
+    const fs::path before = dir / "before.txt", after = dir / "after.txt";
+    const std::string script = l.setup + fulcrum_cmd("--force " + l.merge) + " >/dev/null || exit 95; " + listing +
+                               " > " + before.string() + "; " + fill + fulcrum_cmd("--force " + l.merge) +
+                               "; echo \"status=$?\"; " + listing + " > " + after.string();
+    const auto r = in_tmpfs(mnt, "32m", false, script);
+    check_one_line(r);
+    const std::string b = fulcrum::test::slurp(before), a = fulcrum::test::slurp(after);
+    CHECK(b.find("./sample.json\n") != std::string::npos);
+    CHECK(a == b);
+  }
+}

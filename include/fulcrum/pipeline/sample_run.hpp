@@ -71,14 +71,28 @@ struct RunSummary {
 RunSummary run_sample(const SampleManifest& manifest, const RunOptions& options);
 
 // Read DIR/<galaxy>/report.json from every folder in `dirs`, copy the galaxy
-// folders into `out_dir` (unless it is one of `dirs`), and write the sample
-// products there. A galaxy found twice is an error, and so is a missing or
-// unfinished shard (check_shards_complete).
+// folders into `out_dir` (unless they are there already: `out_dir` is one of
+// `dirs`), and write the sample products there. A galaxy found twice is an
+// error, and so is a missing or unfinished shard (check_shards_complete);
+// both are found before anything is written. Written safely either way:
+//   * `out_dir` holds none of `dirs`: the whole folder through StagedFolder
+//     (io/staged_folder.hpp), as run_sample writes, so a folder with content
+//     needs `overwrite`, which replaces it whole;
+//   * `out_dir` holds some of them (the Slurm layout OUT/shards/I, or
+//     `out_dir` is one of them), so it cannot be replaced whole: through
+//     StagedEntries (io/staged_entries.hpp), staged inside it and moved into
+//     place entry by entry with sample.json last, so a merge killed part way
+//     leaves no sample.json; an earlier sample.json needs `overwrite` (unless
+//     `out_dir` is one of `dirs`), and an entry that would replace a folder
+//     holding one of `dirs` is refused.
 RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string& out_dir, bool overwrite);
 
 // The sample products from the galaxies (sorted by manifest position).
-// Figures are read back from DIR/<galaxy>/figures/ for the HTML.
-void write_sample_products(const std::string& out_dir, std::vector<GalaxySummary> galaxies);
+// Figures are read back from DIR/<galaxy>/figures/ for the HTML, or from
+// `galaxies_elsewhere`/<galaxy>/figures/ for a galaxy whose folder is not in
+// DIR (a merge into a folder that already holds some galaxies).
+void write_sample_products(const std::string& out_dir, std::vector<GalaxySummary> galaxies,
+                           const std::string& galaxies_elsewhere = "");
 
 // The supplementary robustness table (one row per galaxy). Every numeric
 // column's description ends with "[report.json: <path>]", the place of the
