@@ -16,6 +16,7 @@
 #include "../support/test_support.hpp"
 
 namespace fs = std::filesystem;
+using fulcrum::test::error_lines;
 using fulcrum::test::run_shell;
 
 namespace {
@@ -43,14 +44,6 @@ fulcrum::test::CommandResult in_tmpfs(const fs::path& mnt, const std::string& si
 
 std::string fulcrum_cmd(const std::string& args) {
   return std::string("OMP_NUM_THREADS=1 ") + FULCRUM_BINARY + " --quiet " + args;
-}
-
-std::vector<std::string> error_lines(const std::string& err) {
-  std::vector<std::string> out;
-  std::istringstream in(err);
-  for (std::string l; std::getline(in, l);)
-    if (l.rfind("fulcrum: ", 0) == 0 && l.rfind("fulcrum: warning", 0) != 0) out.push_back(l);
-  return out;
 }
 
 // What the script prints after fulcrum: its status, then every name left

@@ -18,6 +18,7 @@
 #include "../support/test_support.hpp"
 
 namespace fs = std::filesystem;
+using fulcrum::test::error_lines;
 using fulcrum::test::run_shell;
 
 namespace {
@@ -26,14 +27,6 @@ std::string replace_all(std::string s, const std::string& from, const std::strin
   for (std::size_t p = s.find(from); p != std::string::npos; p = s.find(from, p + to.size()))
     s.replace(p, from.size(), to);
   return s;
-}
-
-std::vector<std::string> error_lines(const std::string& err) {
-  std::vector<std::string> out;
-  std::istringstream in(err);
-  for (std::string l; std::getline(in, l);)
-    if (l.rfind("fulcrum: ", 0) == 0 && l.rfind("fulcrum: warning", 0) != 0) out.push_back(l);
-  return out;
 }
 
 struct Request {

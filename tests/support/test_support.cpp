@@ -52,4 +52,12 @@ std::string slurp(const std::filesystem::path& p) {
   return ss.str();
 }
 
+std::vector<std::string> error_lines(const std::string& err) {
+  std::vector<std::string> out;
+  std::istringstream in(err);
+  for (std::string l; std::getline(in, l);)
+    if (l.rfind("fulcrum: ", 0) == 0 && l.rfind("fulcrum: warning", 0) != 0) out.push_back(l);
+  return out;
+}
+
 }  // namespace fulcrum::test

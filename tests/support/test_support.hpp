@@ -5,6 +5,7 @@
 
 #include <filesystem>
 #include <string>
+#include <vector>
 
 namespace fulcrum::test {
 
@@ -29,5 +30,9 @@ std::string source_dir();
 
 // The whole content of a file as bytes (empty when it cannot be read).
 std::string slurp(const std::filesystem::path& p);
+
+// The error lines of a run's standard error: lines starting "fulcrum: "
+// that are not warnings ("fulcrum: warning...").
+std::vector<std::string> error_lines(const std::string& err);
 
 }  // namespace fulcrum::test

@@ -62,7 +62,8 @@ class StagedFolder {
 };
 
 // Lock, link and content checks of StagedFolder without the staging, for a
-// writer that stages inside OUT itself (`run`, pipeline/run_staging.hpp):
+// writer that stages inside OUT itself (`merge` into the folder holding its
+// shards, io/staged_entries.hpp):
 // holds the lock while alive and refuses OUT with content unless `force`
 // (an entry named `ignored`, such as a killed run's own staging folder, does
 // not count as content).

@@ -15,7 +15,7 @@
 // I, J, ... again with a new merge and cancels the merge left waiting by the
 // earlier submission (a shard that failed makes Slurm keep that merge
 // pending for ever). Shards may be requeued by Slurm (--requeue): a shard
-// writes through a staging folder (pipeline/run_staging.hpp), so a restarted
+// writes through a staging folder (io/staged_folder.hpp), so a restarted
 // shard leaves the same files. Every job of one output folder runs with one
 // SOURCE_DATE_EPOCH, the time of the first submission (kept in
 // OUT/slurm/source-date-epoch), so the created_utc fields of a resubmitted
