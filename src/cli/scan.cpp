@@ -35,8 +35,8 @@ void run_scan(const ScanArgs& a) {
   o.angle_half_width_deg = a.angle_half_width;
   o.angle_step_deg = a.angle_step;
   robustness::check_scan_size(o);  // before the map is read
-  const Image map = read_image(a.intensity);
-  const split::SplitProblem pr = split::prepare_split(map, so);
+  // The map is not needed once its pixels are collected: let it go before the scan.
+  const split::SplitProblem pr = split::prepare_split(read_image(a.intensity), so);
   const robustness::ScanSummary s = robustness::scan(pr, o);
   robustness::write_scan_cube(a.out, s, a.intensity);
   char line[256];

@@ -54,7 +54,7 @@ BootstrapSummary bootstrap(const split::SplitProblem& pr, const BootstrapOptions
   BootstrapSummary B;
   B.n_draws = o.n_draws;
   B.seed = o.seed;
-  B.noise_included = o.noise && pr.pixels.variance.size() == pr.pixels.size();
+  B.noise_included = o.noise && pr.pixels.has_variance();
 
   // The centres to draw from: adopted first, then the successful estimates.
   struct Source { SkyOffset c; Eigen::Matrix2d L; double w; };

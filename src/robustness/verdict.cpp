@@ -52,12 +52,12 @@ void detection_stats(const split::SplitProblem& pr, const VerdictOptions& o, dou
   const auto& px = pr.pixels;
   double S = 0.0, V = 0.0;
   std::size_t det = 0;
-  const bool noise = px.variance.size() == px.size();
+  const bool noise = px.has_variance();
   for (std::size_t i = 0; i < px.size(); ++i) {
     S += px.value[i];
     if (noise) {
-      V += px.variance[i];
-      if (px.value[i] > o.detection_snr * std::sqrt(px.variance[i])) ++det;
+      V += px.variance_at(i);
+      if (px.value[i] > o.detection_snr * std::sqrt(px.variance_at(i))) ++det;
     }
   }
   if (!noise) {

@@ -22,32 +22,50 @@ Eigen::Matrix2d local_jacobian(const CelestialWcs& wcs, const OffsetFrame& frame
   return J;
 }
 
-PixelOffsets::PixelOffsets(int nx, int ny, const CelestialWcs& wcs, WorldCoord reference)
-    : nx_(nx), ny_(ny), frame_(reference) {
-  FULCRUM_CHECK(nx > 0 && ny > 0, "positive grid size", nx * ny);
-  const std::size_t n = static_cast<std::size_t>(nx) * static_cast<std::size_t>(ny);
+void grid_row_offsets(const CelestialWcs& wcs, const OffsetFrame& frame, int nx, int ny, int y0,
+                      int y1, double* east, double* north) {
+  FULCRUM_CHECK(nx > 0 && 0 <= y0 && y0 <= y1 && y1 <= ny, "rows inside the grid", y1);
+  const std::size_t first = static_cast<std::size_t>(nx) * static_cast<std::size_t>(y0);
+  const std::size_t n = static_cast<std::size_t>(nx) * static_cast<std::size_t>(y1 - y0);
   // The world positions of the pixel centres: kept by the WCS when a caller
   // asked for it (CelestialWcs::keep_grid_world: the same numbers), else
-  // through wcslib now.
-  std::shared_ptr<const std::vector<WorldCoord>> kept = wcs.kept_grid_world(nx, ny);
-  std::vector<WorldCoord> computed;
-  if (!kept) {
-    std::vector<double> xs(n), ys(n);
-    for (int y = 0; y < ny; ++y)
-      for (int x = 0; x < nx; ++x) {
-        xs[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = x;
-        ys[static_cast<std::size_t>(x) + static_cast<std::size_t>(nx) * y] = y;
-      }
-    computed.resize(n);
-    wcs.pixels_to_world(xs.data(), ys.data(), n, computed.data());
+  // through wcslib now, a chunk at a time.
+  const std::shared_ptr<const std::vector<WorldCoord>> kept = wcs.kept_grid_world(nx, ny);
+  if (kept) {
+    for (std::size_t i = 0; i < n; ++i) {
+      const SkyOffset o = frame.to_offset((*kept)[first + i]);
+      east[i] = o.east;
+      north[i] = o.north;
+    }
+    return;
   }
-  const std::vector<WorldCoord>& world = kept ? *kept : computed;
-  east_.resize(n);
-  north_.resize(n);
-  for (std::size_t i = 0; i < n; ++i) {
-    SkyOffset o = frame_.to_offset(world[i]);
-    east_[i] = o.east;
-    north_[i] = o.north;
+  constexpr std::size_t kChunk = 4096;
+  std::vector<double> xs(std::min(n, kChunk)), ys(xs.size());
+  std::vector<WorldCoord> world(xs.size());
+  for (std::size_t start = 0; start < n; start += kChunk) {
+    const std::size_t m = std::min(kChunk, n - start);
+    for (std::size_t i = 0; i < m; ++i) {
+      const std::size_t k = first + start + i;
+      xs[i] = static_cast<double>(k % static_cast<std::size_t>(nx));
+      ys[i] = static_cast<double>(k / static_cast<std::size_t>(nx));
+    }
+    wcs.pixels_to_world(xs.data(), ys.data(), m, world.data());
+    for (std::size_t i = 0; i < m; ++i) {
+      const SkyOffset o = frame.to_offset(world[i]);
+      east[start + i] = o.east;
+      north[start + i] = o.north;
+    }
+  }
+}
+
+PixelOffsets::PixelOffsets(int nx, int ny, const CelestialWcs& wcs, WorldCoord reference, Holds holds)
+    : nx_(nx), ny_(ny), frame_(reference) {
+  FULCRUM_CHECK(nx > 0 && ny > 0, "positive grid size", nx * ny);
+  if (holds == Holds::every_pixel) {
+    const std::size_t n = static_cast<std::size_t>(nx) * static_cast<std::size_t>(ny);
+    east_.resize(n);
+    north_.resize(n);
+    grid_row_offsets(wcs, frame_, nx, ny, 0, ny, east_.data(), north_.data());
   }
   cx_ = 0.5 * (nx - 1);
   cy_ = 0.5 * (ny - 1);

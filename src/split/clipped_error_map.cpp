@@ -36,7 +36,8 @@ Image clipped_error_map(const Image& map, const Image* error_map, double rms, do
   Eigen::Matrix2d jac = Eigen::Matrix2d::Identity();
   std::vector<double> mu = map.data;
   if (correlated) {
-    const PixelOffsets off(map, map.wcs.pixel_to_world({0.5 * (map.nx - 1), 0.5 * (map.ny - 1)}));
+    const PixelOffsets off(map, map.wcs.pixel_to_world({0.5 * (map.nx - 1), 0.5 * (map.ny - 1)}),
+                           PixelOffsets::Holds::geometry_only);
     jac = off.jacobian();
     mu = convolve_gaussian(map.data, map.nx, map.ny, pixel_covariance(*map.beam, jac));
   }

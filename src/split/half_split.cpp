@@ -69,7 +69,8 @@ SplitProblem prepare_split(const Image& map, const SplitOptions& opt) {
   pr.reference = opt.centre;
   pr.map_path = map.path;
   if (!map.wcs.valid()) throw InputError(map.path, "the map has no celestial WCS");
-  const PixelOffsets offsets(map, opt.centre);
+  // The grid's geometry only: collect_pixels streams the pixels' offsets.
+  const PixelOffsets offsets(map, opt.centre, PixelOffsets::Holds::geometry_only);
   pr.max_jacobian_variation = offsets.max_jacobian_variation();
   if (opt.aperture) {
     const ApertureSpec& a = *opt.aperture;
@@ -139,7 +140,7 @@ SplitSummary summarise_halves(const SplitProblem& pr, const HalfSums& h, Angle t
   s.flux_unit = pr.scale.unit;
   s.ratio = s.leading_flux / s.trailing_flux;
   s.asymmetry = (s.leading_flux - s.trailing_flux) / s.total_flux;
-  const bool noise = pr.pixels.variance.size() == pr.pixels.size();
+  const bool noise = pr.pixels.has_variance();
   if (noise) {
     const double vl = k * k * pr.pixels_per_beam * h.leading_var;
     const double vt = k * k * pr.pixels_per_beam * h.trailing_var;

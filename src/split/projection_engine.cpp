@@ -42,7 +42,7 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   total_[0] = total_[1] = 0.0;
   const std::size_t n = px.size();
   FULCRUM_CHECK(px.east.size() == n && px.north.size() == n, n, px.east.size());
-  const bool var = opt.with_variance && px.variance.size() == n && n > 0;
+  const bool var = opt.with_variance && px.has_variance();
   channels_ = var ? 2 : 1;
   const int nc = channels_;
   const double w1 = shape_.w1;
@@ -72,7 +72,9 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   const double* E = px.east.data();
   const double* N = px.north.data();
   const double* F = px.value.data();
-  const double* V = var ? px.variance.data() : nullptr;
+  // Per-pixel variances, or null with var: every pixel's is uniform_variance.
+  const double* V = var && !px.variance.empty() ? px.variance.data() : nullptr;
+  const double uv = px.uniform_variance;
   auto scan_pixels = [&](std::size_t b, std::size_t e) {
     for (std::size_t i = b; i < e; ++i) {
       const double p = n_.east * E[i] + n_.north * N[i];
@@ -80,10 +82,10 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
       pmax = std::max(pmax, p);
       if (p < flo) {
         below[0] += F[i];
-        if (V) below[1] += V[i];
+        if (var) below[1] += V ? V[i] : uv;
       } else if (p > fhi) {
         above[0] += F[i];
-        if (V) above[1] += V[i];
+        if (var) above[1] += V ? V[i] : uv;
       } else {
         tp.push_back(p);
         ti.push_back(static_cast<unsigned>(i));
@@ -156,7 +158,7 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
     mm[1] += f * e;
     mm[2] += f * e * e;
     if (nc == 2) {
-      const double v = V[i];
+      const double v = V ? V[i] : uv;
       val_[j * nc + 1] = v;
       mm[3] += v;
       mm[4] += v * e;
@@ -289,10 +291,11 @@ double ProjectionEngine::asymmetry(double s) const {
 double direct_trailing(const PixelSet& px, Angle tail_pa, double s, int ch) {
   const SkyOffset n = leading_normal(tail_pa);
   const PixelTrapezoid shape(px.jacobian, n);
-  const std::vector<double>& v = ch == 0 ? px.value : px.variance;
   double F = 0.0;
-  for (std::size_t i = 0; i < v.size(); ++i)
-    F += v[i] * shape.below(s - (n.east * px.east[i] + n.north * px.north[i]));
+  if (ch != 0 && !px.has_variance()) return F;
+  for (std::size_t i = 0; i < px.size(); ++i)
+    F += (ch == 0 ? px.value[i] : px.variance_at(i)) *
+         shape.below(s - (n.east * px.east[i] + n.north * px.north[i]));
   return F;
 }
 
@@ -301,15 +304,15 @@ HalfSums direct_halves(const PixelSet& px, Angle tail_pa, SkyOffset c) {
   const PixelTrapezoid shape(px.jacobian, n);
   const double s = n.east * c.east + n.north * c.north;
   HalfSums h;
-  const bool var = px.variance.size() == px.size();
+  const bool var = px.has_variance();
   for (std::size_t i = 0; i < px.size(); ++i) {
     const double t = s - (n.east * px.east[i] + n.north * px.north[i]);
     const double below = shape.below(t), above = shape.above(t);
     h.trailing += px.value[i] * below;
     h.leading += px.value[i] * above;
     if (var) {
-      h.trailing_var += px.variance[i] * below;
-      h.leading_var += px.variance[i] * above;
+      h.trailing_var += px.variance_at(i) * below;
+      h.leading_var += px.variance_at(i) * above;
     }
   }
   return h;

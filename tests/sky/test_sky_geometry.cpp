@@ -6,6 +6,8 @@
 
 #include <cmath>
 #include <numbers>
+#include <utility>
+#include <vector>
 
 #include "fulcrum/io/image.hpp"
 #include "fulcrum/sky/ellipse.hpp"
@@ -99,9 +101,41 @@ TEST_CASE("pixel offsets from a kept grid are identical to computed ones", "[sky
   }
 }
 
+// Offsets streamed a band of rows at a time (grid_row_offsets) are the
+// numbers a PixelOffsets holds, bit for bit, with and without a kept grid; a
+// PixelOffsets of the geometry only has the same frame and Jacobian.
+TEST_CASE("pixel offsets streamed by rows equal the held ones", "[sky][offsets]") {
+  CelestialWcs wcs = grid_wcs(-35.0, true, 0.3, {10.0, -20.0}, {60.0, 30.0});
+  const int nx = 113, ny = 71;  // 8023 pixels: crosses the 4096-pixel chunks
+  const WorldCoord ref{10.0002, -19.9999};
+  const PixelOffsets held(nx, ny, wcs, ref);
+  const PixelOffsets geometry(nx, ny, wcs, ref, PixelOffsets::Holds::geometry_only);
+  CHECK_FALSE(geometry.holds_pixels());
+  CHECK(geometry.jacobian() == held.jacobian());
+  CHECK(geometry.max_jacobian_variation() == held.max_jacobian_variation());
+  for (bool kept : {false, true}) {
+    if (kept) wcs.keep_grid_world(nx, ny);
+    std::vector<double> east, north;
+    for (auto [y0, y1] : {std::pair{0, 13}, {13, 50}, {50, 50}, {50, 71}}) {
+      std::vector<double> e(static_cast<std::size_t>(nx) * (y1 - y0)), n(e.size());
+      grid_row_offsets(wcs, held.frame(), nx, ny, y0, y1, e.data(), n.data());
+      east.insert(east.end(), e.begin(), e.end());
+      north.insert(north.end(), n.begin(), n.end());
+    }
+    INFO("kept grid " << kept);
+    CHECK(east == held.east());
+    CHECK(north == held.north());
+  }
+}
+
 TEST_CASE("ellipses and disc coordinates", "[sky][ellipse]") {
   SkyEllipse e{{1.0, -2.0}, 40.0 * degrees, 10.0, 0.5};
   for (double t = 0; t < 6.28; t += 0.3) CHECK(e.scaled_radius(e.point_at(t)) == Approx(1.0).epsilon(1e-12));
+  // With the PA's sine and cosine given: the same number, bit for bit.
+  for (SkyOffset p : {SkyOffset{3.0, 4.0}, SkyOffset{-7.5, 0.25}, SkyOffset{1.0, -2.0}, SkyOffset{12.0, 9.0}}) {
+    CHECK(e.scaled_radius(p, e.pa.sin(), e.pa.cos()) == e.scaled_radius(p));
+    CHECK(e.contains(p, e.pa.sin(), e.pa.cos()) == e.contains(p));
+  }
   // The end of the major axis is at PA 40 from the centre.
   CHECK((e.point_at(0.0) - e.centre).pa_deg() == Approx(40.0));
   CHECK((e.point_at(0.0) - e.centre).norm() == Approx(10.0));

@@ -31,6 +31,13 @@ struct SkyEllipse {
   // Elliptical radius in units of a: < 1 inside.
   double scaled_radius(SkyOffset p) const;
   bool contains(SkyOffset p) const { return scaled_radius(p) <= 1.0; }
+  // The same two with the PA's sine and cosine given (pa.sin(), pa.cos()),
+  // for a loop over many points that takes them once: the same numbers, bit
+  // for bit.
+  double scaled_radius(SkyOffset p, double sin_pa, double cos_pa) const;
+  bool contains(SkyOffset p, double sin_pa, double cos_pa) const {
+    return scaled_radius(p, sin_pa, cos_pa) <= 1.0;
+  }
   // Semi-major-axis-equivalent radius of `p` (arcsec): a * scaled_radius.
   double elliptical_radius_arcsec(SkyOffset p) const { return a_arcsec * scaled_radius(p); }
   // Point on the ellipse at eccentric anomaly t (radians, from the major axis

@@ -25,15 +25,23 @@ namespace fulcrum {
 
 class PixelOffsets {
  public:
+  // What the object holds: every pixel's offset, or only the grid's geometry
+  // (frame, Jacobian, its variation) for a caller that streams the offsets
+  // band by band with grid_row_offsets() instead of holding them all (a
+  // large map's split: two doubles per pixel fewer at once).
+  enum class Holds { every_pixel, geometry_only };
+
   PixelOffsets() = default;
-  // `reference` defaults to the world position of the grid centre.
-  PixelOffsets(int nx, int ny, const CelestialWcs& wcs, WorldCoord reference);
-  PixelOffsets(const Image& image, WorldCoord reference)
-      : PixelOffsets(image.nx, image.ny, image.wcs, reference) {}
+  PixelOffsets(int nx, int ny, const CelestialWcs& wcs, WorldCoord reference,
+               Holds holds = Holds::every_pixel);
+  PixelOffsets(const Image& image, WorldCoord reference, Holds holds = Holds::every_pixel)
+      : PixelOffsets(image.nx, image.ny, image.wcs, reference, holds) {}
 
   int nx() const { return nx_; }
   int ny() const { return ny_; }
   const OffsetFrame& frame() const { return frame_; }
+  // False for Holds::geometry_only: then at(), east() and north() are empty.
+  bool holds_pixels() const { return !east_.empty(); }
   // Offset of pixel (x, y) (0-based) from the reference.
   SkyOffset at(int x, int y) const {
     std::size_t i = static_cast<std::size_t>(x) + static_cast<std::size_t>(nx_) * y;
@@ -63,6 +71,15 @@ class PixelOffsets {
   SkyOffset centre_offset_;  // offset of the grid centre pixel
   double cx_ = 0.0, cy_ = 0.0;
 };
+
+// The offsets (arcsec) about `frame` of the pixel centres of rows [y0, y1)
+// of an nx x ny grid, row by row: east[x + nx (y - y0)]. The same numbers,
+// bit for bit, as PixelOffsets holds (it fills itself with this function);
+// the grid's kept world positions are used when the WCS keeps them
+// (CelestialWcs::keep_grid_world), else wcslib in chunks of a few thousand
+// pixels, so that the working memory does not grow with the grid.
+void grid_row_offsets(const CelestialWcs& wcs, const OffsetFrame& frame, int nx, int ny, int y0,
+                      int y1, double* east, double* north);
 
 // Jacobian d(east, north)/d(x, y) in arcsec/pixel at pixel p (central
 // differences through the WCS) about `frame`.

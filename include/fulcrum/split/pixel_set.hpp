@@ -42,7 +42,10 @@ struct PixelSet {
   std::vector<double> east;      // arcsec
   std::vector<double> north;     // arcsec
   std::vector<double> value;     // BUNIT
-  std::vector<double> variance;  // BUNIT^2; empty when no noise is known
+  // BUNIT^2 per pixel; empty when no noise is known or when every pixel has
+  // the same variance (uniform_variance, one rms for the map).
+  std::vector<double> variance;
+  double uniform_variance = 0.0;  // BUNIT^2, used when `variance` is empty; 0: none
   Eigen::Matrix2d jacobian = Eigen::Matrix2d::Identity();  // arcsec per pixel
   // max |offset| over the pixels (arcsec): bounds n.x for every angle.
   // collect_pixels fills it; 0 means "unknown" (engines then compute it).
@@ -51,6 +54,11 @@ struct PixelSet {
   // means one tile holding everything.
   std::vector<PixelTile> tiles;
   std::size_t size() const { return value.size(); }
+  // Whether the pixels' noise is known (per pixel or uniform), and pixel i's variance.
+  bool has_variance() const {
+    return size() > 0 && (variance.size() == size() || (variance.empty() && uniform_variance > 0.0));
+  }
+  double variance_at(std::size_t i) const { return variance.empty() ? uniform_variance : variance[i]; }
   double pixel_area_arcsec2() const { return std::abs(jacobian.determinant()); }
   double pixel_scale_arcsec() const { return std::sqrt(pixel_area_arcsec2()); }
 };
@@ -64,8 +72,12 @@ struct NoiseSpec {
 
 // Collect the finite pixels of `map` (inside `aperture` when given, centres
 // relative to `offsets.frame()`). Pixels whose error is not finite or <= 0 are
-// dropped. Throws InputError when the error map's grid differs from the map's
-// or when no pixel is left.
+// dropped; with one rms the set's variance is uniform_variance. When
+// `offsets` holds only the geometry (PixelOffsets::Holds::geometry_only) the
+// offsets are computed from map.wcs a band of rows at a time
+// (grid_row_offsets: the same numbers), so that a large map's offsets are
+// never all held at once. Throws InputError when the error map's grid differs
+// from the map's or when no pixel is left.
 PixelSet collect_pixels(const Image& map, const PixelOffsets& offsets,
                         const std::optional<SkyEllipse>& aperture, const NoiseSpec& noise = {});
 
