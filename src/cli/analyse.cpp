@@ -86,9 +86,7 @@ void run_analyse(AnalyseArgs& a, CLI::App* cmd) {
               << pipeline::summary_text({g}) << "\nreport: " << (fs::path(a.out) / "report.json").string()
               << "\nfigures and page: " << (fs::path(a.out) / "report.html").string() << "\n";
   } catch (const InputError& e) {
-    // A failed write names the file in --out, not the hidden staging folder.
-    if (e.file() == out.shown_in_target(e).file()) throw;
-    throw out.shown_in_target(e);
+    out.rethrow_in_target(e);
   }
 }
 

@@ -108,9 +108,7 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
               << s.centre_coverage.rate << " of " << s.centre_coverage.n << " re-fits\n"
               << "calibration: " << out_file.string() << "\n";
   } catch (const InputError& e) {
-    // A failed write names the file in --out, not the hidden staging folder.
-    if (e.file() == out.shown_in_target(e).file()) throw;
-    throw out.shown_in_target(e);
+    out.rethrow_in_target(e);
   }
 }
 

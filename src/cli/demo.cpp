@@ -67,9 +67,7 @@ void run_demo(const DemoArgs& a, CLI::App* cmd) {
               << "manifest: " << (shown / "data" / fs::path(manifest).filename()).string()
               << "\nreport:   " << (shown / "results" / "report.html").string() << "\n";
   } catch (const InputError& e) {
-    // A failed write names the file in --out, not the hidden staging folder.
-    if (e.file() == out.shown_in_target(e).file()) throw;
-    throw out.shown_in_target(e);
+    out.rethrow_in_target(e);
   }
 }
 }  // namespace

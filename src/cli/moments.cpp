@@ -39,9 +39,7 @@ void run_moments(MomentsCli& cli) {
     files = write_moment_maps(folder.path(), p, cli.cube);
     folder.commit();
   } catch (const InputError& e) {
-    // A failed write names the file in --out, not the hidden staging folder.
-    if (e.file() == folder.shown_in_target(e).file()) throw;
-    throw folder.shown_in_target(e);
+    folder.rethrow_in_target(e);
   }
   std::cout << "total flux " << p.total_flux << " +/- " << p.total_flux_err << " " << p.flux_unit << "  ("
             << mask_method_name(o.mask) << " mask, " << p.mask_voxels << " voxels, "

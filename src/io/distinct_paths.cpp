@@ -9,29 +9,32 @@
 
 namespace fulcrum {
 
-namespace {
-
-std::filesystem::path resolved(const std::string& p) {
+std::filesystem::path comparable_path(const std::filesystem::path& p) {
   std::error_code ec;
-  auto r = std::filesystem::weakly_canonical(std::filesystem::path(p), ec);
-  return ec ? std::filesystem::absolute(p).lexically_normal() : r;
+  std::filesystem::path c = std::filesystem::weakly_canonical(std::filesystem::absolute(p, ec), ec);
+  if (ec) c = std::filesystem::absolute(p, ec);
+  c = c.lexically_normal();
+  if (!c.has_filename() && c != c.root_path()) c = c.parent_path();  // a trailing '/'
+  return c;
 }
 
-}  // namespace
+bool path_lies_in(const std::filesystem::path& inner, const std::filesystem::path& outer) {
+  return std::mismatch(outer.begin(), outer.end(), inner.begin(), inner.end()).first == outer.end();
+}
 
 void check_distinct_paths(const std::vector<std::pair<std::string, std::string>>& inputs,
                           const std::vector<std::pair<std::string, std::string>>& outputs) {
   for (std::size_t i = 0; i < outputs.size(); ++i) {
     const auto& [out_setting, out_path] = outputs[i];
     if (out_path.empty()) continue;
-    const auto out = resolved(out_path);
+    const auto out = comparable_path(out_path);
     for (const auto& [in_setting, in_path] : inputs)
-      if (!in_path.empty() && resolved(in_path) == out)
+      if (!in_path.empty() && comparable_path(in_path) == out)
         throw InputError(out_path, setting_ref(out_setting) + " names the input " + setting_ref(in_setting) +
                                        "; an output must not overwrite an input (not even with " +
                                        setting_ref("overwrite") + ")");
     for (std::size_t j = 0; j < i; ++j)
-      if (!outputs[j].second.empty() && resolved(outputs[j].second) == out)
+      if (!outputs[j].second.empty() && comparable_path(outputs[j].second) == out)
         throw InputError(out_path, setting_ref(out_setting) + " names the same file as " +
                                        setting_ref(outputs[j].first) + "; give each output its own file");
   }
@@ -41,14 +44,10 @@ void check_inputs_outside_folder(const std::vector<std::pair<std::string, std::s
                                  const std::pair<std::string, std::string>& folder) {
   const auto& [out_setting, out_path] = folder;
   if (out_path.empty()) return;
-  auto out = resolved(out_path);
-  if (!out.has_filename()) out = out.parent_path();  // a trailing '/'
+  const auto out = comparable_path(out_path);
   for (const auto& [in_setting, in_path] : inputs) {
     if (in_path.empty()) continue;
-    const auto in = resolved(in_path);
-    // `in` equal to the folder or below it.
-    auto [o, i] = std::mismatch(out.begin(), out.end(), in.begin(), in.end());
-    if (o == out.end())
+    if (path_lies_in(comparable_path(in_path), out))
       throw InputError(in_path, "the input " + setting_ref(in_setting) + " lies in the output folder " +
                                     setting_ref(out_setting) + ", which a run replaces whole; move the input or choose "
                                     "another output folder");

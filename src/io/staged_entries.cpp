@@ -53,11 +53,9 @@ StagedEntries::StagedEntries(const std::string& out, const std::string& marker)
 
 std::string StagedEntries::file(const std::string& name) const { return (fs::path(staging_) / name).string(); }
 
-InputError StagedEntries::shown_in_target(const InputError& e) const {
-  const std::string& f = e.file();
-  if (staging_.empty() || f.compare(0, staging_.size(), staging_) != 0) return e;
-  return InputError((fs::path(given_) / fs::path(f.substr(staging_.size())).relative_path()).string(), e.problem());
-}
+InputError StagedEntries::shown_in_target(const InputError& e) const { return shown_in(e, staging_, given_); }
+
+void StagedEntries::rethrow_in_target(const InputError& e) const { rethrow_shown_in(e, staging_, given_); }
 
 void StagedEntries::commit() {
   const fs::path out(lock_.target()), staging(staging_);

@@ -140,11 +140,21 @@ StagedFolder::StagedFolder(const std::string& out, bool force) : given_(out) {
   }
 }
 
-InputError StagedFolder::shown_in_target(const InputError& e) const {
+InputError shown_in(const InputError& e, const std::string& staging, const std::string& shown) {
   const std::string& f = e.file();
-  if (staging_.empty() || f.compare(0, staging_.size(), staging_) != 0) return e;
-  return InputError((fs::path(given_) / fs::path(f.substr(staging_.size())).relative_path()).string(), e.problem());
+  if (staging.empty() || f.compare(0, staging.size(), staging) != 0) return e;
+  return InputError((fs::path(shown) / fs::path(f.substr(staging.size())).relative_path()).string(), e.problem());
 }
+
+void rethrow_shown_in(const InputError& e, const std::string& staging, const std::string& shown) {
+  InputError s = shown_in(e, staging, shown);
+  if (s.file() == e.file()) throw;  // as it is, keeping its own type
+  throw s;
+}
+
+InputError StagedFolder::shown_in_target(const InputError& e) const { return shown_in(e, staging_, given_); }
+
+void StagedFolder::rethrow_in_target(const InputError& e) const { rethrow_shown_in(e, staging_, given_); }
 
 std::string StagedFolder::file(const std::string& name) const { return (fs::path(staging_) / name).string(); }
 

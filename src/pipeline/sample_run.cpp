@@ -695,9 +695,7 @@ RunSummary run_sample(const SampleManifest& manifest, const RunOptions& o) {
     }
     staging.commit();
   } catch (const InputError& e) {
-    // A failed write names the file in DIR, not the hidden staging folder.
-    if (e.file() == staging.shown_in_target(e).file()) throw;
-    throw staging.shown_in_target(e);
+    staging.rethrow_in_target(e);
   }
   RunSummary s;
   s.galaxies = galaxies;
@@ -738,25 +736,6 @@ std::vector<MergedGalaxy> read_merged_galaxies(const std::vector<std::string>& d
   }
   if (sample_names.size() > 1) warn("merging galaxies from differently named samples; the first name is used");
   return found;
-}
-
-// A path made comparable: absolute, links of its existing part followed,
-// normalised, without a trailing '/'.
-fs::path comparable(const fs::path& p) {
-  std::error_code ec;
-  fs::path c = fs::weakly_canonical(fs::absolute(p, ec), ec);
-  if (ec) c = fs::absolute(p, ec);
-  c = c.lexically_normal();
-  if (!c.has_filename() && c != c.root_path()) c = c.parent_path();
-  return c;
-}
-
-// True when `inner` is `outer` or lies under it (both comparable()).
-bool lies_in(const fs::path& inner, const fs::path& outer) {
-  auto i = inner.begin();
-  for (auto o = outer.begin(); o != outer.end(); ++o, ++i)
-    if (i == inner.end() || *i != *o) return false;
-  return true;
 }
 
 // The bytes of `from` copied into a new file `to`; a failed read or write
@@ -827,7 +806,7 @@ void write_merge(const std::string& dir, const std::string& out, const std::vect
   for (const auto& f : found) {
     galaxies.push_back(f.summary);
     const fs::path name = f.folder.filename();
-    if (comparable(fs::path(out) / name) == comparable(f.folder)) continue;  // already in place
+    if (comparable_path(fs::path(out) / name) == comparable_path(f.folder)) continue;  // already in place
     copy_galaxy_folder(f.folder, fs::path(dir) / name);
   }
   write_sample_products(dir, galaxies, out);
@@ -838,9 +817,9 @@ void write_merge(const std::string& dir, const std::string& out, const std::vect
 void check_products_spare(const StagedEntries& staging, const std::vector<fs::path>& held) {
   std::error_code ec;
   for (auto it = fs::directory_iterator(staging.path(), ec); !ec && it != fs::directory_iterator(); it.increment(ec)) {
-    const fs::path replaced = comparable(fs::path(staging.target()) / it->path().filename());
+    const fs::path replaced = comparable_path(fs::path(staging.target()) / it->path().filename());
     for (const auto& h : held)
-      if (lies_in(h, replaced))
+      if (path_lies_in(h, replaced))
         throw InputError(replaced.string(), "holds " + h.string() +
                                                 ", one of the folders being merged, and the merged sample has an "
                                                 "entry of the same name; choose another output folder");
@@ -856,13 +835,13 @@ RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string
   // report read, before anything is written.
   check_shards_complete(dirs);
   const std::vector<MergedGalaxy> found = read_merged_galaxies(dirs);
-  const fs::path out(out_dir), out_c = comparable(out_dir);
+  const fs::path out(out_dir), out_c = comparable_path(out_dir);
   // The merged folders that lie in OUT (the Slurm layout: OUT/shards/I).
   std::vector<fs::path> held;
   bool out_is_merged = false;
   for (const auto& d : dirs) {
-    const fs::path c = comparable(d);
-    if (lies_in(c, out_c)) held.push_back(c);
+    const fs::path c = comparable_path(d);
+    if (path_lies_in(c, out_c)) held.push_back(c);
     out_is_merged = out_is_merged || c == out_c;
   }
   if (held.empty()) {
@@ -872,8 +851,7 @@ RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string
       write_merge(staging.path(), staging.target(), found);
       staging.commit();
     } catch (const InputError& e) {
-      if (e.file() == staging.shown_in_target(e).file()) throw;
-      throw staging.shown_in_target(e);
+      staging.rethrow_in_target(e);
     }
   } else {
     // OUT cannot be replaced whole: staged inside it, moved into place entry
@@ -887,8 +865,7 @@ RunSummary merge_outputs(const std::vector<std::string>& dirs, const std::string
       check_products_spare(staging, held);
       staging.commit();
     } catch (const InputError& e) {
-      if (e.file() == staging.shown_in_target(e).file()) throw;
-      throw staging.shown_in_target(e);
+      staging.rethrow_in_target(e);
     }
   }
   RunSummary s;

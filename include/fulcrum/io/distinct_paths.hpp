@@ -14,6 +14,7 @@
 //   vel.fits: `json` names the input `velocity`; an output must not overwrite an input
 #pragma once
 
+#include <filesystem>
 #include <string>
 #include <utility>
 #include <vector>
@@ -30,5 +31,12 @@ void check_distinct_paths(const std::vector<std::pair<std::string, std::string>>
 //   OUT/vel.fits: the input `velocity` lies in the output folder `out`, ...
 void check_inputs_outside_folder(const std::vector<std::pair<std::string, std::string>>& inputs,
                                  const std::pair<std::string, std::string>& folder);
+
+// A path made comparable: absolute, `.`, `..` and the links of its existing
+// part resolved (std::filesystem::weakly_canonical), without a trailing '/'.
+std::filesystem::path comparable_path(const std::filesystem::path& p);
+
+// True when `inner` is `outer` or lies under it (both comparable_path()).
+bool path_lies_in(const std::filesystem::path& inner, const std::filesystem::path& outer);
 
 }  // namespace fulcrum

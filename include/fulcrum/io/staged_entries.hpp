@@ -58,6 +58,9 @@ class StagedEntries {
   // `e` with a path in the staging folder shown as the same path in the
   // output folder as given; other errors unchanged.
   InputError shown_in_target(const InputError& e) const;
+  // Inside a handler of `e`: rethrows it, as shown_in_target(e) when it
+  // names a path in the staging folder (io/staged_folder.hpp, rethrow_shown_in).
+  [[noreturn]] void rethrow_in_target(const InputError& e) const;
 
  private:
   OutputLock lock_;

@@ -54,6 +54,9 @@ class StagedFolder {
   // output folder as given (a failed write names OUT/figures/x.svg, not the
   // hidden staging folder); other errors unchanged.
   InputError shown_in_target(const InputError& e) const;
+  // Inside a handler of `e`: rethrows it, as shown_in_target(e) when it
+  // names a path in the staging folder (see rethrow_shown_in).
+  [[noreturn]] void rethrow_in_target(const InputError& e) const;
 
  private:
   std::string given_, out_, staging_, lock_;
@@ -84,5 +87,14 @@ class OutputLock {
 // staging folder PARENT/.NAME.fulcrum-staging-* is there (or, from older
 // versions of `run`, OUT/.partial). `merge` refuses such a folder.
 bool has_unfinished_run(const std::string& out);
+
+// `e` with a path under `staging` shown as the same path under `shown`;
+// other errors unchanged (the one mapping of StagedFolder and StagedEntries).
+InputError shown_in(const InputError& e, const std::string& staging, const std::string& shown);
+
+// Inside a handler of `e`: rethrows the error being handled as it is (its
+// own type, e.g. a SettingError) unless it names a path under `staging`,
+// then throws shown_in(e, staging, shown).
+[[noreturn]] void rethrow_shown_in(const InputError& e, const std::string& staging, const std::string& shown);
 
 }  // namespace fulcrum
