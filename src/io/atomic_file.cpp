@@ -54,24 +54,26 @@ void AtomicFile::commit() {
   committed_ = true;
 }
 
+int write_all(int fd, const char* p, std::size_t n) {
+  while (n > 0) {
+    const ssize_t w = ::write(fd, p, n);
+    if (w < 0 && errno == EINTR) continue;
+    if (w <= 0) return w < 0 ? errno : ENOSPC;
+    p += w;
+    n -= static_cast<std::size_t>(w);
+  }
+  return 0;
+}
+
 void write_text_file(const std::string& path, const std::string& contents) {
   AtomicFile f(path);
   // POSIX calls, so that a failure is told with the system's reason
   // (EROFS, ENOSPC, EFBIG, ...), naming the file as the caller named it.
   const int fd = ::open(f.temporary_path().c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
   if (fd < 0) throw InputError(path, std::string("cannot open for writing: ") + std::strerror(errno));
-  const char* p = contents.data();
-  std::size_t left = contents.size();
-  while (left > 0) {
-    const ssize_t n = ::write(fd, p, left);
-    if (n < 0 && errno == EINTR) continue;
-    if (n <= 0) {
-      const int e = n < 0 ? errno : ENOSPC;
-      ::close(fd);
-      throw InputError(path, std::string("write failed: ") + std::strerror(e));
-    }
-    p += n;
-    left -= static_cast<std::size_t>(n);
+  if (const int e = write_all(fd, contents.data(), contents.size()); e != 0) {
+    ::close(fd);
+    throw InputError(path, std::string("write failed: ") + std::strerror(e));
   }
   if (::close(fd) != 0) throw InputError(path, std::string("write failed: ") + std::strerror(errno));
   f.commit();

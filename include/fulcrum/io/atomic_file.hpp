@@ -7,6 +7,7 @@
 // them (remove_pending_temporaries()).
 #pragma once
 
+#include <cstddef>
 #include <string>
 
 namespace fulcrum {
@@ -28,6 +29,10 @@ class AtomicFile {
 };
 
 void write_text_file(const std::string& path, const std::string& contents);
+// Writes all `n` bytes at `p` to the file descriptor `fd` (retrying
+// interrupted and partial writes); 0, or the errno of the failure (ENOSPC
+// when the system writes nothing without saying why).
+int write_all(int fd, const char* p, std::size_t n);
 // Remove every temporary file still registered (async-signal-safe enough for
 // a termination handler: unlink only).
 void remove_pending_temporaries();
