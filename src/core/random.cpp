@@ -1,6 +1,7 @@
 // The seeded random generator (core/random.hpp: methods and sources).
 #include "fulcrum/core/random.hpp"
 
+#include <array>
 #include <cmath>
 #include <numbers>
 
@@ -30,6 +31,58 @@ double Random::normal() {
   spare_ = r * std::sin(t);
   has_spare_ = true;
   return r * std::cos(t);
+}
+
+namespace {
+
+// The ziggurat's layers (Marsaglia & Tsang 2000, section 2, n = 256): the
+// right edges x[0] > x[1] = r > ... > x[256] = 0 of 256 regions of equal
+// area v under f(x) = exp(-x^2 / 2) (x[0] = v / f(r) is the base layer's
+// width, its area split between the rectangle [0, r] x [0, f(r)] and the
+// tail beyond r), and f at each edge.
+struct ZigguratTable {
+  static constexpr int kLayers = 256;
+  static constexpr double kR = 3.6541528853610088;
+  static constexpr double kV = 4.92867323399e-3;
+  std::array<double, kLayers + 1> x{}, f{};
+  ZigguratTable() {
+    auto pdf = [](double t) { return std::exp(-0.5 * t * t); };
+    x[0] = kV / pdf(kR);
+    x[1] = kR;
+    for (int i = 1; i < kLayers - 1; ++i) x[i + 1] = std::sqrt(-2.0 * std::log(kV / x[i] + pdf(x[i])));
+    x[kLayers] = 0.0;
+    for (int i = 0; i <= kLayers; ++i) f[i] = pdf(x[i]);
+  }
+};
+
+const ZigguratTable& ziggurat_table() {
+  static const ZigguratTable table;
+  return table;
+}
+
+}  // namespace
+
+double Random::normal_ziggurat() {
+  const ZigguratTable& t = ziggurat_table();
+  for (;;) {
+    const std::uint64_t b = engine_();
+    const int i = static_cast<int>(b & 0xFF);
+    const double sign = (b & 0x100) ? -1.0 : 1.0;
+    const double u = static_cast<double>(b >> 11) * 0x1.0p-53;  // [0, 1)
+    const double z = u * t.x[i];
+    if (z < t.x[i + 1]) return sign * z;  // inside the layer's rectangle under the curve
+    if (i == 0) {
+      // The tail beyond r: r + a with a exponential of rate r, accepted
+      // with probability exp(-a^2 / 2) (Marsaglia 1964).
+      for (;;) {
+        const double a = -std::log(uniform()) / ZigguratTable::kR;
+        const double e = -std::log(uniform());
+        if (2.0 * e > a * a) return sign * (ZigguratTable::kR + a);
+      }
+    }
+    // The wedge between the rectangle and the curve.
+    if (t.f[i] + uniform() * (t.f[i + 1] - t.f[i]) < std::exp(-0.5 * z * z)) return sign * z;
+  }
 }
 
 std::uint64_t Random::below(std::uint64_t n) {

@@ -45,7 +45,7 @@ BootstrapSummary bootstrap_centre(const PreparedImage& p, const Estimator& estim
     std::vector<double> d = p.data;  // this thread's working copy
 #pragma omp for schedule(dynamic)
     for (int k = 0; k < o.draws; ++k) {
-      // The project's own normal deviates (Box-Muller on mt19937_64), not
+      // The project's own normal deviates (the ziggurat on mt19937_64), not
       // std::normal_distribution, whose algorithm differs between standard
       // libraries: the same seed gives the same centres everywhere.
       Random rng(mix_seed(o.seed, tag, static_cast<std::uint64_t>(k)));
@@ -53,7 +53,7 @@ BootstrapSummary bootstrap_centre(const PreparedImage& p, const Estimator& estim
         for (int x = w.x0; x <= w.x1; ++x) {
           const std::size_t i = static_cast<std::size_t>(x) + static_cast<std::size_t>(p.nx) * y;
           const double v = p.data[i];
-          d[i] = std::isfinite(v) ? v + noise_rms * rng.normal() : v;
+          d[i] = std::isfinite(v) ? v + noise_rms * rng.normal_ziggurat() : v;
         }
       results[static_cast<std::size_t>(k)] = estimator(d);
     }

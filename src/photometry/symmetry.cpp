@@ -246,8 +246,9 @@ PixelEstimate estimate_symmetry_centre(const PreparedImage& p, const std::vector
   Minimum m;
   int evaluations = 0;
   const FiniteImage fi = finite_image(p, data);
-  for (int round = 0; round < 2; ++round) {
-    const Aperture ap = aperture_pixels(p, data, c, r);
+  const int rounds = o.aperture_centre ? 1 : 2;
+  for (int round = 0; round < rounds; ++round) {
+    const Aperture ap = aperture_pixels(p, data, o.aperture_centre.value_or(c), r);
     auto f = [&](PixelCoord t) { return asymmetry_over(ap, fi, data, p.nx, p.ny, t); };
     m = nelder_mead(f, c, round == 0 ? 1.0 : 0.25, o.tolerance_pixels, o.max_evaluations);
     evaluations += m.evaluations;

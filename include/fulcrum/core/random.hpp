@@ -16,6 +16,15 @@
 //  * normal(): the Box-Muller transform (Box & Muller 1958, Ann. Math. Stat.
 //    29, 610) on u1 = 1 - uniform() and u2 = uniform(): r = sqrt(-2 ln u1), t = 2 pi u2,
 //    returns r cos t, then r sin t on the next call.
+//  * normal_ziggurat(): a standard normal deviate by the ziggurat method
+//    (Marsaglia & Tsang 2000, J. Stat. Softw. 5(8)), 256 layers, about four
+//    times faster than normal(); used where millions of deviates are drawn
+//    (the photometric bootstrap's noise images). One engine output per try:
+//    its low 8 bits pick the layer, bit 8 the sign and its top 53 bits the
+//    position, so the layer and the value are independent (the flaw of the
+//    original 32-bit version, Doornik 2005); the base layer's tail beyond
+//    r = 3.6541528853610088 by Marsaglia's (1964) exponential method. Its
+//    sequence differs from normal()'s for the same seed.
 //  * below(n): a whole number in [0, n) by rejection (no modulo bias).
 //
 // Streams. Random(seed) seeds the engine with `seed` itself. Independent
@@ -59,6 +68,8 @@ class Random {
   double uniform(double lo, double hi) { return lo + (hi - lo) * uniform(); }
   // Standard normal deviate (Box-Muller; both values of a pair are used).
   double normal();
+  // Standard normal deviate (ziggurat; see above).
+  double normal_ziggurat();
   // Uniform whole number in [0, n), n > 0.
   std::uint64_t below(std::uint64_t n);
   // The raw engine output (64 random bits).

@@ -13,7 +13,8 @@
 // is fixed (the aperture about the starting point) so that A(c) is
 // continuous in c, A is minimised by Nelder & Mead (1965) simplex steps from
 // the starting point, then the aperture is re-centred on the minimum and the
-// search repeated once. A is published with a sky term subtracted; that term
+// search repeated once (SymmetryOptions::aperture_centre: one round about a
+// given point). A is published with a sky term subtracted; that term
 // does not depend on c and is not needed to find the centre, so the value
 // reported here is the raw A at the minimum.
 //
@@ -33,6 +34,10 @@ struct SymmetryOptions {
   double tolerance_pixels = 1e-5;
   int max_evaluations = 2000;
   std::optional<PixelCoord> start;      // default: the segment's first moment
+  // When set: one search round over the fixed aperture about this point
+  // (the bootstrap's draws use the point estimate), instead of a round about
+  // the start and a second about the first round's minimum.
+  std::optional<PixelCoord> aperture_centre;
 };
 
 // A(c) over the fixed aperture about `aperture_centre` (for tests).
