@@ -73,7 +73,7 @@ void CorrelatedNoise::draw(Random& g, std::vector<double>& first, std::vector<do
   const std::size_t m = filter_.size();
   std::vector<std::complex<double>> a(m);
   for (std::size_t i = 0; i < m; ++i) {
-    const double re = g.normal_ziggurat(), im = g.normal_ziggurat();
+    const double re = g.normal(), im = g.normal();
     a[i] = {filter_[i] * re, filter_[i] * im};
   }
   transform_2d(a, mx_, my_, ny_, true);

@@ -58,12 +58,16 @@ bool band_maximum(const std::vector<double>& band, int nx, int ny, int x, int y)
 
 CentralStars find_central_stars(const std::vector<double>& data, int nx, int ny, const Eigen::Matrix2d& jac,
                                 double psf_fwhm, const std::vector<std::uint8_t>& galaxy, double pixel_rms,
-                                const CentralStarOptions& o) {
+                                const CentralStarOptions& o, const std::vector<double>* smoothed,
+                                const std::vector<double>* smoothed_wide) {
   CentralStars out;
   const double scale = std::sqrt(std::abs(jac.determinant()));
   const double fwhm_px = psf_fwhm / scale;
-  const std::vector<double> s = smooth_to_fwhm(data, nx, ny, jac, psf_fwhm);
-  const std::vector<double> sw = smooth_to_fwhm(data, nx, ny, jac, psf_fwhm * o.wide_factor);
+  std::vector<double> own_s, own_sw;
+  if (!smoothed) own_s = smooth_to_fwhm(data, nx, ny, jac, psf_fwhm);
+  if (!smoothed_wide) own_sw = smooth_to_fwhm(data, nx, ny, jac, psf_fwhm * o.wide_factor);
+  const std::vector<double>& s = smoothed ? *smoothed : own_s;
+  const std::vector<double>& sw = smoothed_wide ? *smoothed_wide : own_sw;
   out.outer_centre = outer_isophote_centre(s, nx, galaxy);
   std::vector<double> band(data.size(), std::numeric_limits<double>::quiet_NaN());
   for (std::size_t i = 0; i < data.size(); ++i)

@@ -76,13 +76,18 @@ void mark_disc(std::vector<std::uint8_t>& m, int nx, int ny, double cx, double c
 
 // Point sources near the centre that are not the nucleus
 // (central_star.hpp): masked in `out`, listed in its sources; returns the
-// data with them blanked, for the search of the galaxy's core.
-std::vector<double> mask_central_stars(const std::vector<double>& data, int nx, int ny, const Eigen::Matrix2d& jac,
-                                       double psf_fwhm_arcsec, double pixel_rms, const SourceMaskOptions& o,
-                                       SourceMaskSummary& out) {
+// data with them blanked, for the search of the galaxy's core. `s`: the
+// data smoothed to the PSF; `wide` receives the data smoothed to
+// o.central.wide_factor times the PSF when the search made it (else empty).
+std::vector<double> mask_central_stars(const std::vector<double>& data, const std::vector<double>& s, int nx,
+                                       int ny, const Eigen::Matrix2d& jac, double psf_fwhm_arcsec, double pixel_rms,
+                                       const SourceMaskOptions& o, SourceMaskSummary& out, std::vector<double>& wide) {
   std::vector<double> kept = data;
+  wide.clear();
   if (!o.mask_stars_on_galaxy || !o.mask_central_stars) return kept;
-  const CentralStars cs = find_central_stars(data, nx, ny, jac, psf_fwhm_arcsec, out.galaxy, pixel_rms, o.central);
+  wide = smooth_to_fwhm(data, nx, ny, jac, psf_fwhm_arcsec * o.central.wide_factor);
+  const CentralStars cs =
+      find_central_stars(data, nx, ny, jac, psf_fwhm_arcsec, out.galaxy, pixel_rms, o.central, &s, &wide);
   out.outer_centre = cs.outer_centre;
   const double fwhm_px = psf_fwhm_arcsec / std::sqrt(std::abs(jac.determinant()));
   for (const auto& st : cs.stars) {
@@ -263,14 +268,20 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
   const double pixel_rms = estimate_background(data, {}).rms;
   // Point sources near the centre that are not the nucleus: masked first,
   // and left out of everything below.
-  const std::vector<double> kept = mask_central_stars(data, nx, ny, jac, psf_fwhm_arcsec, pixel_rms, o, out);
+  const std::size_t sources_before = out.sources.size();
+  std::vector<double> wide;
+  const std::vector<double> kept =
+      mask_central_stars(data, s, nx, ny, jac, psf_fwhm_arcsec, pixel_rms, o, out, wide);
 
   // The galaxy's core: the brightest point of the image smoothed with the
   // wide kernel, where a star's peak is diluted by 1/(1 + w^2) and an
   // extended core much less, so a bright star on the segment is not taken
-  // for the nucleus.
+  // for the nucleus. When no central star was blanked, `kept` is the data
+  // and the central-star search's wide smoothing is this one.
+  const bool reuse_wide = !wide.empty() && out.sources.size() == sources_before &&
+                          o.central.wide_factor == o.wide_factor;
   const std::vector<double> sw =
-      smooth_to_fwhm(kept, nx, ny, jac, psf_fwhm_arcsec * o.wide_factor);
+      reuse_wide ? std::move(wide) : smooth_to_fwhm(kept, nx, ny, jac, psf_fwhm_arcsec * o.wide_factor);
   int ib = -1;
   for (int i : segs[gal].pixels)
     if (std::isfinite(sw[i]) && !out.masked[i] && (ib < 0 || sw[i] > sw[ib])) ib = i;

@@ -17,8 +17,9 @@
 //    29, 610) on u1 = 1 - uniform() and u2 = uniform(): r = sqrt(-2 ln u1), t = 2 pi u2,
 //    returns r cos t, then r sin t on the next call.
 //  * normal_ziggurat(): a standard normal deviate by the ziggurat method
-//    (Marsaglia & Tsang 2000, J. Stat. Softw. 5(8)), 256 layers, about four
-//    times faster than normal(); used where millions of deviates are drawn
+//    (Marsaglia & Tsang 2000, J. Stat. Softw. 5(8)), 256 layers, about 1.5
+//    times faster than normal() (21 against 32 ns per deviate measured on a
+//    loaded machine, 9 ns of it the engine); used where millions are drawn
 //    (the photometric bootstrap's noise images). One engine output per try:
 //    its low 8 bits pick the layer, bit 8 the sign and its top 53 bits the
 //    position, so the layer and the value are independent (the flaw of the

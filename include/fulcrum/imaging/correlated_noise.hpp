@@ -22,8 +22,8 @@
 // M = Mx My) before the scaling by 1 / sqrt(M sum K^2).
 // The FFT is Eigen's (unsupported/Eigen/FFT, the kissfft back end).
 //
-// Cost per draw: 2 M normal deviates (Random::normal_ziggurat) and one
-// complex 2-D FFT of M cells, against nx ny (2 hx + 1)(2 hy + 1)
+// Cost per draw: 2 M normal deviates (Random::normal) and one complex 2-D
+// FFT of M cells, against nx ny (2 hx + 1)(2 hy + 1)
 // multiply-adds for a direct convolution; the kernel's transform is made
 // once, in the constructor.
 //

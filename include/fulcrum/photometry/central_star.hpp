@@ -61,8 +61,12 @@ struct CentralStars {
 };
 
 // `galaxy`: 1 on the galaxy's detection segment. `pixel_rms`: per-pixel noise.
+// `smoothed`, `smoothed_wide`: when given, `data` already smoothed to the PSF
+// and to wide_factor times it (smooth_to_fwhm), which are then not made again.
 CentralStars find_central_stars(const std::vector<double>& data, int nx, int ny, const Eigen::Matrix2d& jacobian,
                                 double psf_fwhm_arcsec, const std::vector<std::uint8_t>& galaxy, double pixel_rms,
-                                const CentralStarOptions& options = {});
+                                const CentralStarOptions& options = {},
+                                const std::vector<double>* smoothed = nullptr,
+                                const std::vector<double>* smoothed_wide = nullptr);
 
 }  // namespace fulcrum::photometry
