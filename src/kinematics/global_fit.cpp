@@ -527,7 +527,7 @@ GlobalFitSummary fit_global_rings(const VelocitySamples& s, const DiscGeometry& 
   out.scaling.reduced_chi2 = dof > 0 ? out.chi2 / dof : std::numeric_limits<double>::infinity();
   out.scaling.correlation_factor = opt.correlation_factor;
   out.scaling.pixels_per_beam = pixels_per_beam(s.beam, s.pixel_area_arcsec2);
-  if (out.converged && dof > 0) fill_covariance(out, *problem, p, opt, N);
+  if (opt.compute_covariance && out.converged && dof > 0) fill_covariance(out, *problem, p, opt, N);
 
   if (opt.record_problem) out.problem = recorded_problem(sel, node_r, radial, pass_start, parameter_vector(p, N, radial));
   return out;

@@ -92,6 +92,7 @@ MultiStartSummary scout_starts(const VelocitySamples& s, const FirstGuess& g,
   GlobalFitOptions so = fit;
   so.max_passes = std::max(1, o.scout_passes);
   so.record_problem = false;
+  so.compute_covariance = false;  // a scout's errors are never read
   so.max_iterations = 50;
   for (const DiscGeometry& start : start_grid(s, g, fit, o)) {
     const GlobalFitSummary r = fit_global_rings(t, start, so);

@@ -80,6 +80,7 @@ struct GlobalFitOptions {
   double parameter_tolerance = 1e-14;
   double gradient_tolerance = 1e-14;
   bool record_problem = false;      // keep the last pass's problem (for cross-checks)
+  bool compute_covariance = true;   // false: no covariance (covariance_ok stays false; the scouts)
   GeometryPrior prior;
 };
 
