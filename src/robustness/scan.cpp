@@ -12,6 +12,7 @@
 #include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/robustness/flip_distance.hpp"
+#include "fulcrum/split/profile_table.hpp"
 
 namespace fulcrum::robustness {
 
@@ -78,6 +79,8 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
   {
     ProjectionEngine e, e2;
     split::EngineScratch scratch;
+    split::ProfileTable table;
+    std::vector<double> s_grid(plane), t_grid(plane);  // s and F(s) of one angle's grid
 #pragma omp for schedule(dynamic, 1)
     for (long long ia = 0; ia < na; ++ia) {
       // The s-range of this angle's grid: the window of the engine.
@@ -93,24 +96,30 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
       eo.with_variance = false;
       eo.window_lo = smin;
       eo.window_hi = smax;
+      eo.block_moments = false;  // every read of e goes through the table
       e.rebuild(pr.pixels, S.angles[ia] * degrees, eo, &scratch);
+      // The grid's reads go through the profile table (no pixel-by-pixel
+      // work per centre; the engine's sums up to rounding).
+      table.rebuild(e, 0);
       const double Stot = e.total(0);
       double* out = &S.asymmetry[plane * ia];
-      std::size_t pos = 0;
       for (int in = 0; in < S.n_north; ++in)
-        for (int ie = 0; ie < S.n_east; ++ie) {
-          const double s = n.east * S.east[ie] + n.north * S.north[in];
-          const double a = (Stot - 2.0 * e.trailing(s, 0)) / Stot;
-          out[ie + static_cast<std::size_t>(S.n_east) * in] = a;
-          pos += a > 0.0 ? 1 : 0;
-        }
+        for (int ie = 0; ie < S.n_east; ++ie)
+          s_grid[ie + static_cast<std::size_t>(S.n_east) * in] = n.east * S.east[ie] + n.north * S.north[in];
+      table.trailing_many(s_grid, t_grid);
+      std::size_t pos = 0;
+      for (std::size_t q = 0; q < plane; ++q) {
+        const double a = (Stot - 2.0 * t_grid[q]) / Stot;
+        out[q] = a;
+        pos += a > 0.0 ? 1 : 0;
+      }
       positive[ia] = pos;
       ScanAngleSummary& as = S.per_angle[ia];
       as.tail_pa_deg = wrap_pa_deg(S.angles[ia]);
       as.fraction_positive = double(pos) / double(plane);
       as.line_pa_deg = std::fmod(wrap_pa_deg(S.angles[ia] + 90.0), 180.0);
       const double s0 = e.s_of(o.centre);
-      std::optional<double> z = nearest_zero(e, s0);
+      std::optional<double> z = nearest_zero(table, s0);
       as.zero_exact = true;
       // Outside the grid: widen the window about s0 (doubling) until a zero
       // is found or the window covers the whole map; exact every time.

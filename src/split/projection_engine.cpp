@@ -61,6 +61,7 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   // stored range add their precomputed sums.
   double below[2] = {0.0, 0.0}, above[2] = {0.0, 0.0};
   double pmin = std::numeric_limits<double>::infinity(), pmax = -pmin;
+  double kmin = pmin, kmax = pmax;  // of the kept pixels (the stored range)
   std::vector<double>& tp = w.projected;
   std::vector<unsigned>& ti = w.index;
   tp.clear();
@@ -87,6 +88,8 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
         above[0] += F[i];
         if (var) above[1] += V ? V[i] : uv;
       } else {
+        kmin = std::min(kmin, p);
+        kmax = std::max(kmax, p);
         tp.push_back(p);
         ti.push_back(static_cast<unsigned>(i));
       }
@@ -114,9 +117,9 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   pmax_ = n ? pmax : 0.0;
   const std::size_t m = tp.size();
   smin_ = smax_ = 0.0;
-  if (m) {
-    smin_ = *std::min_element(tp.begin(), tp.end());
-    smax_ = *std::max_element(tp.begin(), tp.end());
+  if (m) {  // (the min and max of tp, kept while streaming)
+    smin_ = kmin;
+    smax_ = kmax;
   }
   const double range = std::max(smax_ - smin_, 1e-9 * (1.0 + w1));
   // Bin width: balance 2 w1/(kBlock delta) blocks against 4 (m delta/range)
@@ -143,6 +146,26 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   fill.assign(start_.begin(), start_.end() - 1);
   proj_.resize(m);
   val_.resize(m * nc);
+  moments_ = opt.block_moments;
+  if (!moments_) {  // only the bins and the prefix of M0 (per bin, in mom_)
+    mom_.assign(static_cast<std::size_t>(nbins_) * nc, 0.0);
+    for (std::size_t j0 = 0; j0 < m; ++j0) {
+      const unsigned k = bin[j0];
+      const std::size_t j = fill[k]++;
+      const std::size_t i = ti[j0];
+      proj_[j] = tp[j0];
+      const double f = F[i];
+      val_[j * nc] = f;
+      mom_[static_cast<std::size_t>(k) * nc] += f;
+      if (nc == 2) {
+        const double v = V ? V[i] : uv;
+        val_[j * nc + 1] = v;
+        mom_[static_cast<std::size_t>(k) * nc + 1] += v;
+      }
+    }
+    running_sums(below, above);
+    return;
+  }
   mom_.assign(static_cast<std::size_t>(nbins_) * nc * 3, 0.0);
   for (std::size_t j0 = 0; j0 < m; ++j0) {
     const unsigned k = bin[j0];
@@ -173,18 +196,20 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
 // from the block's first to k, about the block centre).
 void ProjectionEngine::running_sums(const double below[2], const double above[2]) {
   const int nc = channels_;
+  const int stride = moments_ ? 3 : 1;  // M0, M1, M2 per bin and channel, or M0 only
   prefix_.assign((static_cast<std::size_t>(nbins_) + 1) * nc, 0.0);
   for (int c = 0; c < nc; ++c) {
     CompensatedSum acc;
     acc.add(below[c]);
     prefix_[c] = acc.value();
     for (long long k = 0; k < nbins_; ++k) {
-      acc.add(mom_[(static_cast<std::size_t>(k) * nc + c) * 3]);
+      acc.add(mom_[(static_cast<std::size_t>(k) * nc + c) * stride]);
       prefix_[(k + 1) * nc + c] = acc.value();
     }
     acc.add(above[c]);
     total_[c] = acc.value();
   }
+  if (!moments_) return;
   for (long long k = 0; k < nbins_; ++k) {
     if (k % kBlock == 0) continue;
     double* q = &mom_[(static_cast<std::size_t>(k) * nc) * 3];
@@ -205,7 +230,7 @@ double ProjectionEngine::fallback(double s, int ch) const { return direct_traili
 //   sum f (u + w1)^2 = (d + w1)^2 M0 - 2 (d + w1) M1 + M2.
 double ProjectionEngine::trailing(double s, int ch) const {
   if (ch >= channels_ || px_ == nullptr) return 0.0;
-  if (!in_window(s)) return fallback(s, ch);
+  if (!in_window(s) || !moments_) return fallback(s, ch);
   const int nc = channels_;
   if (nbins_ == 0) return prefix_[ch];
   const double w0 = shape_.w0, w1 = shape_.w1;
