@@ -121,7 +121,7 @@ void ProfileTable::rebuild(const ProjectionEngine& e, int ch) {
 double ProfileTable::outside_segments(double s) const {
   if (e_ == nullptr) return 0.0;
   const ProjectionEngine& e = *e_;
-  if (!e.in_window(s) || ch_ >= e.channels_) return e.trailing(s, ch_);
+  if (!e.in_window(s) || ch_ >= e.channels_ || e.prefix_.empty()) return e.trailing(s, ch_);
   const int nc = e.channels_;
   if (e.nbins_ == 0 || s + e.shape_.w1 < e.smin_) return e.prefix_[ch_];
   if (s - e.shape_.w1 > e.smax_) return e.prefix_[static_cast<std::size_t>(e.nbins_) * nc + ch_];
