@@ -19,6 +19,12 @@ namespace fulcrum::robustness {
 using split::ProjectionEngine;
 
 namespace {
+// Kept pixels per grid read up to which an angle's reads go through a profile
+// table: tools/bench_scan (101^2 reads per angle) found the table faster at
+// 7 kept pixels per read (1024^2 map), slower at 14 (2048^2), even near 9
+// (docs/performance.md, "The scan").
+constexpr double kTabulatedPixelsPerRead = 8.0;
+
 std::vector<double> axis(double centre, double half, double step) {
   const long long m = static_cast<long long>(std::floor(half / step + 1e-9));
   std::vector<double> v;
@@ -96,17 +102,25 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
       eo.with_variance = false;
       eo.window_lo = smin;
       eo.window_hi = smax;
-      eo.block_moments = false;  // every read of e goes through the table
+      eo.block_moments = false;  // added below when the engine answers the reads
       e.rebuild(pr.pixels, S.angles[ia] * degrees, eo, &scratch);
-      // The grid's reads go through the profile table (no pixel-by-pixel
-      // work per centre; the engine's sums up to rounding).
-      table.rebuild(e, 0);
+      // The grid's reads: through a profile table when the engine keeps few
+      // pixels per read (tabulating costs a few operations per kept pixel,
+      // then saves half of every read), else through the engine itself.
+      const bool tabulate = double(e.pixel_count()) <= kTabulatedPixelsPerRead * double(plane);
+      if (tabulate)
+        table.rebuild(e, 0);
+      else
+        e.add_block_moments();
       const double Stot = e.total(0);
       double* out = &S.asymmetry[plane * ia];
       for (int in = 0; in < S.n_north; ++in)
         for (int ie = 0; ie < S.n_east; ++ie)
           s_grid[ie + static_cast<std::size_t>(S.n_east) * in] = n.east * S.east[ie] + n.north * S.north[in];
-      table.trailing_many(s_grid, t_grid);
+      if (tabulate)
+        table.trailing_many(s_grid, t_grid);
+      else
+        for (std::size_t q = 0; q < plane; ++q) t_grid[q] = e.trailing(s_grid[q], 0);
       std::size_t pos = 0;
       for (std::size_t q = 0; q < plane; ++q) {
         const double a = (Stot - 2.0 * t_grid[q]) / Stot;
@@ -119,7 +133,7 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
       as.fraction_positive = double(pos) / double(plane);
       as.line_pa_deg = std::fmod(wrap_pa_deg(S.angles[ia] + 90.0), 180.0);
       const double s0 = e.s_of(o.centre);
-      std::optional<double> z = nearest_zero(table, s0);
+      std::optional<double> z = tabulate ? nearest_zero(table, s0) : nearest_zero(e, s0);
       as.zero_exact = true;
       // Outside the grid: widen the window about s0 (doubling) until a zero
       // is found or the window covers the whole map; exact every time.

@@ -63,6 +63,7 @@ void ProfileTable::rebuild(const ProjectionEngine& e, int ch) {
   seg_lo_ = lo;
   seg_hi_ = hi;
   h_ = h;
+  inv_h_ = 1.0 / h;
   segs_.resize(G);
   std::size_t total = 0;
   for (std::size_t g = 0; g < G; ++g) {
@@ -104,12 +105,22 @@ void ProfileTable::rebuild(const ProjectionEngine& e, int ch) {
   const double* p = p_.data();
   long long k = kf <= 0.0 ? 0 : (kf >= last_bin_ ? e.nbins_ - 1 : static_cast<long long>(kf));
   while (k > 0 && p[start[k] - 1] > t) --k;
+  // The first two steps without branches (a bin holds one or two pixels on
+  // average, so a branch here would be mispredicted about every other time;
+  // adding 0.0 leaves b unchanged); the sentinel ends every walk.
   std::size_t i = start[k];
   if (below) {
     double b = e.prefix_[static_cast<std::size_t>(k) * e.channels_ + ch_];
+    for (int r = 0; r < 2; ++r) {
+      const bool in = p[i] <= t;
+      b += in ? f_[i] : 0.0;
+      i += in ? 1 : 0;
+    }
     for (; p[i] <= t; ++i) b += f_[i];
     *below = b;
   } else {
+    i += p[i] <= t ? 1 : 0;
+    i += p[i] <= t ? 1 : 0;
     while (p[i] <= t) ++i;
   }
   return i;
@@ -146,7 +157,7 @@ double ProfileTable::trailing(double s) const {
 
 std::size_t ProfileTable::segment_of(double s) const {
   if (!(s >= seg_lo_ && s <= seg_hi_)) return segs_.size();
-  return std::min(static_cast<std::size_t>(std::max(0.0, (s - seg_lo_) / h_)), segs_.size() - 1);
+  return std::min(static_cast<std::size_t>(std::max(0.0, (s - seg_lo_) * inv_h_)), segs_.size() - 1);
 }
 
 [[gnu::always_inline]] inline double ProfileTable::read(double s, const Segment& sg) const {

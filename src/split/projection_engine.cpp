@@ -197,7 +197,7 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
 void ProjectionEngine::running_sums(const double below[2], const double above[2]) {
   const int nc = channels_;
   const int stride = moments_ ? 3 : 1;  // M0, M1, M2 per bin and channel, or M0 only
-  prefix_.assign((static_cast<std::size_t>(nbins_) + 1) * nc, 0.0);
+  prefix_.resize((static_cast<std::size_t>(nbins_) + 1) * nc);  // (every entry is written below)
   for (int c = 0; c < nc; ++c) {
     CompensatedSum acc;
     acc.add(below[c]);
@@ -209,13 +209,45 @@ void ProjectionEngine::running_sums(const double below[2], const double above[2]
     acc.add(above[c]);
     total_[c] = acc.value();
   }
-  if (!moments_) return;
+  if (moments_) block_running_sums();
+}
+
+// The per-bin moments summed in the blocks' running sums (in place).
+void ProjectionEngine::block_running_sums() {
+  const int nc = channels_;
   for (long long k = 0; k < nbins_; ++k) {
     if (k % kBlock == 0) continue;
     double* q = &mom_[(static_cast<std::size_t>(k) * nc) * 3];
     const double* qp = q - nc * 3;
     for (int j = 0; j < nc * 3; ++j) q[j] += qp[j];
   }
+}
+
+// The moments of the sorted bins, pixel by pixel in bin order: the order in
+// which rebuild() adds them (the counting sort is stable), so the same sums.
+void ProjectionEngine::add_block_moments() {
+  if (moments_ || px_ == nullptr) return;
+  const int nc = channels_;
+  mom_.assign(static_cast<std::size_t>(nbins_) * nc * 3, 0.0);
+  for (long long k = 0; k < nbins_; ++k) {
+    const double c = block_centre(k / kBlock);
+    double* mm = &mom_[(static_cast<std::size_t>(k) * nc) * 3];
+    for (std::size_t j = start_[k]; j < start_[k + 1]; ++j) {
+      const double e = proj_[j] - c;
+      const double f = val_[j * nc];
+      mm[0] += f;
+      mm[1] += f * e;
+      mm[2] += f * e * e;
+      if (nc == 2) {
+        const double v = val_[j * nc + 1];
+        mm[3] += v;
+        mm[4] += v * e;
+        mm[5] += v * e * e;
+      }
+    }
+  }
+  moments_ = true;
+  block_running_sums();
 }
 
 double ProjectionEngine::fallback(double s, int ch) const { return direct_trailing(*px_, tail_pa_, s, ch); }

@@ -90,6 +90,7 @@ TEST_CASE("profile table: batched reads, an engine without block moments, dense 
   const auto maps = test::make_tiny_mock(m);
   SplitOptions so;
   so.centre = m.centre;
+  so.rms = 0.05;
   const SplitProblem pr = prepare_split(maps.map, so);
   fulcrum::Random g(23);
   ProjectionEngine full, lean;
@@ -121,8 +122,24 @@ TEST_CASE("profile table: batched reads, an engine without block moments, dense 
     // The asymmetry as the engine defines it.
     CHECK(std::abs(tl.asymmetry(0.3) - full.asymmetry(0.3)) <= kTableVsEngineTol * scale / std::abs(full.total()));
   }
-  // An engine without block moments still answers exactly (its direct sum).
+  // An engine without block moments still answers exactly (its direct sum),
+  // and once it adds them it is the engine built with them, bit for bit.
   CHECK(lean.trailing(0.1) == Approx(direct_trailing(pr.pixels, lean.tail_pa(), 0.1)).epsilon(kTableRelTol));
+  for (bool var : {false, true}) {
+    EngineOptions eo;
+    eo.with_variance = var;
+    eo.window_lo = -1.5;
+    eo.window_hi = 2.5;
+    const ProjectionEngine built(pr.pixels, 77.0 * degrees, eo);
+    eo.block_moments = false;
+    ProjectionEngine added(pr.pixels, 77.0 * degrees, eo);
+    added.add_block_moments();
+    REQUIRE(built.channels() == (var ? 2 : 1));
+    for (int ch = 0; ch < built.channels(); ++ch) {
+      CHECK(added.total(ch) == built.total(ch));
+      for (int q = 0; q <= 100; ++q) CHECK(added.trailing(-1.5 + 0.04 * q, ch) == built.trailing(-1.5 + 0.04 * q, ch));
+    }
+  }
   // A table of an empty engine answers 0.
   ProjectionEngine empty;
   ProfileTable te;

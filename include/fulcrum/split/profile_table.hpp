@@ -80,7 +80,7 @@ class ProfileTable {
   int ch_ = 0;
   std::vector<double> p_, f_;  // kept pixels sorted by p, and their channel value
   // Segments: [seg_lo_ + g h_, seg_lo_ + (g + 1) h_), anchor R_g at the centre.
-  double seg_lo_ = 0.0, seg_hi_ = -1.0, h_ = 1.0;
+  double seg_lo_ = 0.0, seg_hi_ = -1.0, h_ = 1.0, inv_h_ = 1.0;
   double inv_delta_ = 1.0, w0_bins_ = 0.0, w1_bins_ = 0.0;  // 1/delta, w0/delta, w1/delta
   double last_bin_ = 0.0;                                   // nbins - 1
   double pixelwise_below_b_ = 0.0;  // B below this: quadratic intervals pixel by pixel

@@ -108,6 +108,11 @@ class ProjectionEngine {
   void rebuild(const PixelSet& pixels, Angle tail_pa, const EngineOptions& options = {},
                EngineScratch* scratch = nullptr);
 
+  // An engine built without block moments (EngineOptions::block_moments =
+  // false) computes them now: afterwards it is the engine built with them,
+  // bit for bit. Nothing happens when it has them already.
+  void add_block_moments();
+
   Angle tail_pa() const { return tail_pa_; }
   SkyOffset normal() const { return n_; }
   double s_of(SkyOffset centre) const { return n_.east * centre.east + n_.north * centre.north; }
@@ -134,6 +139,7 @@ class ProjectionEngine {
   friend class ProfileTable;  // reads the sorted bins (split/profile_table.hpp)
   double fallback(double s, int ch) const;
   void running_sums(const double below[2], const double above[2]);
+  void block_running_sums();
   static constexpr long long kBlock = 32;  // bins per block of running sums
   double block_centre(long long b) const { return smin_ + (double(b * kBlock) + 0.5 * kBlock) * delta_; }
   const PixelSet* px_ = nullptr;
