@@ -44,7 +44,6 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   FULCRUM_CHECK(px.east.size() == n && px.north.size() == n, n, px.east.size());
   const bool var = opt.with_variance && px.has_variance();
   channels_ = var ? 2 : 1;
-  const int nc = channels_;
   const double w1 = shape_.w1;
 
   // The exact-and-fast window and the stored range around it.
@@ -131,7 +130,21 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   if (!(delta_ > 0.0) || !std::isfinite(delta_)) delta_ = 1.0;
   nbins_ = m ? static_cast<long long>(std::floor(range / delta_)) + 1 : 0;
 
-  // Pass B: counting sort of the kept pixels into bins, moments per bin.
+  moments_ = opt.block_moments;
+  sort_into_bins(w, px, var, below, above);
+}
+
+// Pass B: counting sort of the kept pixels (w.projected, w.index) into bins,
+// moments per bin, then the prefix and running sums.
+void ProjectionEngine::sort_into_bins(EngineScratch& w, const PixelSet& px, bool var, const double below[2],
+                                      const double above[2]) {
+  const std::size_t m = w.projected.size();
+  const int nc = channels_;
+  const std::vector<double>& tp = w.projected;
+  const std::vector<unsigned>& ti = w.index;
+  const double* F = px.value.data();
+  const double* V = var && !px.variance.empty() ? px.variance.data() : nullptr;
+  const double uv = px.uniform_variance;
   std::vector<unsigned>& bin = w.bin;
   bin.resize(m);
   start_.assign(static_cast<std::size_t>(nbins_) + 1, 0);
@@ -146,7 +159,6 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   fill.assign(start_.begin(), start_.end() - 1);
   proj_.resize(m);
   val_.resize(m * nc);
-  moments_ = opt.block_moments;
   if (!moments_) {  // only the bins and the prefix of M0 (per bin, in mom_)
     mom_.assign(static_cast<std::size_t>(nbins_) * nc, 0.0);
     for (std::size_t j0 = 0; j0 < m; ++j0) {

@@ -138,6 +138,8 @@ class ProjectionEngine {
  private:
   friend class ProfileTable;  // reads the sorted bins (split/profile_table.hpp)
   double fallback(double s, int ch) const;
+  void sort_into_bins(EngineScratch& w, const PixelSet& pixels, bool with_variance, const double below[2],
+                      const double above[2]);
   void running_sums(const double below[2], const double above[2]);
   void block_running_sums();
   static constexpr long long kBlock = 32;  // bins per block of running sums
