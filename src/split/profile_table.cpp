@@ -31,7 +31,7 @@ void ProfileTable::rebuild(const ProjectionEngine& e, int ch) {
   p_[m] = std::numeric_limits<double>::infinity();
   f_[m] = 0.0;
   if (ch < 0 || ch >= nc || m == 0 || e.px_ == nullptr) return;
-    // (e.moments_ need not be set: only the bins and prefix sums are read.)
+  // (The engine may lack its block moments: only its bins and prefix sums are read.)
   // Sort each bin by p (insertion sort: a bin holds a few pixels).
   for (long long k = 0; k < e.nbins_; ++k) {
     const std::size_t b = e.start_[k], end = e.start_[k + 1];
