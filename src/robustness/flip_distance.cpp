@@ -16,8 +16,10 @@ using split::ProjectionEngine;
 namespace {
 int sign_of(double v) { return v > 0.0 ? 1 : (v < 0.0 ? -1 : 0); }
 
-// Bisection on the exact engine between a (sign sa) and b (opposite sign).
-double bisect(const ProjectionEngine& e, double a, double b) {
+// Bisection on the exact profile (an engine or a table) between a (sign sa)
+// and b (opposite sign).
+template <class Profile>
+double bisect(const Profile& e, double a, double b) {
   int sa = sign_of(e.asymmetry(a));
   for (int it = 0; it < 200 && std::abs(b - a) > 1e-12; ++it) {
     const double m = 0.5 * (a + b);
@@ -31,19 +33,20 @@ double bisect(const ProjectionEngine& e, double a, double b) {
   }
   return 0.5 * (a + b);
 }
-}  // namespace
-
-std::optional<double> nearest_zero(const ProjectionEngine& e, double s0) {
+// The march and bisection of nearest_zero; `e` answers asymmetry(s), `g` is
+// its engine (pixel shape, range and window).
+template <class Profile>
+std::optional<double> nearest_zero_of(const Profile& e, const ProjectionEngine& g, double s0) {
   const double a0 = e.asymmetry(s0);
   if (!std::isfinite(a0)) return std::nullopt;
   const int sg = sign_of(a0);
   if (sg == 0) return s0;
-  const double h = 0.25 * e.shape().w1;
+  const double h = 0.25 * g.shape().w1;
   // The march below takes (hi - lo) / h steps: bounded only for a positive,
   // finite step (a degenerate pixel shape would otherwise loop forever).
   if (!(h > 0.0) || !std::isfinite(h)) return std::nullopt;
   // Search where A can change; a windowed engine is searched inside its window only.
-  const double lo = std::max(e.s_min() - h, e.window_lo()), hi = std::min(e.s_max() + h, e.window_hi());
+  const double lo = std::max(g.s_min() - h, g.window_lo()), hi = std::min(g.s_max() + h, g.window_hi());
   double prev_p = s0, prev_m = s0;
   for (long long m = 1;; ++m) {
     const double sp = s0 + m * h, sm = s0 - m * h;
@@ -64,6 +67,13 @@ std::optional<double> nearest_zero(const ProjectionEngine& e, double s0) {
     prev_m = sm;
   }
   return std::nullopt;
+}
+}  // namespace
+
+std::optional<double> nearest_zero(const ProjectionEngine& e, double s0) { return nearest_zero_of(e, e, s0); }
+
+std::optional<double> nearest_zero(const split::ProfileTable& t, double s0) {
+  return nearest_zero_of(t, t.engine(), s0);
 }
 
 AngleFlip flip_at_angle(const ProjectionEngine& e, SkyOffset c0, int nominal_sign) {

@@ -12,12 +12,19 @@
 #include "fulcrum/core/work_limit.hpp"
 #include "fulcrum/io/fits_image.hpp"
 #include "fulcrum/robustness/flip_distance.hpp"
+#include "fulcrum/split/profile_table.hpp"
 
 namespace fulcrum::robustness {
 
 using split::ProjectionEngine;
 
 namespace {
+// Kept pixels per grid read up to which an angle's reads go through a profile
+// table: tools/bench_scan (101^2 reads per angle) found the table faster at
+// 7 kept pixels per read (1024^2 map), slower at 14 (2048^2), even near 9
+// (docs/performance.md, "The scan").
+constexpr double kTabulatedPixelsPerRead = 8.0;
+
 std::vector<double> axis(double centre, double half, double step) {
   const long long m = static_cast<long long>(std::floor(half / step + 1e-9));
   std::vector<double> v;
@@ -78,6 +85,8 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
   {
     ProjectionEngine e, e2;
     split::EngineScratch scratch;
+    split::ProfileTable table;
+    std::vector<double> s_grid(plane), t_grid(plane);  // s and F(s) of one angle's grid
 #pragma omp for schedule(dynamic, 1)
     for (long long ia = 0; ia < na; ++ia) {
       // The s-range of this angle's grid: the window of the engine.
@@ -93,24 +102,38 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
       eo.with_variance = false;
       eo.window_lo = smin;
       eo.window_hi = smax;
+      eo.block_moments = false;  // added below when the engine answers the reads
       e.rebuild(pr.pixels, S.angles[ia] * degrees, eo, &scratch);
+      // The grid's reads: through a profile table when the engine keeps few
+      // pixels per read (tabulating costs a few operations per kept pixel,
+      // then saves half of every read), else through the engine itself.
+      const bool tabulate = double(e.pixel_count()) <= kTabulatedPixelsPerRead * double(plane);
+      if (tabulate)
+        table.rebuild(e, 0);
+      else
+        e.add_block_moments();
       const double Stot = e.total(0);
       double* out = &S.asymmetry[plane * ia];
-      std::size_t pos = 0;
       for (int in = 0; in < S.n_north; ++in)
-        for (int ie = 0; ie < S.n_east; ++ie) {
-          const double s = n.east * S.east[ie] + n.north * S.north[in];
-          const double a = (Stot - 2.0 * e.trailing(s, 0)) / Stot;
-          out[ie + static_cast<std::size_t>(S.n_east) * in] = a;
-          pos += a > 0.0 ? 1 : 0;
-        }
+        for (int ie = 0; ie < S.n_east; ++ie)
+          s_grid[ie + static_cast<std::size_t>(S.n_east) * in] = n.east * S.east[ie] + n.north * S.north[in];
+      if (tabulate)
+        table.trailing_many(s_grid, t_grid);
+      else
+        for (std::size_t q = 0; q < plane; ++q) t_grid[q] = e.trailing(s_grid[q], 0);
+      std::size_t pos = 0;
+      for (std::size_t q = 0; q < plane; ++q) {
+        const double a = (Stot - 2.0 * t_grid[q]) / Stot;
+        out[q] = a;
+        pos += a > 0.0 ? 1 : 0;
+      }
       positive[ia] = pos;
       ScanAngleSummary& as = S.per_angle[ia];
       as.tail_pa_deg = wrap_pa_deg(S.angles[ia]);
       as.fraction_positive = double(pos) / double(plane);
       as.line_pa_deg = std::fmod(wrap_pa_deg(S.angles[ia] + 90.0), 180.0);
       const double s0 = e.s_of(o.centre);
-      std::optional<double> z = nearest_zero(e, s0);
+      std::optional<double> z = tabulate ? nearest_zero(table, s0) : nearest_zero(e, s0);
       as.zero_exact = true;
       // Outside the grid: widen the window about s0 (doubling) until a zero
       // is found or the window covers the whole map; exact every time.

@@ -44,7 +44,6 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   FULCRUM_CHECK(px.east.size() == n && px.north.size() == n, n, px.east.size());
   const bool var = opt.with_variance && px.has_variance();
   channels_ = var ? 2 : 1;
-  const int nc = channels_;
   const double w1 = shape_.w1;
 
   // The exact-and-fast window and the stored range around it.
@@ -61,6 +60,7 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   // stored range add their precomputed sums.
   double below[2] = {0.0, 0.0}, above[2] = {0.0, 0.0};
   double pmin = std::numeric_limits<double>::infinity(), pmax = -pmin;
+  double kmin = pmin, kmax = pmax;  // of the kept pixels (the stored range)
   std::vector<double>& tp = w.projected;
   std::vector<unsigned>& ti = w.index;
   tp.clear();
@@ -87,6 +87,8 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
         above[0] += F[i];
         if (var) above[1] += V ? V[i] : uv;
       } else {
+        kmin = std::min(kmin, p);
+        kmax = std::max(kmax, p);
         tp.push_back(p);
         ti.push_back(static_cast<unsigned>(i));
       }
@@ -114,9 +116,9 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   pmax_ = n ? pmax : 0.0;
   const std::size_t m = tp.size();
   smin_ = smax_ = 0.0;
-  if (m) {
-    smin_ = *std::min_element(tp.begin(), tp.end());
-    smax_ = *std::max_element(tp.begin(), tp.end());
+  if (m) {  // (the min and max of tp, kept while streaming)
+    smin_ = kmin;
+    smax_ = kmax;
   }
   const double range = std::max(smax_ - smin_, 1e-9 * (1.0 + w1));
   // Bin width: balance 2 w1/(kBlock delta) blocks against 4 (m delta/range)
@@ -128,7 +130,21 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   if (!(delta_ > 0.0) || !std::isfinite(delta_)) delta_ = 1.0;
   nbins_ = m ? static_cast<long long>(std::floor(range / delta_)) + 1 : 0;
 
-  // Pass B: counting sort of the kept pixels into bins, moments per bin.
+  moments_ = opt.block_moments;
+  sort_into_bins(w, px, var, below, above);
+}
+
+// Pass B: counting sort of the kept pixels (w.projected, w.index) into bins,
+// moments per bin, then the prefix and running sums.
+void ProjectionEngine::sort_into_bins(EngineScratch& w, const PixelSet& px, bool var, const double below[2],
+                                      const double above[2]) {
+  const std::size_t m = w.projected.size();
+  const int nc = channels_;
+  const std::vector<double>& tp = w.projected;
+  const std::vector<unsigned>& ti = w.index;
+  const double* F = px.value.data();
+  const double* V = var && !px.variance.empty() ? px.variance.data() : nullptr;
+  const double uv = px.uniform_variance;
   std::vector<unsigned>& bin = w.bin;
   bin.resize(m);
   start_.assign(static_cast<std::size_t>(nbins_) + 1, 0);
@@ -143,6 +159,25 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   fill.assign(start_.begin(), start_.end() - 1);
   proj_.resize(m);
   val_.resize(m * nc);
+  if (!moments_) {  // only the bins and the prefix of M0 (per bin, in mom_)
+    mom_.assign(static_cast<std::size_t>(nbins_) * nc, 0.0);
+    for (std::size_t j0 = 0; j0 < m; ++j0) {
+      const unsigned k = bin[j0];
+      const std::size_t j = fill[k]++;
+      const std::size_t i = ti[j0];
+      proj_[j] = tp[j0];
+      const double f = F[i];
+      val_[j * nc] = f;
+      mom_[static_cast<std::size_t>(k) * nc] += f;
+      if (nc == 2) {
+        const double v = V ? V[i] : uv;
+        val_[j * nc + 1] = v;
+        mom_[static_cast<std::size_t>(k) * nc + 1] += v;
+      }
+    }
+    running_sums(below, above);
+    return;
+  }
   mom_.assign(static_cast<std::size_t>(nbins_) * nc * 3, 0.0);
   for (std::size_t j0 = 0; j0 < m; ++j0) {
     const unsigned k = bin[j0];
@@ -173,24 +208,58 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
 // from the block's first to k, about the block centre).
 void ProjectionEngine::running_sums(const double below[2], const double above[2]) {
   const int nc = channels_;
-  prefix_.assign((static_cast<std::size_t>(nbins_) + 1) * nc, 0.0);
+  const int stride = moments_ ? 3 : 1;  // M0, M1, M2 per bin and channel, or M0 only
+  prefix_.resize((static_cast<std::size_t>(nbins_) + 1) * nc);  // (every entry is written below)
   for (int c = 0; c < nc; ++c) {
     CompensatedSum acc;
     acc.add(below[c]);
     prefix_[c] = acc.value();
     for (long long k = 0; k < nbins_; ++k) {
-      acc.add(mom_[(static_cast<std::size_t>(k) * nc + c) * 3]);
+      acc.add(mom_[(static_cast<std::size_t>(k) * nc + c) * stride]);
       prefix_[(k + 1) * nc + c] = acc.value();
     }
     acc.add(above[c]);
     total_[c] = acc.value();
   }
+  if (moments_) block_running_sums();
+}
+
+// The per-bin moments summed in the blocks' running sums (in place).
+void ProjectionEngine::block_running_sums() {
+  const int nc = channels_;
   for (long long k = 0; k < nbins_; ++k) {
     if (k % kBlock == 0) continue;
     double* q = &mom_[(static_cast<std::size_t>(k) * nc) * 3];
     const double* qp = q - nc * 3;
     for (int j = 0; j < nc * 3; ++j) q[j] += qp[j];
   }
+}
+
+// The moments of the sorted bins, pixel by pixel in bin order: the order in
+// which rebuild() adds them (the counting sort is stable), so the same sums.
+void ProjectionEngine::add_block_moments() {
+  if (moments_ || px_ == nullptr) return;
+  const int nc = channels_;
+  mom_.assign(static_cast<std::size_t>(nbins_) * nc * 3, 0.0);
+  for (long long k = 0; k < nbins_; ++k) {
+    const double c = block_centre(k / kBlock);
+    double* mm = &mom_[(static_cast<std::size_t>(k) * nc) * 3];
+    for (std::size_t j = start_[k]; j < start_[k + 1]; ++j) {
+      const double e = proj_[j] - c;
+      const double f = val_[j * nc];
+      mm[0] += f;
+      mm[1] += f * e;
+      mm[2] += f * e * e;
+      if (nc == 2) {
+        const double v = val_[j * nc + 1];
+        mm[3] += v;
+        mm[4] += v * e;
+        mm[5] += v * e * e;
+      }
+    }
+  }
+  moments_ = true;
+  block_running_sums();
 }
 
 double ProjectionEngine::fallback(double s, int ch) const { return direct_trailing(*px_, tail_pa_, s, ch); }
@@ -205,7 +274,7 @@ double ProjectionEngine::fallback(double s, int ch) const { return direct_traili
 //   sum f (u + w1)^2 = (d + w1)^2 M0 - 2 (d + w1) M1 + M2.
 double ProjectionEngine::trailing(double s, int ch) const {
   if (ch >= channels_ || px_ == nullptr) return 0.0;
-  if (!in_window(s)) return fallback(s, ch);
+  if (!in_window(s) || !moments_) return fallback(s, ch);
   const int nc = channels_;
   if (nbins_ == 0) return prefix_[ch];
   const double w0 = shape_.w0, w1 = shape_.w1;

@@ -24,6 +24,7 @@
 #include <vector>
 
 #include "fulcrum/split/half_split.hpp"
+#include "fulcrum/split/profile_table.hpp"
 
 namespace fulcrum::robustness {
 
@@ -69,6 +70,9 @@ struct FlipSummary {
 // over the whole range where it can change; a windowed engine is searched
 // inside its window only).
 std::optional<double> nearest_zero(const split::ProjectionEngine& engine, double s0);
+// The same search reading A through a profile table of an engine (the
+// scan's reads; the engine's zero up to rounding).
+std::optional<double> nearest_zero(const split::ProfileTable& table, double s0);
 
 // One angle (nominal sign given: the sign of A at c0 for the nominal angle).
 AngleFlip flip_at_angle(const split::ProjectionEngine& engine, SkyOffset c0, int nominal_sign);
