@@ -18,6 +18,7 @@
 #include "fulcrum/imaging/correlated_noise.hpp"
 #include "fulcrum/imaging/gaussian_smooth.hpp"
 #include "fulcrum/kinematics/kinematic_fit.hpp"
+#include "fulcrum/sky/angle.hpp"
 #include "fulcrum/sky/ellipse.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
 
@@ -26,8 +27,6 @@ namespace fulcrum::calibration {
 using nlohmann::json;
 
 namespace {
-
-constexpr double kDeg = std::numbers::pi / 180.0;
 
 // Streams of one mock (Random::stream(mock seed, id)), so that turning the
 // re-fit on or off does not change the other draws: the line noise (and the
@@ -136,7 +135,7 @@ Image model_on_grid(const Image& grid, const MatchedInputs& in, const RadialProf
   m.path = "mock of " + (grid.path.empty() ? in.galaxy : grid.path);
   PixelOffsets off(grid, in.centre.position);
   const Angle pa = in.pa_deg * degrees, inc = in.inc_deg * degrees;
-  const double phi_lead = (in.tail_pa_deg + 180.0) * kDeg;
+  const double phi_lead = (in.tail_pa_deg + 180.0) * kRadPerDeg;
   // A blank pixel of the data is outside the observed field, and stays blank
   // in the model, unless the map was blanked by clipping (clip_blank) and the
   // pixel has a finite noise: then it is a clipped pixel inside the field,

@@ -13,9 +13,6 @@
 namespace fulcrum {
 
 namespace {
-// FWHM = 2 sqrt(2 ln 2) sigma for a Gaussian.
-const double kFwhmPerSigma = 2.0 * std::sqrt(2.0 * std::numbers::ln2);
-
 Eigen::Matrix2d sky_covariance(const Beam& b) {
   const double smaj = b.bmaj_arcsec / kFwhmPerSigma, smin = b.bmin_arcsec / kFwhmPerSigma;
   const Angle pa = b.bpa_deg * degrees;

@@ -10,11 +10,6 @@
 
 namespace fulcrum {
 
-namespace {
-// FWHM = 2 sqrt(2 ln 2) sigma for a Gaussian.
-const double kFwhmPerSigma = 2.0 * std::sqrt(2.0 * std::numbers::ln2);
-}  // namespace
-
 NoiseModel parse_noise_model(const std::string& name) {
   if (name == "smoothed") return NoiseModel::smoothed;
   if (name == "interferometric") return NoiseModel::interferometric;

@@ -10,12 +10,11 @@
 
 #include "fulcrum/kinematics/beam_smearing.hpp"
 #include "fulcrum/kinematics/tilted_ring_model.hpp"
+#include "fulcrum/sky/angle.hpp"
 
 namespace fulcrum::kinematics {
 
 namespace {
-
-constexpr double kRad = std::numbers::pi / 180.0;
 
 // A geometry with the sines and cosines of its PA and inclination, taken
 // once for the many samples it is evaluated at (the same numbers).
@@ -23,7 +22,7 @@ struct TrigGeometry {
   DiscGeometry g;
   double cos_pa = 1.0, sin_pa = 0.0, cos_inc = 1.0, sin_inc = 0.0;
   explicit TrigGeometry(const DiscGeometry& geometry) : g(geometry) {
-    const double pa = g.pa_deg * kRad, inc = g.inc_deg * kRad;
+    const double pa = g.pa_deg * kRadPerDeg, inc = g.inc_deg * kRadPerDeg;
     cos_pa = std::cos(pa);
     sin_pa = std::sin(pa);
     cos_inc = std::cos(inc);

@@ -7,6 +7,7 @@
 #include <limits>
 
 #include "fulcrum/kinematics/covariance_scaling.hpp"
+#include "fulcrum/kinematics/sample_grid.hpp"
 
 namespace fulcrum::kinematics {
 
@@ -28,28 +29,6 @@ double mad_sigma(std::vector<double> v) {
   for (double& x : v) x = std::abs(x - m);
   return kMadToSigma * median_of(v);
 }
-
-// The samples on their pixel grid: index of the sample at (x, y), or -1.
-struct SampleGrid {
-  int x0 = 0, y0 = 0, nx = 0, ny = 0;
-  std::vector<int> index;
-  explicit SampleGrid(const VelocitySamples& s) {
-    if (s.size() == 0) return;
-    const auto [xmin, xmax] = std::minmax_element(s.x.begin(), s.x.end());
-    const auto [ymin, ymax] = std::minmax_element(s.y.begin(), s.y.end());
-    x0 = *xmin; y0 = *ymin;
-    nx = *xmax - x0 + 1; ny = *ymax - y0 + 1;
-    index.assign(static_cast<std::size_t>(nx) * ny, -1);
-    for (std::size_t i = 0; i < s.size(); ++i) index[cell(s.x[i], s.y[i])] = static_cast<int>(i);
-  }
-  std::size_t cell(int x, int y) const {
-    return static_cast<std::size_t>(x - x0) + static_cast<std::size_t>(nx) * (y - y0);
-  }
-  int at(int x, int y) const {
-    if (x < x0 || y < y0 || x >= x0 + nx || y >= y0 + ny) return -1;
-    return index[cell(x, y)];
-  }
-};
 
 // Cut 1: mark velocity outliers against their neighbours in `keep`.
 int mark_outliers(const VelocitySamples& s, const SampleGrid& grid, const FootprintOptions& o,
@@ -119,7 +98,7 @@ FootprintSummary clean_footprint(VelocitySamples& s, const FootprintOptions& o) 
   f.pixels_bad_error = s.dropped_bad_error;
   f.pixels_kept = f.pixels_in;
   if (!o.enabled || s.size() == 0) return f;
-  const SampleGrid grid(s);
+  const SampleGrid grid = make_sample_grid(s, std::vector<unsigned char>(s.size(), 1));
   std::vector<char> keep(s.size(), 1);
   f.velocity_outliers = mark_outliers(s, grid, o, keep, &f.outlier_threshold_kms);
   std::vector<char> why(s.size(), 0);

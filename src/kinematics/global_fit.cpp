@@ -31,8 +31,6 @@ namespace fulcrum::kinematics {
 
 namespace {
 
-constexpr double kRad = std::numbers::pi / 180.0;
-
 // A Gaussian prior on one parameter (or one axis of the centre):
 // residual = (x - mean) / err, times the weight of GeometryPrior.
 struct PriorResidual {
@@ -87,11 +85,11 @@ void add_priors(ceres::Problem& problem, Parameters& p, const GlobalFitOptions& 
     add_prior<2>(problem, p.centre, 1, pr.mean.centre.north, *pr.centre_err_arcsec, w);
   }
   if (pr.pa_err_deg && !opt.fix_pa) {
-    const double mean = p.pa + angle_diff_deg(pr.mean.pa_deg, p.pa / kRad) * kRad;
-    add_prior<1>(problem, &p.pa, 0, mean, *pr.pa_err_deg * kRad, w);
+    const double mean = p.pa + angle_diff_deg(pr.mean.pa_deg, p.pa / kRadPerDeg) * kRadPerDeg;
+    add_prior<1>(problem, &p.pa, 0, mean, *pr.pa_err_deg * kRadPerDeg, w);
   }
   if (pr.inc_err_deg && !opt.fix_inc)
-    add_prior<1>(problem, &p.inc, 0, pr.mean.inc_deg * kRad, *pr.inc_err_deg * kRad, w);
+    add_prior<1>(problem, &p.inc, 0, pr.mean.inc_deg * kRadPerDeg, *pr.inc_err_deg * kRadPerDeg, w);
   if (pr.vsys_err_kms && !opt.fix_vsys)
     add_prior<1>(problem, &p.vsys, 0, pr.mean.vsys_kms, *pr.vsys_err_kms, w);
 }
@@ -184,8 +182,8 @@ Parameters initial_parameters(const VelocitySamples& s, const DiscGeometry& star
   Parameters p;
   p.centre[0] = start.centre.east;
   p.centre[1] = start.centre.north;
-  p.pa = start.pa_deg * kRad;
-  p.inc = std::clamp(start.inc_deg, opt.min_inc_deg, opt.max_inc_deg) * kRad;
+  p.pa = start.pa_deg * kRadPerDeg;
+  p.inc = std::clamp(start.inc_deg, opt.min_inc_deg, opt.max_inc_deg) * kRadPerDeg;
   p.vsys = start.vsys_kms;
   p.vrot.assign(N + 1, 0.0);
   p.vrad.assign(N + 1, 0.0);
@@ -225,7 +223,7 @@ Selection select_samples(const VelocitySamples& s, const Parameters& p, const Gl
                          const std::vector<double>& node_r, const std::vector<double>& robust) {
   const int N = static_cast<int>(node_r.size()) - 1;
   const double w = opt.ring_width_arcsec;
-  const double sin_wedge = std::sin(std::clamp(opt.wedge_deg, 0.0, 89.0) * kRad);
+  const double sin_wedge = std::sin(std::clamp(opt.wedge_deg, 0.0, 89.0) * kRadPerDeg);
   Selection sel;
   sel.bracket.assign(s.size(), -1);
   std::vector<PixelGroup*> by_node(N, nullptr);
@@ -345,7 +343,7 @@ void fill_covariance(GlobalFitSummary& out, ceres::Problem& problem, Parameters&
     if (!opt.fix_pa) { where[2] = offset[b]; ++b; }
     if (!opt.fix_inc) { where[3] = offset[b]; ++b; }
     if (!opt.fix_vsys) { where[4] = offset[b]; ++b; }
-    const double unit[5] = {1.0, 1.0, 1.0 / kRad, 1.0 / kRad, 1.0};
+    const double unit[5] = {1.0, 1.0, 1.0 / kRadPerDeg, 1.0 / kRadPerDeg, 1.0};
     const double f = out.scaling.factor();
     for (int i = 0; i < 5; ++i)
       for (int j = 0; j < 5; ++j)
@@ -386,8 +384,8 @@ void fill_solution(GlobalFitSummary& out, const VelocitySamples& s, const Parame
   }
   out.n_parameters = np;
   out.geometry.centre = {p.centre[0], p.centre[1]};
-  out.geometry.pa_deg = wrap_pa_deg(p.pa / kRad);
-  out.geometry.inc_deg = p.inc / kRad;
+  out.geometry.pa_deg = wrap_pa_deg(p.pa / kRadPerDeg);
+  out.geometry.inc_deg = p.inc / kRadPerDeg;
   out.geometry.vsys_kms = p.vsys;
 
   out.nodes.resize(N);
@@ -512,8 +510,8 @@ GlobalFitSummary fit_global_rings(const VelocitySamples& s, const DiscGeometry& 
                           : 0.0;
     normalise(p);
     prev_moved = std::max({std::abs(p.centre[0] - before.centre[0]), std::abs(p.centre[1] - before.centre[1]),
-                           std::abs(angle_diff_deg(p.pa / kRad, before.pa / kRad)),
-                           std::abs(p.inc - before.inc) / kRad});
+                           std::abs(angle_diff_deg(p.pa / kRadPerDeg, before.pa / kRadPerDeg)),
+                           std::abs(p.inc - before.inc) / kRadPerDeg});
     if (!last_summary.IsSolutionUsable() || final_pass) break;
   }
 

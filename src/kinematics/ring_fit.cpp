@@ -16,7 +16,6 @@
 namespace fulcrum::kinematics {
 
 namespace {
-constexpr double kRad = std::numbers::pi / 180.0;
 }
 
 std::vector<RingFit> fit_rings_individually(const VelocitySamples& s,
@@ -25,7 +24,7 @@ std::vector<RingFit> fit_rings_individually(const VelocitySamples& s,
   std::vector<RingFit> out;
   const auto& g0 = global.geometry;
   const Angle pa0 = g0.pa_deg * degrees, inc0 = g0.inc_deg * degrees;
-  const double sin_wedge = std::sin(std::clamp(opt.wedge_deg, 0.0, 89.0) * kRad);
+  const double sin_wedge = std::sin(std::clamp(opt.wedge_deg, 0.0, 89.0) * kRadPerDeg);
   const int N = static_cast<int>(global.nodes.size());
   // Disc coordinates of every sample in the global geometry.
   std::vector<double> R(s.size()), cos_t(s.size());
@@ -60,7 +59,7 @@ std::vector<RingFit> fit_rings_individually(const VelocitySamples& s,
       continue;
     }
     double centre[2] = {g0.centre.east, g0.centre.north};
-    double pa = g0.pa_deg * kRad, inc = g0.inc_deg * kRad, vsys = g0.vsys_kms;
+    double pa = g0.pa_deg * kRadPerDeg, inc = g0.inc_deg * kRadPerDeg, vsys = g0.vsys_kms;
     double vrot = rf.vrot_kms, vrad = 0.0;
     ceres::Problem problem;
     auto* cf = new ceres::AutoDiffCostFunction<SingleRingResidual, ceres::DYNAMIC, 2, 1, 1, 1, 1, 1>(
@@ -68,8 +67,8 @@ std::vector<RingFit> fit_rings_individually(const VelocitySamples& s,
     problem.AddResidualBlock(cf, nullptr, centre, &pa, &inc, &vsys, &vrot, &vrad);
     if (!opt.free_vsys) problem.SetParameterBlockConstant(&vsys);
     if (!opt.fit_radial) problem.SetParameterBlockConstant(&vrad);
-    problem.SetParameterLowerBound(&inc, 0, opt.min_inc_deg * kRad);
-    problem.SetParameterUpperBound(&inc, 0, opt.max_inc_deg * kRad);
+    problem.SetParameterLowerBound(&inc, 0, opt.min_inc_deg * kRadPerDeg);
+    problem.SetParameterUpperBound(&inc, 0, opt.max_inc_deg * kRadPerDeg);
     ceres::Solver::Options so;
     so.linear_solver_type = ceres::DENSE_QR;
     so.max_num_iterations = opt.max_iterations;
@@ -80,8 +79,8 @@ std::vector<RingFit> fit_rings_individually(const VelocitySamples& s,
     ceres::Solver::Summary sum;
     ceres::Solve(so, &problem, &sum);
     rf.geometry.centre = {centre[0], centre[1]};
-    rf.geometry.pa_deg = wrap_pa_deg(pa / kRad);
-    rf.geometry.inc_deg = inc / kRad;
+    rf.geometry.pa_deg = wrap_pa_deg(pa / kRadPerDeg);
+    rf.geometry.inc_deg = inc / kRadPerDeg;
     rf.geometry.vsys_kms = vsys;
     rf.vrot_kms = vrot;
     rf.vrad_kms = vrad;
@@ -114,9 +113,9 @@ std::vector<RingFit> fit_rings_individually(const VelocitySamples& s,
     rf.centre_east_err = std::sqrt(c22[0] * f);
     rf.centre_north_err = std::sqrt(c22[3] * f);
     cov.GetCovarianceBlock(&pa, &pa, &c11);
-    rf.pa_err_deg = std::sqrt(c11 * f) / kRad;
+    rf.pa_err_deg = std::sqrt(c11 * f) / kRadPerDeg;
     cov.GetCovarianceBlock(&inc, &inc, &c11);
-    rf.inc_err_deg = std::sqrt(c11 * f) / kRad;
+    rf.inc_err_deg = std::sqrt(c11 * f) / kRadPerDeg;
     cov.GetCovarianceBlock(&vrot, &vrot, &c11);
     rf.vrot_err_kms = std::sqrt(c11 * f);
     if (opt.free_vsys) {

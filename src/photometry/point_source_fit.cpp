@@ -7,6 +7,8 @@
 #include <cmath>
 #include <numbers>
 
+#include "fulcrum/io/beam.hpp"
+
 namespace fulcrum::photometry {
 
 namespace {
@@ -26,8 +28,6 @@ struct PixelResidual {
   }
   const double x_, y_, v_, w_, j00_, j01_, j10_, j11_;
 };
-
-constexpr double kFwhmPerSigma = 2.3548200450309493;  // 2 sqrt(2 ln 2)
 
 }  // namespace
 

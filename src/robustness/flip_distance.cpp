@@ -14,7 +14,6 @@ namespace fulcrum::robustness {
 using split::ProjectionEngine;
 
 namespace {
-int sign_of(double v) { return v > 0.0 ? 1 : (v < 0.0 ? -1 : 0); }
 
 // Bisection on the exact profile (an engine or a table) between a (sign sa)
 // and b (opposite sign).

@@ -25,7 +25,6 @@ std::string verdict_name(Verdict v) {
 }
 
 namespace {
-int sign_of(double v) { return v > 0.0 ? 1 : (v < 0.0 ? -1 : 0); }
 std::string f(const char* fmt, double v) {
   char b[64];
   std::snprintf(b, sizeof b, fmt, v);

@@ -13,6 +13,9 @@
 
 namespace fulcrum {
 
+// FWHM = 2 sqrt(2 ln 2) sigma for a Gaussian.
+inline const double kFwhmPerSigma = 2.0 * std::sqrt(2.0 * std::numbers::ln2);
+
 struct Beam {
   double bmaj_arcsec = 0.0;
   double bmin_arcsec = 0.0;

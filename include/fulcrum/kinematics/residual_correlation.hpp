@@ -29,28 +29,10 @@
 #include <vector>
 
 #include "fulcrum/imaging/noise_correlation.hpp"
+#include "fulcrum/kinematics/sample_grid.hpp"
 #include "fulcrum/kinematics/velocity_samples.hpp"
 
 namespace fulcrum::kinematics {
-
-// The used samples on their pixel grid: index of the sample at (x, y), -1
-// where there is none; and the grid's Jacobian (arcsec per pixel step).
-struct SampleGrid {
-  int x0 = 0, y0 = 0, nx = 0, ny = 0;
-  std::vector<int> index;
-  Eigen::Matrix2d jacobian = Eigen::Matrix2d::Zero();  // columns: d/dx, d/dy of (east, north)
-  bool jacobian_ok = false;
-  int at(int x, int y) const {
-    const int ix = x - x0, iy = y - y0;
-    if (ix < 0 || iy < 0 || ix >= nx || iy >= ny) return -1;
-    return index[static_cast<std::size_t>(iy) * nx + ix];
-  }
-  // Sky lag (east, north) of a pixel lag.
-  Eigen::Vector2d lag(int dx, int dy) const { return jacobian * Eigen::Vector2d(dx, dy); }
-};
-
-// `use[i]` selects the samples (non-zero: used).
-SampleGrid make_sample_grid(const VelocitySamples& s, const std::vector<unsigned char>& use);
 
 struct ResidualCorrelationOptions {
   double max_lag_beams = 1.5;  // lags measured out to this many beam FWHM

@@ -28,6 +28,9 @@
 
 namespace fulcrum::robustness {
 
+// The sign of an asymmetry A: +1 (leading excess), -1 (trailing excess), 0.
+inline int sign_of(double a) { return a > 0.0 ? 1 : (a < 0.0 ? -1 : 0); }
+
 struct FlipOptions {
   double tail_pa_deg = 0.0;
   double tail_pa_err_deg = 0.0;   // half-width of the angle range

@@ -12,6 +12,10 @@
 
 namespace fulcrum {
 
+// pi / 180: a plain number for code that works in radians (Ceres functors,
+// trigonometry on raw parameters); interfaces use Angle.
+inline constexpr double kRadPerDeg = std::numbers::pi / 180.0;
+
 class Angle {
  public:
   constexpr Angle() = default;
@@ -54,7 +58,7 @@ struct AngleUnit {
   double radians_per_unit;
 };
 inline constexpr AngleUnit radians{1.0};
-inline constexpr AngleUnit degrees{std::numbers::pi / 180.0};
+inline constexpr AngleUnit degrees{kRadPerDeg};
 inline constexpr AngleUnit arcsec{std::numbers::pi / 180.0 / 3600.0};
 
 constexpr Angle operator*(double v, AngleUnit u) { return Angle::from_radians(v * u.radians_per_unit); }
