@@ -661,10 +661,10 @@ CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& in, const Centr
   // Mean squared pull over the re-fits that gave one (NaN: none did).
   auto mean_finite = [](const std::vector<double>& v) {
     double s = 0.0;
-    int n = 0;
+    int count = 0;
     for (double x : v)
-      if (std::isfinite(x)) s += x, ++n;
-    return n > 0 ? s / n : std::nan("");
+      if (std::isfinite(x)) s += x, ++count;
+    return count > 0 ? s / count : std::nan("");
   };
   b.mean_pa_pull2 = mean_finite(pa2);
   b.mean_inc_pull2 = mean_finite(inc2);

@@ -161,6 +161,20 @@ struct NormalSystem {
   Eigen::MatrixXd A;
 };
 
+// The non-zero entries (column, value) of sample i's Jacobian row.
+int row_entries(const NormalSystem& ns, const Row& r, bool radial, std::array<std::pair<int, double>, 9>& nz) {
+  int m = 0;
+  for (int q = 0; q < 5; ++q)
+    if (ns.gcol[q] >= 0) nz[m++] = {ns.gcol[q], r.geom[q]};
+  for (int side = 0; side < 2; ++side) {
+    const int k = r.node[side];
+    if (k < 0) continue;
+    if (ns.ncol[k] >= 0) nz[m++] = {ns.ncol[k], r.dvrot[side]};
+    if (radial && ns.rcol[k] >= 0) nz[m++] = {ns.rcol[k], r.dvrad[side]};
+  }
+  return m;
+}
+
 NormalSystem build_normal_system(const VelocitySamples& s, const GlobalFitSummary& fit,
                                  const GeometryCovarianceOptions& opt) {
   NormalSystem ns;
@@ -196,33 +210,11 @@ NormalSystem build_normal_system(const VelocitySamples& s, const GlobalFitSummar
     ++ns.used;
     // Sparse row -> (column, value) pairs, accumulated into A.
     std::array<std::pair<int, double>, 9> nz;
-    int m = 0;
-    for (int q = 0; q < 5; ++q)
-      if (ns.gcol[q] >= 0) nz[m++] = {ns.gcol[q], ns.rows[i].geom[q]};
-    for (int t = 0; t < 2; ++t) {
-      const int k = ns.rows[i].node[t];
-      if (k < 0) continue;
-      if (ns.ncol[k] >= 0) nz[m++] = {ns.ncol[k], ns.rows[i].dvrot[t]};
-      if (opt.radial && ns.rcol[k] >= 0) nz[m++] = {ns.rcol[k], ns.rows[i].dvrad[t]};
-    }
+    const int m = row_entries(ns, ns.rows[i], opt.radial, nz);
     for (int a = 0; a < m; ++a)
       for (int b = 0; b < m; ++b) ns.A(nz[a].first, nz[b].first) += ns.w[i] * nz[a].second * nz[b].second;
   }
   return ns;
-}
-
-// The non-zero entries (column, value) of sample i's Jacobian row.
-int row_entries(const NormalSystem& ns, const Row& r, bool radial, std::array<std::pair<int, double>, 9>& nz) {
-  int m = 0;
-  for (int q = 0; q < 5; ++q)
-    if (ns.gcol[q] >= 0) nz[m++] = {ns.gcol[q], r.geom[q]};
-  for (int t = 0; t < 2; ++t) {
-    const int k = r.node[t];
-    if (k < 0) continue;
-    if (ns.ncol[k] >= 0) nz[m++] = {ns.ncol[k], r.dvrot[t]};
-    if (radial && ns.rcol[k] >= 0) nz[m++] = {ns.rcol[k], r.dvrad[t]};
-  }
-  return m;
 }
 
 // The smeared Jacobian J_s = S J at the samples (header): every free column

@@ -69,7 +69,7 @@ namespace {
 // 1 in the axis unit): refuse it instead.
 void check_spectral_numbers(const std::string& header, int axis, const std::string& source) {
   const std::string n = std::to_string(axis);
-  for (const std::string key : {"CRVAL" + n, "CDELT" + n, "CRPIX" + n, "CD" + n + "_" + n, std::string("RESTFRQ"),
+  for (const std::string& key : {"CRVAL" + n, "CDELT" + n, "CRPIX" + n, "CD" + n + "_" + n, std::string("RESTFRQ"),
                                 std::string("RESTFREQ"), std::string("RESTWAV")}) {
     const auto v = header_value(header, key);
     if (!v) continue;

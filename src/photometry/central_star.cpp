@@ -28,8 +28,8 @@ PixelCoord outer_isophote_centre(const std::vector<double>& s, int nx, const std
   std::nth_element(v.begin(), v.begin() + h, v.end());
   const double level = v[h];
   auto in_hole = [&](std::size_t i) {
-    for (const auto& h : holes)
-      if (std::hypot(static_cast<double>(i % nx) - h.x, static_cast<double>(i / nx) - h.y) < hole_r) return true;
+    for (const auto& hole : holes)
+      if (std::hypot(static_cast<double>(i % nx) - hole.x, static_cast<double>(i / nx) - hole.y) < hole_r) return true;
     return false;
   };
   double sx = 0, sy = 0, n = 0;
