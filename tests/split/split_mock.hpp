@@ -17,6 +17,7 @@
 #include "fulcrum/core/random.hpp"
 #include "fulcrum/sky/ellipse.hpp"
 #include "fulcrum/sky/pixel_offsets.hpp"
+#include "fulcrum/split/half_split.hpp"
 
 namespace fulcrum::test {
 
@@ -105,6 +106,22 @@ inline TinyMockMaps make_tiny_mock(const TinyMock& m) {
     for (std::size_t i = 0; i < img.size(); ++i) out.map.data[i] += m.rms * sm[i] / std::sqrt(k2);
   }
   return out;
+}
+
+// The engine tests' split problem: the noisy tiny mock (rms 0.05 Jy/beam
+// km/s) on a grid rotated by `rotation_deg` (and flipped), split about its
+// true centre, within the 8" x 60 deg x 0.64 test aperture when asked.
+inline split::SplitProblem tiny_split_problem(double rotation_deg, bool flip = false, bool aperture = false) {
+  TinyMock m;
+  m.rotation_deg = rotation_deg;
+  m.flip = flip;
+  m.rms = 0.05;
+  const auto maps = make_tiny_mock(m);
+  split::SplitOptions so;
+  so.centre = m.centre;
+  so.rms = 0.05;
+  if (aperture) so.aperture = split::ApertureSpec{8.0, 60.0, 0.64, std::nullopt};
+  return split::prepare_split(maps.map, so);
 }
 
 }  // namespace fulcrum::test

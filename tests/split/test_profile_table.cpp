@@ -37,17 +37,8 @@ double abs_sum(const PixelSet& px, int ch) {
 TEST_CASE("profile table equals the engine and the direct sum", "[split][engine][table]") {
   for (double rot : {0.0, 27.0}) {
     for (bool flip : {false, true}) {
-      test::TinyMock m;
-      m.rotation_deg = rot;
-      m.flip = flip;
-      m.rms = 0.05;
-      const auto maps = test::make_tiny_mock(m);
       for (bool aperture : {false, true}) {
-        SplitOptions so;
-        so.centre = m.centre;
-        so.rms = 0.05;
-        if (aperture) so.aperture = ApertureSpec{8.0, 60.0, 0.64, std::nullopt};
-        const SplitProblem pr = prepare_split(maps.map, so);
+        const SplitProblem pr = test::tiny_split_problem(rot, flip, aperture);
         fulcrum::Random g(17);
         // Pixel edges parallel to the line (B = 0), nearly parallel (B tiny:
         // the quadratic intervals go pixel by pixel), 45 degrees (w0 = 0), random.
@@ -84,14 +75,7 @@ TEST_CASE("profile table equals the engine and the direct sum", "[split][engine]
 }
 
 TEST_CASE("profile table: batched reads, an engine without block moments, dense reads", "[split][engine][table]") {
-  test::TinyMock m;
-  m.rotation_deg = 13.0;
-  m.rms = 0.05;
-  const auto maps = test::make_tiny_mock(m);
-  SplitOptions so;
-  so.centre = m.centre;
-  so.rms = 0.05;
-  const SplitProblem pr = prepare_split(maps.map, so);
+  const SplitProblem pr = test::tiny_split_problem(13.0);
   fulcrum::Random g(23);
   ProjectionEngine full, lean;
   ProfileTable tf, tl;

@@ -44,17 +44,8 @@ TEST_CASE("trapezoid cumulative: box, triangle and symmetry", "[split]") {
 TEST_CASE("engine equals the direct sum for random centres and angles", "[split][engine]") {
   for (double rot : {0.0, 27.0, 90.0}) {
     for (bool flip : {false, true}) {
-      test::TinyMock m;
-      m.rotation_deg = rot;
-      m.flip = flip;
-      m.rms = 0.05;
-      const auto maps = test::make_tiny_mock(m);
       for (bool aperture : {false, true}) {
-        SplitOptions so;
-        so.centre = m.centre;
-        so.rms = 0.05;
-        if (aperture) so.aperture = ApertureSpec{8.0, 60.0, 0.64, std::nullopt};
-        const SplitProblem pr = prepare_split(maps.map, so);
+        const SplitProblem pr = test::tiny_split_problem(rot, flip, aperture);
         fulcrum::Random g(11);
         // Include angles where a pixel edge is parallel to the line (B = 0).
         std::vector<double> angles{rot, rot + 90.0, rot + 45.0};
@@ -103,14 +94,7 @@ TEST_CASE("an engine rebuilt in place equals a freshly built one bit for bit", "
   // rebuild() reuses storage only (projection_engine.hpp): every sum must be
   // the identical double, whatever the previous build held (windowed or
   // whole map, with or without variance, another angle).
-  test::TinyMock m;
-  m.rotation_deg = 21.0;
-  m.rms = 0.05;
-  const auto maps = test::make_tiny_mock(m);
-  SplitOptions so;
-  so.centre = m.centre;
-  so.rms = 0.05;
-  const SplitProblem pr = prepare_split(maps.map, so);
+  const SplitProblem pr = test::tiny_split_problem(21.0);
   fulcrum::Random g(5);
   ProjectionEngine reused;
   CHECK(reused.trailing(0.0) == 0.0);  // an empty engine answers 0
