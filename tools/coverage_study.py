@@ -15,6 +15,9 @@ temporary folder, and prints one table row per preset:
   KS p        Kolmogorov-Smirnov p-value of P(A>0) against uniform (null preset)
   robust|rev  fraction of runs with verdict robust or reversed
   verdicts    counts of each verdict
+  calibration the calibration's symmetric mocks called robust or reversed,
+              pooled over the runs (its prediction of the rate above, before
+              its own gate), and its centre coverage (truth in 2 sigma)
 
 usage:
   /usr/bin/python3 tools/coverage_study.py --fulcrum build/fulcrum --n 40 --jobs 2 \
@@ -92,6 +95,12 @@ def analyse_result(rep, truth):
         out["A_err"] = err
     if rb.get("p_leading") is not None:
         out["p_leading"] = rb["p_leading"]
+    cal = rep.get("calibration") or {}
+    if cal.get("false_robust"):
+        # The calibration's own symmetric mocks called robust or reversed
+        # (its prediction of how often a disc without asymmetry is).
+        out["cal_false_robust"] = [cal["false_robust"]["k"], cal["false_robust"]["n"]]
+        out["cal_centre_coverage"] = [cal["centre_coverage_2sigma"]["k"], cal["centre_coverage_2sigma"]["n"]]
     return out
 
 
@@ -192,6 +201,12 @@ def summarise(rows):
     if v:
         s["verdicts"] = {k: v.count(k) for k in VERDICTS if v.count(k)}
         s["robust_or_reversed"] = (v.count("robust") + v.count("reversed")) / len(v)
+    cal = [r["cal_false_robust"] for r in rows if "cal_false_robust" in r]
+    if cal:
+        # Pooled over the realisations: the calibration's predicted rate.
+        s["cal_false_robust"] = sum(k for k, _ in cal) / max(1, sum(n for _, n in cal))
+        cc = [r["cal_centre_coverage"] for r in rows if "cal_centre_coverage" in r]
+        s["cal_centre_coverage"] = sum(k for k, _ in cc) / max(1, sum(n for _, n in cc))
     return s
 
 
@@ -201,15 +216,17 @@ def fmt(x, f="{:.2f}"):
 
 def print_table(summary):
     print("| preset | n ok | in 1s (0.39) | in 2s (0.86) | <m2> (2) | PA pull mean/rms | inc pull mean/rms "
-          "| A68 (0.68) | A pull rms | KS p | robust or reversed | verdicts |")
-    print("|---|---|---|---|---|---|---|---|---|---|---|---|")
+          "| A68 (0.68) | A pull rms | KS p | robust or reversed | verdicts | calibration: false robust, "
+          "centre in 2s |")
+    print("|---|---|---|---|---|---|---|---|---|---|---|---|---|")
     for name, s in summary.items():
         print(f"| {name} | {s['n_ok']}/{s['n']} | {fmt(s.get('in_1sigma'))} | {fmt(s.get('in_2sigma'))} | "
               f"{fmt(s.get('mean_m2'))} | {fmt(s.get('pa_pull_mean'))}/{fmt(s.get('pa_pull_rms'))} | "
               f"{fmt(s.get('inc_pull_mean'))}/{fmt(s.get('inc_pull_rms'))} | {fmt(s.get('A68_coverage'))} | "
               f"{fmt(s.get('A_pull_rms'))} | {fmt(s.get('p_leading_ks_p'), '{:.3f}')} | "
               f"{fmt(s.get('robust_or_reversed'))} | "
-              f"{', '.join(f'{k} {n}' for k, n in (s.get('verdicts') or {}).items()) or '-'} |")
+              f"{', '.join(f'{k} {n}' for k, n in (s.get('verdicts') or {}).items()) or '-'} | "
+              f"{fmt(s.get('cal_false_robust'), '{:.3f}')}, {fmt(s.get('cal_centre_coverage'))} |")
 
 
 def main(argv):

@@ -204,6 +204,7 @@ struct MockSetup {
   std::vector<double> line_sigma;    // per line-map pixel (0 where unknown)
   std::optional<CorrelatedNoise> line_noise, velocity_noise;  // velocity_noise: its own grid only
   bool refit = false;
+  std::vector<std::size_t> shared;   // indices of the successful shared re-fits (opt.shared_refits)
   std::vector<double> velocity[2];   // noise-free moment-1-like velocity maps (km/s)
   std::vector<double> velocity_sigma;  // per velocity pixel (km/s)
   std::optional<MockRefit> refitter;
@@ -336,18 +337,48 @@ double truth_m2(WorldCoord fitted, const Eigen::Matrix2d& C, WorldCoord truth) {
   return C.determinant() > 0.0 ? dv.dot(C.inverse() * dv) : INFINITY;
 }
 
-// Re-fit the kinematic centre of one mock; on success the adopted centre
-// becomes the fit, otherwise the failure is recorded.
-void refit_centre(const MockSetup& m, const std::vector<double>& vel, int set, MockCentres& mc, MockOutcome& out) {
-  const auto fit = m.refitter->fit(vel, set);
-  if (fit.status == "ok" && fit.centre) {
-    mc.adopted.position = fit.centre->position;
-    mc.adopted.covariance = m.opt.centre_covariance_scale2 * fit.centre->covariance;
-    out.centre_mahalanobis = std::sqrt(truth_m2(fit.centre->position, mc.adopted.covariance, m.in.centre.position));
-  } else {
-    out.centre_fit_ok = false;
-    mc.failures.push_back("the kinematic fit " + fit.status + " (" + fit.reason + ")");
+// Re-fit the kinematic centre of one mock velocity map `vel` of set `set`
+// and describe the outcome against the truth (centre_refit.hpp).
+CentreRefit refit_mock_centre(const MockSetup& m, const std::vector<double>& vel, int set) {
+  CentreRefit r;
+  const MatchedInputs& in = m.in;
+  try {
+    const auto fit = m.refitter->fit(vel, set);
+    if (fit.status != "ok" || !fit.centre) {
+      r.failure = "the kinematic fit " + fit.status + " (" + fit.reason + ")";
+      return r;
+    }
+    r.offset = OffsetFrame(in.centre.position).to_offset(fit.centre->position);
+    r.covariance = fit.centre->covariance;
+    r.m2 = truth_m2(fit.centre->position, r.covariance, in.centre.position);
+    if (!std::isfinite(r.m2)) {
+      r.failure = "the re-fitted centre's covariance is singular";
+      return r;
+    }
+    const double dpa = std::remainder(fit.pa_deg - in.pa_deg, 360.0);
+    if (fit.pa_err_deg > 0.0) r.pa_pull2 = std::pow(dpa / fit.pa_err_deg, 2);
+    if (fit.inc_err_deg > 0.0) r.inc_pull2 = std::pow((fit.inc_deg - in.inc_deg) / fit.inc_err_deg, 2);
+    r.ok = true;
+  } catch (const std::exception& e) {
+    r.failure = std::string("the kinematic fit stopped: ") + e.what();
   }
+  return r;
+}
+
+// A mock adopts re-fit `r`: the truth moved by its offset, its covariance
+// times the galaxy's scale (data and mocks carry errors made the same way);
+// a failed re-fit is recorded as the mock's failure.
+void adopt_refit(const MockSetup& m, const CentreRefit& r, MockCentres& mc, MockOutcome& out) {
+  out.centre_refitted = true;
+  out.centre_fit_ok = r.ok;
+  if (!r.ok) {
+    mc.failures.push_back(r.failure);
+    return;
+  }
+  const double k = m.opt.centre_covariance_scale2;
+  mc.adopted.position = OffsetFrame(m.in.centre.position).to_world(r.offset);
+  mc.adopted.covariance = k * r.covariance;
+  out.centre_mahalanobis = std::sqrt(r.m2 / k);
 }
 
 // `c` moved from the truth by its own (east, north) offset plus a draw from
@@ -375,18 +406,22 @@ void run_mock(const MockSetup& m, int set, std::size_t k, MockOutcome& out) {
   out.seed = mock_seed(m.opt.seed, set, k);
   out.true_asymmetry = m.truth[set];
   try {
-    const bool do_refit = m.refit && (m.opt.refit_every <= 1 || k % m.opt.refit_every == 0);
+    const bool shared = !m.shared.empty();
+    const bool do_refit = !shared && m.refit && (m.opt.refit_every <= 1 || k % m.opt.refit_every == 0);
     std::vector<double> line_n, vel_n, scatter_n;
     Random noise = Random::stream(out.seed, kLineNoiseStream);
     m.line_noise->draw(noise, line_n, do_refit && !m.velocity_noise ? &vel_n : nullptr);
     if (do_refit && m.velocity_noise) draw_velocity_noise(m, out.seed, vel_n, scatter_n);
     const Image map = noisy_line_map(m, set, line_n);
     MockCentres mc;
-    out.centre_refitted = do_refit;
     out.centre_fit_ok = true;
     mc.adopted = in.centre;
-    if (do_refit) {
-      refit_centre(m, noisy_velocity(m, set, vel_n, scatter_n), set, mc, out);
+    if (shared) {
+      // The shared re-fits in turn (their noise is independent of this
+      // mock's line noise, so any pairing is a fair draw).
+      adopt_refit(m, m.opt.shared_refits[m.shared[k % m.shared.size()]], mc, out);
+    } else if (do_refit) {
+      adopt_refit(m, refit_mock_centre(m, noisy_velocity(m, set, vel_n, scatter_n), set), mc, out);
     } else if (m.refit) {
       // A mock between re-fits stands in for one: its adopted centre is the
       // truth moved by a draw from the real fit's covariance (what a re-fit
@@ -495,6 +530,23 @@ void summarise(CalibrationSummary& s) {
   s.centre_coverage_expected = 1.0 - std::exp(-2.0);
 }
 
+// With shared re-fits the centre coverage is theirs, each counted once (a
+// mock repeats one), under the covariance the mocks adopted (x scale2).
+void shared_centre_coverage(const CalibrationOptions& opt, CalibrationSummary& s) {
+  std::size_t inside = 0, n = 0;
+  s.centre_fit_failures = 0;
+  for (const auto& r : opt.shared_refits) {
+    if (!r.ok) {
+      ++s.centre_fit_failures;
+      continue;
+    }
+    ++n;
+    inside += r.m2 / opt.centre_covariance_scale2 <= 4.0;
+  }
+  s.centre_coverage = make_rate(inside, n);
+  s.centre_refits_shared = true;
+}
+
 // No valid mock in a set: no rate can be stated ("0.0% of 0" read as a
 // result). Refused, with the first failure's reason.
 void refuse_if_every_mock_failed(const CalibrationSummary& s) {
@@ -573,7 +625,11 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
   // of the measured A: the statement says so.
   s.tuning_converged = std::abs(s.achieved_asymmetry - s.target_asymmetry) <= kTuningTolerance;
   m.refit = opt.refit_centre && in.velocity != nullptr;
-  if (m.refit) setup_velocity(m, profile, s.lopsided_amplitude);
+  if (m.refit)
+    for (std::size_t i = 0; i < opt.shared_refits.size(); ++i)
+      if (opt.shared_refits[i].ok) m.shared.push_back(i);
+  // Shared re-fits: the mocks need no velocity maps of their own.
+  if (m.refit && m.shared.empty()) setup_velocity(m, profile, s.lopsided_amplitude);
 
   const std::size_t N = opt.n_mocks;
   s.symmetric.assign(N, {});
@@ -590,6 +646,7 @@ CalibrationSummary calibrate(const MatchedInputs& in, const CalibrationOptions& 
   }
   progress.finish();
   summarise(s);
+  if (!m.shared.empty()) shared_centre_coverage(opt, s);
   refuse_if_every_mock_failed(s);
   s.statement = calibration_statement(s, opt);
   s.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - t0).count();
@@ -622,31 +679,23 @@ CentreBootstrap bootstrap_centre_covariance(const MatchedInputs& in, const Centr
   const Image& vgrid = *in.velocity;
   if (!m.velocity_noise)  // the line grid's kernel: a generator on the velocity grid for both fields
     m.velocity_noise.emplace(vgrid.nx, vgrid.ny, m.line_noise->covariance());
-  std::vector<double> m2(o.n_refits, std::nan("")), pa2(o.n_refits, std::nan("")), inc2(o.n_refits, std::nan(""));
+  b.outcomes.resize(o.n_refits);
   const long n = static_cast<long>(o.n_refits);
 #pragma omp parallel for schedule(dynamic, 1)
   for (long k = 0; k < n; ++k) {
     const std::uint64_t seed = mock_seed(o.seed, 2, static_cast<std::size_t>(k));
     std::vector<double> vel_n, scatter_n;
     draw_velocity_noise(m, seed, vel_n, scatter_n);
-    try {
-      const auto fit = m.refitter->fit(noisy_velocity(m, 0, vel_n, scatter_n), 0);
-      if (fit.status != "ok" || !fit.centre) continue;
-      const double d2 = truth_m2(fit.centre->position, fit.centre->covariance, in.centre.position);
-      if (!std::isfinite(d2)) continue;
-      const std::size_t i = static_cast<std::size_t>(k);
-      m2[i] = d2;
-      const double dpa = std::remainder(fit.pa_deg - in.pa_deg, 360.0);
-      pa2[i] = fit.pa_err_deg > 0.0 ? std::pow(dpa / fit.pa_err_deg, 2) : std::nan("");
-      inc2[i] = fit.inc_err_deg > 0.0 ? std::pow((fit.inc_deg - in.inc_deg) / fit.inc_err_deg, 2) : std::nan("");
-    } catch (const std::exception&) {
-    }
+    b.outcomes[static_cast<std::size_t>(k)] = refit_mock_centre(m, noisy_velocity(m, 0, vel_n, scatter_n), 0);
   }
   double sum = 0.0;
-  for (double v : m2) {
-    if (std::isfinite(v)) {
+  std::vector<double> pa2, inc2;
+  for (const auto& r : b.outcomes) {
+    if (r.ok) {
       ++b.refits;
-      sum += v;
+      sum += r.m2;
+      pa2.push_back(r.pa_pull2);
+      inc2.push_back(r.inc_pull2);
     } else {
       ++b.failed;
     }
@@ -722,6 +771,7 @@ json to_json(const CalibrationSummary& s, bool per_mock) {
             {"centre_coverage_2sigma", rate_json(s.centre_coverage)},
             {"centre_coverage_expected", s.centre_coverage_expected},
             {"centre_fit_failures", s.centre_fit_failures},
+            {"centre_refits_shared", s.centre_refits_shared},
             {"symmetric_failures", s.symmetric_failures},
             {"lopsided_failures", s.lopsided_failures},
             {"statement", s.statement}};

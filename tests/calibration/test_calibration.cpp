@@ -207,6 +207,52 @@ TEST_CASE("calibration: same seed gives the same numbers, any thread count, and 
   CHECK(a.centre_coverage.n >= 20);
 }
 
+TEST_CASE("calibration with shared re-fits: the mocks adopt the successful ones in turn",
+          "[calibration]") {
+  const auto g = small_galaxy(0.2, 31);
+  const auto p = synth::make_mock(g);
+  const Image map = p.intensity;
+  auto in = inputs_for(g, p, map, 0.1);
+  calibration::CalibrationOptions co;
+  co.n_mocks = 5;
+  co.seed = 3;
+  co.n_draws = 200;
+  co.progress = false;
+  co.centre_covariance_scale2 = 1.5;
+  // Three re-fits as a centre bootstrap would leave them: m^2 = d^T C^-1 d
+  // of the truth, 0.5^2 / 0.04 = 6.25 and 0.3^2 / 0.09 = 1, one failed.
+  calibration::CentreRefit r0, r1, r2;
+  r0.ok = true, r0.offset = {0.5, 0.0}, r0.covariance = 0.04 * Eigen::Matrix2d::Identity(), r0.m2 = 6.25;
+  r1.failure = "the kinematic fit failed (test)";
+  r2.ok = true, r2.offset = {0.0, -0.3}, r2.covariance = 0.09 * Eigen::Matrix2d::Identity(), r2.m2 = 1.0;
+  co.shared_refits = {r0, r1, r2};
+  const auto s = calibration::calibrate(in, co);
+  INFO(calibration::to_json(s).dump());
+  CHECK(s.centre_refits_shared);
+  CHECK(s.centre_fit_failures == 1);
+  CHECK(s.symmetric_failures + s.lopsided_failures == 0);
+  // Coverage over the shared re-fits, each once, under C x scale2: 6.25 / 1.5
+  // is outside the 2-sigma ellipse (m^2 <= 4), 1 / 1.5 inside.
+  CHECK(s.centre_coverage.n == 2);
+  CHECK(s.centre_coverage.k == 1);
+  for (const auto* set : {&s.symmetric, &s.lopsided})
+    for (std::size_t k = 0; k < set->size(); ++k) {
+      const auto& o = (*set)[k];
+      CHECK(o.centre_refitted);
+      CHECK(o.centre_fit_ok);
+      const double m2 = k % 2 == 0 ? r0.m2 : r2.m2;  // the successful ones in turn
+      CHECK(o.centre_mahalanobis == Approx(std::sqrt(m2 / 1.5)));
+    }
+  // Without a velocity map there is nothing to re-fit: the shared re-fits
+  // are not used either, and every mock adopts the truth.
+  auto no_vel = in;
+  no_vel.velocity = nullptr;
+  no_vel.velocity_error = nullptr;
+  const auto t = calibration::calibrate(no_vel, co);
+  CHECK_FALSE(t.centre_refits_shared);
+  for (const auto& o : t.symmetric) CHECK_FALSE(o.centre_refitted);
+}
+
 TEST_CASE("calibration says so when the amplitude tuning cannot reach the measured A",
           "[calibration][bounds]") {
   // A = 0.95 is out of reach: the lopsided term e cos(theta) is clamped to

@@ -62,6 +62,21 @@ TEST_CASE("centre re-fit bootstrap: same seed, same numbers at any thread count,
   CHECK(ra.refits >= 12);
   CHECK(calibration::to_json(ra).dump() == calibration::to_json(rb).dump());
   CHECK(ra.mean_m2 != rc.mean_m2);
+  // The re-fits are kept in mock order for the calibration to share: the
+  // successful ones are those counted, and their m^2 make mean_m2.
+  REQUIRE(ra.outcomes.size() == 16);
+  std::size_t ok = 0;
+  double sum_m2 = 0.0;
+  for (const auto& r : ra.outcomes) {
+    if (!r.ok) continue;
+    ++ok;
+    sum_m2 += r.m2;
+    // m^2 is the truth's distance under the re-fit's own covariance.
+    const Eigen::Vector2d d(r.offset.east, r.offset.north);
+    CHECK(r.m2 == Approx(d.dot(r.covariance.inverse() * d)).epsilon(1e-6));
+  }
+  CHECK(ok == ra.refits);
+  CHECK(sum_m2 / static_cast<double>(ok) == Approx(ra.mean_m2));
   // scale2 = max(1, mean m^2 / 2), applied to the tilted-ring centre only.
   CHECK(ra.scale2 == Approx(std::max(1.0, 0.5 * ra.mean_m2)));
   CHECK((a.ring_centre->covariance - ra.scale2 * before).norm() <= 1e-12 * before.norm());

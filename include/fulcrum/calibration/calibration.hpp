@@ -23,10 +23,13 @@
 // table), (I v) * B / (I * B) with I the mock's line map, plus noise from the
 // velocity error map with the SAME beam correlation as the line map (not
 // white). Blank pixels of the real maps are blank in the mocks. The mocks'
-// kinematic centre is re-fitted with the kinematics library, with the
+// kinematic centre comes from re-fits with the kinematics library, with the
 // beam-smearing correction of the real analysis, started from the truth
-// (mock_refit.hpp), on every `refit_every`-th mock; the others adopt the
-// truth moved by a draw from the real fit's covariance. The other centre
+// (mock_refit.hpp): either a shared set of re-fitted mocks of the fitted disc
+// made before (options.shared_refits, the centre bootstrap's; centre_refit.hpp),
+// which the mocks adopt in turn, or, without one, a re-fit of the mock's own
+// velocity map on every `refit_every`-th mock, the others adopting the truth
+// moved by a draw from the real fit's covariance. The other centre
 // estimates are placed at truth + their real offsets from the dynamical
 // centre, each scattered by its own covariance. Everything the mocks share
 // (noise-free maps, noise kernels, samples and smearing grids of the re-fit,
@@ -57,6 +60,7 @@
 #include <vector>
 
 #include "fulcrum/calibration/calibration_defaults.hpp"
+#include "fulcrum/calibration/centre_refit.hpp"
 #include "fulcrum/io/image.hpp"
 #include "fulcrum/robustness/analysis.hpp"
 
@@ -119,10 +123,17 @@ struct CalibrationOptions {
   std::uint64_t seed = 1;           // the galaxy seed (mock seeds derive from it)
   std::size_t n_draws = 2000;       // bootstrap draws per mock analysis (replaces chain.n_draws)
   bool refit_centre = true;         // re-fit the kinematic centre on the mocks
-  // Re-fit on mocks with index % refit_every == 0; the others adopt the true
-  // centre moved by a draw from the real fit's covariance. Without re-fits
-  // (refit_centre false, or no velocity map) every mock adopts the truth
-  // itself, with the real covariance.
+  // Re-fitted mocks of the fitted disc made before (the centre bootstrap's
+  // outcomes): when any succeeded, mock k of either set adopts the
+  // (k mod n)-th of the n successful ones (truth + its offset, its covariance
+  // x centre_covariance_scale2) and no mock re-fits its own velocity map; the
+  // failed ones are counted in centre_fit_failures. Needs refit_centre and
+  // the velocity map, like the mocks' own re-fits.
+  std::vector<CentreRefit> shared_refits;
+  // Without shared re-fits: re-fit on mocks with index % refit_every == 0;
+  // the others adopt the true centre moved by a draw from the real fit's
+  // covariance. Without re-fits (refit_centre false, or no velocity map)
+  // every mock adopts the truth itself, with the real covariance.
   std::size_t refit_every = kDefaultRefitEvery;
   double profile_bin_beams = 0.5;   // annulus width for the gas profile
   int secant_steps = 6;
@@ -169,7 +180,11 @@ struct CalibrationSummary {
   double bias = 0.0, bias_err = 0.0;          // lopsided set: mean(measured - true)
   double bias_symmetric = 0.0, bias_symmetric_err = 0.0;
   Rate coverage68, coverage95;      // both sets: truth inside the interval
-  Rate centre_coverage;             // truth inside the fitted centre's 2-sigma ellipse
+  // Truth inside the fitted centre's 2-sigma ellipse: over the re-fitted
+  // mocks, or over the shared re-fits (each counted once) when the mocks
+  // adopted those (centre_refits_shared).
+  Rate centre_coverage;
+  bool centre_refits_shared = false;
   double centre_coverage_expected = 0.0;  // 1 - exp(-2) for a Gaussian
   std::size_t centre_fit_failures = 0;
   std::string statement;            // "a symmetric disc with these data is called robust in ..."
@@ -247,6 +262,9 @@ struct CentreBootstrap {
   bool applied = false;
   std::string reason;               // when not applied
   std::size_t refits = 0, failed = 0;
+  // Every re-fit, failed or not, in mock order: the calibration's mocks of
+  // the same galaxy adopt them (CalibrationOptions::shared_refits).
+  std::vector<CentreRefit> outcomes;
   double mean_m2 = 0.0;             // over the successful re-fits
   double scale2 = 1.0;              // the factor applied to the covariance
   // The same check for the PA and the inclination: the mean squared pull

@@ -15,14 +15,16 @@
 namespace fulcrum::calibration {
 
 inline constexpr int kDefaultCalibrationMocks = 40;  // per set (symmetric and lopsided)
-// The kinematic centre is re-fitted on every kDefaultRefitEvery-th mock (the
-// re-fit costs about 6 times the rest of a mock); the others adopt the true
-// centre moved by a draw from the real fit's covariance. The re-fitted
-// quarter measures the centre coverage and the re-fit failures.
+// A calibration without shared re-fits (CalibrationOptions::shared_refits;
+// in `analyse` the mocks adopt the centre bootstrap's) re-fits the kinematic
+// centre on every kDefaultRefitEvery-th mock (a re-fit costs about 8 times
+// the rest of a mock); the others adopt the true centre moved by a draw from
+// the real fit's covariance. The re-fitted quarter measures the centre
+// coverage and the re-fit failures.
 inline constexpr std::size_t kDefaultRefitEvery = 4;
 // Mocks of the fitted disc re-fitted to check the kinematic centre's error
 // (bootstrap_centre_covariance); the mean m^2 of 24 has a relative error of
-// about 20%.
+// about 20%. The calibration's mocks adopt the same re-fits.
 inline constexpr std::size_t kDefaultCentreRefits = 24;
 
 }  // namespace fulcrum::calibration
