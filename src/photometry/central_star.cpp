@@ -15,14 +15,14 @@ namespace fulcrum::photometry {
 namespace {
 
 // Unweighted centroid of the galaxy pixels brighter (in `s`) than the level
-// that encloses a fifth of the segment's area.
+// that encloses half of the segment's area (its median).
 PixelCoord outer_isophote_centre(const std::vector<double>& s, int nx, const std::vector<std::uint8_t>& galaxy,
                                  const std::vector<PixelCoord>& holes = {}, double hole_r = 0.0) {
   std::vector<double> v;
   for (std::size_t i = 0; i < s.size(); ++i)
     if (galaxy[i] && std::isfinite(s[i])) v.push_back(s[i]);
   if (v.empty()) return {};
-  // The brightest fifth of the segment: small enough to stay clear of the
+  // The brightest half of the segment: small enough to stay clear of the
   // image edges when the galaxy's wings fill the field.
   const std::size_t h = v.size() / 2;
   std::nth_element(v.begin(), v.begin() + h, v.end());
