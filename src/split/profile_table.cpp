@@ -92,11 +92,8 @@ void ProfileTable::rebuild(const PixelSet& px, Angle tail_pa, double window_lo, 
   segs_.clear();
   seg_lo_ = 0.0;
   seg_hi_ = -1.0;  // no segment
-  if (p_.empty()) {
-    p_.assign(1, std::numeric_limits<double>::infinity());
-    f_.assign(1, 0.0);
-  }
-  p_[0] = std::numeric_limits<double>::infinity();
+  if (kept_.empty()) kept_.resize(1);
+  kept_[0] = {std::numeric_limits<double>::infinity(), 0.0};
   start_.assign(2, 0);
   p_lo_ = 0.0;
   inv_delta_ = 0.0;
@@ -169,9 +166,8 @@ void ProfileTable::project(const PixelSet& px, int ch) {
   last_bin_ = nb - 1.0;
   const std::size_t nbins = static_cast<std::size_t>(nb);
   start_.assign(nbins + 1, 0);
-  if (tp_.size() < bound) {
-    tp_.resize(bound);
-    tf_.resize(bound);
+  if (projected_.size() < bound) {
+    projected_.resize(bound);
     tk_.resize(bound);
   }
   const double* E = px.east.data();
@@ -179,15 +175,13 @@ void ProfileTable::project(const PixelSet& px, int ch) {
   // The channel's values: an array, or every pixel the uniform variance.
   const double* F = ch == 0 ? px.value.data() : (px.variance.empty() ? nullptr : px.variance.data());
   const double uv = px.uniform_variance;
-  double* tp = tp_.data();
-  double* tf = tf_.data();
+  Kept* tp = projected_.data();
   unsigned* tk = tk_.data();
   unsigned* count = start_.data() + 1;
   std::size_t m = 0;
   auto keep = [&](double p, double f) {
     const std::size_t k = bin_of(p);
-    tp[m] = p;
-    tf[m] = f;
+    tp[m] = {p, f};
     tk[m] = static_cast<unsigned>(k);
     ++count[k];
     ++m;
@@ -232,29 +226,21 @@ void ProfileTable::sort_kept() {
   unsigned* start = start_.data();
   for (std::size_t k = 0; k < nbins; ++k) start[k + 1] += start[k];
   fill_.assign(start_.begin(), start_.end() - 1);
-  if (p_.size() < m + 1) {
-    p_.resize(m + 1);
-    f_.resize(m + 1);
-  }
-  double* P = p_.data();
-  double* F = f_.data();
+  if (kept_.size() < m + 1) kept_.resize(m + 1);
+  Kept* P = kept_.data();
+  const Kept* T = projected_.data();
   unsigned* fill = fill_.data();
   for (std::size_t j = 0; j < m; ++j) {
     const unsigned k = tk_[j];
-    const double p = tp_[j], f = tf_[j];
+    const Kept t = T[j];
     std::size_t i = fill[k]++;
-    for (const std::size_t b = start[k]; i > b && P[i - 1] > p; --i) {
-      P[i] = P[i - 1];
-      F[i] = F[i - 1];
-    }
-    P[i] = p;
-    F[i] = f;
+    for (const std::size_t b = start[k]; i > b && P[i - 1].p > t.p; --i) P[i] = P[i - 1];
+    P[i] = t;
   }
-  P[m] = std::numeric_limits<double>::infinity();  // the walks' sentinel
-  F[m] = 0.0;
+  P[m] = {std::numeric_limits<double>::infinity(), 0.0};  // the walks' sentinel
   if (m) {
-    pmin_ = std::min(pmin_, P[0]);
-    pmax_ = std::max(pmax_, P[m - 1]);
+    pmin_ = std::min(pmin_, P[0].p);
+    pmax_ = std::max(pmax_, P[m - 1].p);
   }
 }
 
@@ -270,10 +256,10 @@ void ProfileTable::make_segments() {
   acc.add(below_);
   below_ = acc.value();
   const double w1 = shape_.w1;
-  const double kmin = m ? p_[0] : 0.0, kmax = m ? p_[m - 1] : 0.0;
+  const double kmin = m ? kept_[0].p : 0.0, kmax = m ? kept_[m - 1].p : 0.0;
   const double lo = std::max(wlo_, kmin - w1), hi = std::min(whi_, kmax + w1);
   auto finish = [&](std::size_t from) {
-    for (std::size_t i = from; i < m; ++i) acc.add(f_[i]);
+    for (std::size_t i = from; i < m; ++i) acc.add(kept_[i].f);
     top_ = acc.value();
     acc.add(above);
     total_ = acc.value();
@@ -303,7 +289,7 @@ void ProfileTable::make_segments() {
     total += 3 * (sg.last - sg.first + 1);
   }
   if (moments_.size() < total) moments_.resize(total);
-  for (std::size_t i = 0; i < segs_[0].first; ++i) acc.add(f_[i]);
+  for (std::size_t i = 0; i < segs_[0].first; ++i) acc.add(kept_[i].f);
   for (std::size_t g = 0; g < G; ++g) {
     Segment& sg = segs_[g];
     if (g > 0) {  // (segment g - 1 reaches past this one's first pixel)
@@ -315,7 +301,7 @@ void ProfileTable::make_segments() {
     double m0 = 0.0, m1 = 0.0, m2 = 0.0;
     P[0] = P[1] = P[2] = 0.0;
     for (std::size_t i = sg.first; i < sg.last; ++i) {
-      const double f = f_[i], x = p_[i] - sg.anchor;
+      const double f = kept_[i].f, x = kept_[i].p - sg.anchor;
       m0 += f;
       m1 += f * x;
       m2 += f * x * x;
@@ -341,23 +327,23 @@ inline std::size_t ProfileTable::bin_of(double t) const {
 // branches (a bin holds one or two pixels, so a branch here would be
 // mispredicted about every other time); the sentinel ends every walk.
 [[gnu::always_inline]] inline std::size_t ProfileTable::count_below(double t) const {
-  const double* p = p_.data();
+  const Kept* p = kept_.data();
   std::size_t i = start_[bin_of(t)];
-  i += p[i] <= t ? 1 : 0;
-  i += p[i] <= t ? 1 : 0;
-  while (p[i] <= t) ++i;
+  i += p[i].p <= t ? 1 : 0;
+  i += p[i].p <= t ? 1 : 0;
+  while (p[i].p <= t) ++i;
   return i;
 }
 
 double ProfileTable::below_index(std::size_t i, const Segment& sg) const {
   if (i < sg.first) {
     double b = sg.base;
-    for (std::size_t j = i; j < sg.first; ++j) b -= f_[j];
+    for (std::size_t j = i; j < sg.first; ++j) b -= kept_[j].f;
     return b;
   }
   const std::size_t j0 = std::min(i, sg.last);
   double b = sg.base + moments_[sg.offset + 3 * (j0 - sg.first)];
-  for (std::size_t j = j0; j < i; ++j) b += f_[j];
+  for (std::size_t j = j0; j < i; ++j) b += kept_[j].f;
   return b;
 }
 
@@ -367,14 +353,14 @@ double ProfileTable::below_index(std::size_t i, const Segment& sg) const {
 double ProfileTable::outside_segments(double s) const {
   if (!valid_ || px_ == nullptr) return 0.0;
   if (!in_window(s)) return direct_trailing(*px_, tail_pa_, s, ch_);
-  if (m_ == 0 || s + shape_.w1 <= p_[0]) return below_;
-  if (s - shape_.w1 >= p_[m_ - 1]) return top_;
+  if (m_ == 0 || s + shape_.w1 <= kept_[0].p) return below_;
+  if (s - shape_.w1 >= kept_[m_ - 1].p) return top_;
   return direct_trailing(*px_, tail_pa_, s, ch_);  // not reached: the segments cover the rest
 }
 
 double ProfileTable::quadratic_pixels(std::size_t ia, std::size_t ib, double s) const {
   double F = 0.0;
-  for (std::size_t i = ia; i < ib; ++i) F += f_[i] * shape_.below(s - p_[i]);
+  for (std::size_t i = ia; i < ib; ++i) F += kept_[i].f * shape_.below(s - kept_[i].p);
   return F;
 }
 

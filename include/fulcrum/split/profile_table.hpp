@@ -95,6 +95,9 @@ class ProfileTable {
   static double expected_pixels(const PixelSet& pixels, Angle tail_pa, double window_lo, double window_hi);
 
  private:
+  struct Kept {  // a kept pixel: its p and its channel value
+    double p, f;
+  };
   struct Segment {
     double anchor;
     double base;              // everything below pixel `first` (G = 1), compensated
@@ -130,15 +133,15 @@ class ProfileTable {
   // Bins of the kept pixels: bin k covers [p_lo + k delta, p_lo + (k + 1) delta).
   double p_lo_ = 0.0, inv_delta_ = 1.0, last_bin_ = 0.0;
   std::vector<unsigned> start_;  // nbins + 1: the first sorted pixel of each bin
-  std::vector<double> p_, f_;    // kept pixels sorted by p (+ a sentinel at +inf), their channel value
+  std::vector<Kept> kept_;       // kept pixels sorted by p (+ a sentinel at p = +inf)
   // Segments: [seg_lo_ + g h_, seg_lo_ + (g + 1) h_), anchor R_g at the centre.
   double seg_lo_ = 0.0, seg_hi_ = -1.0, h_ = 1.0, inv_h_ = 1.0;
   double pixelwise_below_b_ = 0.0;  // B below this: quadratic intervals pixel by pixel
   std::vector<Segment> segs_;
   std::vector<double> moments_;  // per segment: prefix (M0, M1, M2) about its anchor
-  // The build's working memory: kept pixels in projection order (p, value,
-  // bin), the tiles that reach the window, the fill pointers of the sort.
-  std::vector<double> tp_, tf_;
+  // The build's working memory: kept pixels in projection order and their
+  // bins, the tiles that reach the window, the fill pointers of the sort.
+  std::vector<Kept> projected_;
   std::vector<unsigned> tk_, fill_;
   std::vector<std::size_t> reach_;
   // trailing_many's working memory: each read's segment, bucket starts, read order.
