@@ -317,8 +317,8 @@ void ProfileTable::make_segments() {
 }
 
 inline std::size_t ProfileTable::bin_of(double t) const {
-  const double u = (t - p_lo_) * inv_delta_;
-  return u > 0.0 ? static_cast<std::size_t>(std::min(u, last_bin_)) : 0;
+  // (std::max(0.0, NaN) is 0.0: a NaN cut reads bin 0.)
+  return static_cast<std::size_t>(std::min(std::max(0.0, (t - p_lo_) * inv_delta_), last_bin_));
 }
 
 // The number of sorted pixels with p <= t: every pixel of an earlier bin than
