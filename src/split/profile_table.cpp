@@ -104,72 +104,84 @@ void ProfileTable::rebuild(const PixelSet& px, Angle tail_pa, double window_lo, 
   make_segments();
 }
 
-// Pass A: classify the tiles, then project the pixels of those that reach
-// the window, keeping the ones within w1 of it with their bins (counted in
-// start_[k + 1]) and totalling the rest. pmin/pmax as the engine keeps them
-// (every projected pixel; a tile wholly below or above bounds one side).
+// Pass A: classify the tiles (plan_runs), lay out the bins (set_bins), then
+// project the pixels of the tiles that reach the window, keeping the ones
+// within w1 of it with their bins (counted in start_[k + 1]) and totalling
+// the rest (project_runs). pmin/pmax as the engine keeps them (every
+// projected pixel; a tile wholly below or above bounds one side).
 void ProfileTable::project(const PixelSet& px, int ch) {
-  const bool full = std::isinf(wlo_);  // (no window: table_window made it -inf)
   const double margin = shape_.w1 * (1.0 + 1e-9) + 1e-9;
   const double flo = wlo_ - margin, fhi = whi_ + margin;
-  const double ne = n_.east, nn = n_.north;
+  below_ = top_ = 0.0;  // (plain sums here; compensated totals in make_segments)
+  pmin_ = std::numeric_limits<double>::infinity();
+  pmax_ = -pmin_;
+  set_bins(plan_runs(px, ch, flo, fhi));
+  project_runs(px, ch, flo, fhi);
+}
+
+// The runs of pixels to project (reach_: begin, end, and whether every pixel
+// of the run lies inside the kept range [flo, fhi], a tile wholly inside
+// it); tiles wholly beside the range add their sums and bounds.
+ProfileTable::RunPlan ProfileTable::plan_runs(const PixelSet& px, int ch, double flo, double fhi) {
+  const bool full = std::isinf(wlo_);  // (no window: table_window made it -inf)
   const std::size_t n = px.size();
-  double below = 0.0, above = 0.0;
-  double pmin = std::numeric_limits<double>::infinity(), pmax = -pmin;
-  // The runs of pixels to project: [begin, end), and whether every pixel of
-  // the run lies inside the kept range (a tile wholly inside it).
   reach_.clear();
-  double expected = 0.0, b_lo = pmin, b_hi = pmax;  // estimate and bounds of the kept pixels
-  std::size_t bound = 0;
+  RunPlan plan;
   if (full || px.tiles.empty()) {
-    reach_.push_back(0);
-    reach_.push_back(n);
-    reach_.push_back(full ? 1 : 0);
-    bound = n;
-    expected = double(n);
+    reach_.insert(reach_.end(), {0, n, full ? std::size_t{1} : std::size_t{0}});
+    plan.bound = n;
+    plan.expected = double(n);
     double r = px.max_radius;
     if (!(r > 0.0))
       for (std::size_t i = 0; i < n; ++i) r = std::max(r, std::hypot(px.east[i], px.north[i]));
     r = r * (1.0 + 1e-12) + 1e-9;
-    b_lo = std::max(flo, -r);
-    b_hi = std::min(fhi, r);
-  } else {
-    for (const PixelTile& t : px.tiles) {
-      const double pc = ne * t.east + nn * t.north;
-      if (pc + t.radius < flo) {
-        below += ch == 0 ? t.sum_value : t.sum_variance;
-        pmin = std::min(pmin, pc - t.radius);
-      } else if (pc - t.radius > fhi) {
-        above += ch == 0 ? t.sum_value : t.sum_variance;
-        pmax = std::max(pmax, pc + t.radius);
-      } else {
-        const bool inside = pc - t.radius >= flo && pc + t.radius <= fhi;
-        reach_.push_back(t.begin);
-        reach_.push_back(t.end);
-        reach_.push_back(inside ? 1 : 0);
-        bound += t.end - t.begin;
-        expected += double(t.end - t.begin) * overlap_fraction(pc, t.radius, flo, fhi);
-        b_lo = std::min(b_lo, pc - t.radius);
-        b_hi = std::max(b_hi, pc + t.radius);
-      }
-    }
-    b_lo = std::max(b_lo, flo);
-    b_hi = std::min(b_hi, fhi);
+    plan.lo = std::max(flo, -r);
+    plan.hi = std::min(fhi, r);
+    return plan;
   }
-  // The bins: about kPixelsPerBin of the expected kept pixels each.
-  const double range = b_hi - b_lo;
+  const double ne = n_.east, nn = n_.north;
+  for (const PixelTile& t : px.tiles) {
+    const double pc = ne * t.east + nn * t.north;
+    if (pc + t.radius < flo) {
+      below_ += ch == 0 ? t.sum_value : t.sum_variance;
+      pmin_ = std::min(pmin_, pc - t.radius);
+    } else if (pc - t.radius > fhi) {
+      top_ += ch == 0 ? t.sum_value : t.sum_variance;
+      pmax_ = std::max(pmax_, pc + t.radius);
+    } else {
+      const bool inside = pc - t.radius >= flo && pc + t.radius <= fhi;
+      reach_.insert(reach_.end(), {t.begin, t.end, inside ? std::size_t{1} : std::size_t{0}});
+      plan.bound += t.end - t.begin;
+      plan.expected += double(t.end - t.begin) * overlap_fraction(pc, t.radius, flo, fhi);
+      plan.lo = std::min(plan.lo, pc - t.radius);
+      plan.hi = std::max(plan.hi, pc + t.radius);
+    }
+  }
+  plan.lo = std::max(plan.lo, flo);
+  plan.hi = std::min(plan.hi, fhi);
+  return plan;
+}
+
+// The bins over [plan.lo, plan.hi]: about kPixelsPerBin of the expected kept
+// pixels each (one bin when nothing is expected); the bin counts zeroed and
+// the working memory sized for the most pixels the runs can keep.
+void ProfileTable::set_bins(const RunPlan& plan) {
+  const double range = plan.hi - plan.lo;
   double nb = 1.0;
-  if (range > 0.0 && std::isfinite(range) && expected >= 1.0)
-    nb = std::clamp(std::floor(expected / kPixelsPerBin), 1.0, 2.0 * double(bound) + 1.0);
-  p_lo_ = std::isfinite(b_lo) ? b_lo : 0.0;
+  if (range > 0.0 && std::isfinite(range) && plan.expected >= 1.0)
+    nb = std::clamp(std::floor(plan.expected / kPixelsPerBin), 1.0, 2.0 * double(plan.bound) + 1.0);
+  p_lo_ = std::isfinite(plan.lo) ? plan.lo : 0.0;
   inv_delta_ = nb > 1.0 ? nb / range : 0.0;
   last_bin_ = nb - 1.0;
-  const std::size_t nbins = static_cast<std::size_t>(nb);
-  start_.assign(nbins + 1, 0);
-  if (projected_.size() < bound) {
-    projected_.resize(bound);
-    tk_.resize(bound);
+  start_.assign(static_cast<std::size_t>(nb) + 1, 0);
+  if (projected_.size() < plan.bound) {
+    projected_.resize(plan.bound);
+    tk_.resize(plan.bound);
   }
+}
+
+void ProfileTable::project_runs(const PixelSet& px, int ch, double flo, double fhi) {
+  const double ne = n_.east, nn = n_.north;
   const double* E = px.east.data();
   const double* N = px.north.data();
   // The channel's values: an array, or every pixel the uniform variance.
@@ -178,6 +190,7 @@ void ProfileTable::project(const PixelSet& px, int ch) {
   Kept* tp = projected_.data();
   unsigned* tk = tk_.data();
   unsigned* count = start_.data() + 1;
+  double below = below_, above = top_, pmin = pmin_, pmax = pmax_;
   std::size_t m = 0;
   auto keep = [&](double p, double f) {
     const std::size_t k = bin_of(p);
@@ -198,12 +211,8 @@ void ProfileTable::project(const PixelSet& px, int ch) {
     for (std::size_t i = b; i < e; ++i) {
       const double p = ne * E[i] + nn * N[i];
       const double f = F ? F[i] : uv;
-      if (p < flo) {
-        below += f;
-        pmin = std::min(pmin, p);
-        pmax = std::max(pmax, p);
-      } else if (p > fhi) {
-        above += f;
+      if (p < flo || p > fhi) {
+        (p < flo ? below : above) += f;
         pmin = std::min(pmin, p);
         pmax = std::max(pmax, p);
       } else {
@@ -212,7 +221,7 @@ void ProfileTable::project(const PixelSet& px, int ch) {
     }
   }
   m_ = m;
-  below_ = below;  // (plain sums; made compensated totals in make_segments)
+  below_ = below;
   top_ = above;
   pmin_ = pmin;
   pmax_ = pmax;

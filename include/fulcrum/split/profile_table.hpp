@@ -44,6 +44,7 @@
 #pragma once
 
 #include <cstddef>
+#include <limits>
 #include <span>
 #include <vector>
 
@@ -113,7 +114,17 @@ class ProfileTable {
   double below_index(std::size_t i, const Segment& sg) const;
   double quadratic_pixels(std::size_t ia, std::size_t ib, double s) const;
   double outside_segments(double s) const;
+  // What the tiles say before a pixel is read: the pixels the runs hold, the
+  // estimate of those kept, and the bounds of their p.
+  struct RunPlan {
+    std::size_t bound = 0;
+    double expected = 0.0;
+    double lo = std::numeric_limits<double>::infinity(), hi = -std::numeric_limits<double>::infinity();
+  };
   void project(const PixelSet& px, int ch);
+  RunPlan plan_runs(const PixelSet& px, int ch, double flo, double fhi);
+  void set_bins(const RunPlan& plan);
+  void project_runs(const PixelSet& px, int ch, double flo, double fhi);
   void sort_kept();
   void make_segments();
   // The segment that answers s (segs_.size(): none), and the read in it.
