@@ -169,7 +169,8 @@ void ProfileTable::set_bins(const RunPlan& plan) {
   const double range = plan.hi - plan.lo;
   double nb = 1.0;
   if (range > 0.0 && std::isfinite(range) && plan.expected >= 1.0)
-    nb = std::clamp(std::floor(plan.expected / kPixelsPerBin), 1.0, 2.0 * double(plan.bound) + 1.0);
+    nb = std::clamp(std::floor(plan.expected / kPixelsPerBin), 1.0,
+                    std::min(2.0 * double(plan.bound) + 1.0, double(std::numeric_limits<unsigned>::max())));
   p_lo_ = std::isfinite(plan.lo) ? plan.lo : 0.0;
   inv_delta_ = nb > 1.0 ? nb / range : 0.0;
   last_bin_ = nb - 1.0;
