@@ -32,20 +32,20 @@ double bisect(const Profile& e, double a, double b) {
   }
   return 0.5 * (a + b);
 }
-// The march and bisection of nearest_zero; `e` answers asymmetry(s), `g` is
-// its engine (pixel shape, range and window).
+// The march and bisection of nearest_zero; `e` (an engine or a table)
+// answers asymmetry(s) and gives the pixel shape, range and window.
 template <class Profile>
-std::optional<double> nearest_zero_of(const Profile& e, const ProjectionEngine& g, double s0) {
+std::optional<double> nearest_zero_of(const Profile& e, double s0) {
   const double a0 = e.asymmetry(s0);
   if (!std::isfinite(a0)) return std::nullopt;
   const int sg = sign_of(a0);
   if (sg == 0) return s0;
-  const double h = 0.25 * g.shape().w1;
+  const double h = 0.25 * e.shape().w1;
   // The march below takes (hi - lo) / h steps: bounded only for a positive,
   // finite step (a degenerate pixel shape would otherwise loop forever).
   if (!(h > 0.0) || !std::isfinite(h)) return std::nullopt;
   // Search where A can change; a windowed engine is searched inside its window only.
-  const double lo = std::max(g.s_min() - h, g.window_lo()), hi = std::min(g.s_max() + h, g.window_hi());
+  const double lo = std::max(e.s_min() - h, e.window_lo()), hi = std::min(e.s_max() + h, e.window_hi());
   double prev_p = s0, prev_m = s0;
   for (long long m = 1;; ++m) {
     const double sp = s0 + m * h, sm = s0 - m * h;
@@ -69,11 +69,9 @@ std::optional<double> nearest_zero_of(const Profile& e, const ProjectionEngine& 
 }
 }  // namespace
 
-std::optional<double> nearest_zero(const ProjectionEngine& e, double s0) { return nearest_zero_of(e, e, s0); }
+std::optional<double> nearest_zero(const ProjectionEngine& e, double s0) { return nearest_zero_of(e, s0); }
 
-std::optional<double> nearest_zero(const split::ProfileTable& t, double s0) {
-  return nearest_zero_of(t, t.engine(), s0);
-}
+std::optional<double> nearest_zero(const split::ProfileTable& t, double s0) { return nearest_zero_of(t, s0); }
 
 AngleFlip flip_at_angle(const ProjectionEngine& e, SkyOffset c0, int nominal_sign) {
   AngleFlip f;

@@ -22,7 +22,8 @@ namespace {
 // Kept pixels per grid read up to which an angle's reads go through a profile
 // table: tools/bench_scan (101^2 reads per angle) found the table faster at
 // 7 kept pixels per read (1024^2 map), slower at 14 (2048^2), even near 9
-// (docs/performance.md, "The scan").
+// (docs/performance.md, "The scan"). The scan compares it with the tiles'
+// estimate (ProfileTable::expected_pixels), before building either.
 constexpr double kTabulatedPixelsPerRead = 8.0;
 
 std::vector<double> axis(double centre, double half, double step) {
@@ -98,21 +99,22 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
           smin = std::min(smin, sc);
           smax = std::max(smax, sc);
         }
-      split::EngineOptions eo;
-      eo.with_variance = false;
-      eo.window_lo = smin;
-      eo.window_hi = smax;
-      eo.block_moments = false;  // added below when the engine answers the reads
-      e.rebuild(pr.pixels, S.angles[ia] * degrees, eo, &scratch);
-      // The grid's reads: through a profile table when the engine keeps few
+      // The grid's reads: through a profile table when the window keeps few
       // pixels per read (tabulating costs a few operations per kept pixel,
-      // then saves half of every read), else through the engine itself.
-      const bool tabulate = double(e.pixel_count()) <= kTabulatedPixelsPerRead * double(plane);
-      if (tabulate)
-        table.rebuild(e, 0);
-      else
-        e.add_block_moments();
-      const double Stot = e.total(0);
+      // then saves half of every read), else through a windowed engine.
+      const Angle pa = S.angles[ia] * degrees;
+      const bool tabulate =
+          split::ProfileTable::expected_pixels(pr.pixels, pa, smin, smax) <= kTabulatedPixelsPerRead * double(plane);
+      if (tabulate) {
+        table.rebuild(pr.pixels, pa, smin, smax, 0);
+      } else {
+        split::EngineOptions eo;
+        eo.with_variance = false;
+        eo.window_lo = smin;
+        eo.window_hi = smax;
+        e.rebuild(pr.pixels, pa, eo, &scratch);
+      }
+      const double Stot = tabulate ? table.total() : e.total(0);
       double* out = &S.asymmetry[plane * ia];
       for (int in = 0; in < S.n_north; ++in)
         for (int ie = 0; ie < S.n_east; ++ie)
@@ -132,13 +134,15 @@ ScanSummary scan(const split::SplitProblem& pr, const ScanOptions& o) {
       as.tail_pa_deg = wrap_pa_deg(S.angles[ia]);
       as.fraction_positive = double(pos) / double(plane);
       as.line_pa_deg = std::fmod(wrap_pa_deg(S.angles[ia] + 90.0), 180.0);
-      const double s0 = e.s_of(o.centre);
+      const double s0 = n.east * o.centre.east + n.north * o.centre.north;
       std::optional<double> z = tabulate ? nearest_zero(table, s0) : nearest_zero(e, s0);
+      const double w1 = tabulate ? table.shape().w1 : e.shape().w1;
+      const double s_lo = tabulate ? table.s_min() : e.s_min(), s_hi = tabulate ? table.s_max() : e.s_max();
       as.zero_exact = true;
       // Outside the grid: widen the window about s0 (doubling) until a zero
       // is found or the window covers the whole map; exact every time.
-      for (double X = 2.0 * std::max(smax - s0, s0 - smin) + 4.0 * e.shape().w1;
-           !z && (s0 - X / 2 > e.s_min() || s0 + X / 2 < e.s_max()); X *= 2.0) {
+      for (double X = 2.0 * std::max(smax - s0, s0 - smin) + 4.0 * w1; !z && (s0 - X / 2 > s_lo || s0 + X / 2 < s_hi);
+           X *= 2.0) {
         split::EngineOptions wide;
         wide.with_variance = false;
         wide.window_lo = s0 - X;

@@ -130,12 +130,11 @@ void ProjectionEngine::rebuild(const PixelSet& px, Angle tail_pa, const EngineOp
   if (!(delta_ > 0.0) || !std::isfinite(delta_)) delta_ = 1.0;
   nbins_ = m ? static_cast<long long>(std::floor(range / delta_)) + 1 : 0;
 
-  moments_ = opt.block_moments;
   sort_into_bins(w, px, var, below, above);
 }
 
 // Pass B: counting sort of the kept pixels (w.projected, w.index) into bins,
-// moments per bin, then the prefix and running sums.
+// then the moments per bin, the prefix and the running sums.
 void ProjectionEngine::sort_into_bins(EngineScratch& w, const PixelSet& px, bool var, const double below[2],
                                       const double above[2]) {
   const std::size_t m = w.projected.size();
@@ -159,87 +158,17 @@ void ProjectionEngine::sort_into_bins(EngineScratch& w, const PixelSet& px, bool
   fill.assign(start_.begin(), start_.end() - 1);
   proj_.resize(m);
   val_.resize(m * nc);
-  if (!moments_) {  // only the bins and the prefix of M0 (per bin, in mom_)
-    mom_.assign(static_cast<std::size_t>(nbins_) * nc, 0.0);
-    for (std::size_t j0 = 0; j0 < m; ++j0) {
-      const unsigned k = bin[j0];
-      const std::size_t j = fill[k]++;
-      const std::size_t i = ti[j0];
-      proj_[j] = tp[j0];
-      const double f = F[i];
-      val_[j * nc] = f;
-      mom_[static_cast<std::size_t>(k) * nc] += f;
-      if (nc == 2) {
-        const double v = V ? V[i] : uv;
-        val_[j * nc + 1] = v;
-        mom_[static_cast<std::size_t>(k) * nc + 1] += v;
-      }
-    }
-    running_sums(below, above);
-    return;
-  }
-  mom_.assign(static_cast<std::size_t>(nbins_) * nc * 3, 0.0);
   for (std::size_t j0 = 0; j0 < m; ++j0) {
-    const unsigned k = bin[j0];
-    const std::size_t j = fill[k]++;
-    const double p = tp[j0];
+    const std::size_t j = fill[bin[j0]]++;
     const std::size_t i = ti[j0];
-    proj_[j] = p;
-    const double e = p - block_centre(k / kBlock);
-    double* mm = &mom_[(static_cast<std::size_t>(k) * nc) * 3];
-    const double f = F[i];
-    val_[j * nc] = f;
-    mm[0] += f;
-    mm[1] += f * e;
-    mm[2] += f * e * e;
-    if (nc == 2) {
-      const double v = V ? V[i] : uv;
-      val_[j * nc + 1] = v;
-      mm[3] += v;
-      mm[4] += v * e;
-      mm[5] += v * e * e;
-    }
+    proj_[j] = tp[j0];
+    val_[j * nc] = F[i];
+    if (nc == 2) val_[j * nc + 1] = V ? V[i] : uv;
   }
-  running_sums(below, above);
-}
-
-// The prefix of M0 over all bins (for the G = 1 part) first, then the
-// moments turn into running sums within each block (Q[k] = sum of bins
-// from the block's first to k, about the block centre).
-void ProjectionEngine::running_sums(const double below[2], const double above[2]) {
-  const int nc = channels_;
-  const int stride = moments_ ? 3 : 1;  // M0, M1, M2 per bin and channel, or M0 only
-  prefix_.resize((static_cast<std::size_t>(nbins_) + 1) * nc);  // (every entry is written below)
-  for (int c = 0; c < nc; ++c) {
-    CompensatedSum acc;
-    acc.add(below[c]);
-    prefix_[c] = acc.value();
-    for (long long k = 0; k < nbins_; ++k) {
-      acc.add(mom_[(static_cast<std::size_t>(k) * nc + c) * stride]);
-      prefix_[(k + 1) * nc + c] = acc.value();
-    }
-    acc.add(above[c]);
-    total_[c] = acc.value();
-  }
-  if (moments_) block_running_sums();
-}
-
-// The per-bin moments summed in the blocks' running sums (in place).
-void ProjectionEngine::block_running_sums() {
-  const int nc = channels_;
-  for (long long k = 0; k < nbins_; ++k) {
-    if (k % kBlock == 0) continue;
-    double* q = &mom_[(static_cast<std::size_t>(k) * nc) * 3];
-    const double* qp = q - nc * 3;
-    for (int j = 0; j < nc * 3; ++j) q[j] += qp[j];
-  }
-}
-
-// The moments of the sorted bins, pixel by pixel in bin order: the order in
-// which rebuild() adds them (the counting sort is stable), so the same sums.
-void ProjectionEngine::add_block_moments() {
-  if (moments_ || px_ == nullptr) return;
-  const int nc = channels_;
+  // The moments bin by bin over the sorted pixels: the order in which the
+  // stable sort placed them, so the same sums as adding each pixel while it
+  // is placed, but read in sequence (at 2048^2 the placing order scatters
+  // the moments of ~10^5 bins over several megabytes).
   mom_.assign(static_cast<std::size_t>(nbins_) * nc * 3, 0.0);
   for (long long k = 0; k < nbins_; ++k) {
     const double c = block_centre(k / kBlock);
@@ -258,8 +187,38 @@ void ProjectionEngine::add_block_moments() {
       }
     }
   }
-  moments_ = true;
+  running_sums(below, above);
+}
+
+// The prefix of M0 over all bins (for the G = 1 part) first, then the
+// moments turn into running sums within each block (Q[k] = sum of bins
+// from the block's first to k, about the block centre).
+void ProjectionEngine::running_sums(const double below[2], const double above[2]) {
+  const int nc = channels_;
+  prefix_.resize((static_cast<std::size_t>(nbins_) + 1) * nc);  // (every entry is written below)
+  for (int c = 0; c < nc; ++c) {
+    CompensatedSum acc;
+    acc.add(below[c]);
+    prefix_[c] = acc.value();
+    for (long long k = 0; k < nbins_; ++k) {
+      acc.add(mom_[(static_cast<std::size_t>(k) * nc + c) * 3]);
+      prefix_[(k + 1) * nc + c] = acc.value();
+    }
+    acc.add(above[c]);
+    total_[c] = acc.value();
+  }
   block_running_sums();
+}
+
+// The per-bin moments summed in the blocks' running sums (in place).
+void ProjectionEngine::block_running_sums() {
+  const int nc = channels_;
+  for (long long k = 0; k < nbins_; ++k) {
+    if (k % kBlock == 0) continue;
+    double* q = &mom_[(static_cast<std::size_t>(k) * nc) * 3];
+    const double* qp = q - nc * 3;
+    for (int j = 0; j < nc * 3; ++j) q[j] += qp[j];
+  }
 }
 
 double ProjectionEngine::fallback(double s, int ch) const { return direct_trailing(*px_, tail_pa_, s, ch); }
@@ -274,7 +233,7 @@ double ProjectionEngine::fallback(double s, int ch) const { return direct_traili
 //   sum f (u + w1)^2 = (d + w1)^2 M0 - 2 (d + w1) M1 + M2.
 double ProjectionEngine::trailing(double s, int ch) const {
   if (ch >= channels_ || px_ == nullptr) return 0.0;
-  if (!in_window(s) || !moments_) return fallback(s, ch);
+  if (!in_window(s)) return fallback(s, ch);
   const int nc = channels_;
   if (nbins_ == 0) return prefix_[ch];
   const double w0 = shape_.w0, w1 = shape_.w1;

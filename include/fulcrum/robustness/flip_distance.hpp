@@ -73,8 +73,8 @@ struct FlipSummary {
 // over the whole range where it can change; a windowed engine is searched
 // inside its window only).
 std::optional<double> nearest_zero(const split::ProjectionEngine& engine, double s0);
-// The same search reading A through a profile table of an engine (the
-// scan's reads; the engine's zero up to rounding).
+// The same search reading A through a profile table (the scan's reads; the
+// zero of the engine of the same pixels, angle and window up to rounding).
 std::optional<double> nearest_zero(const split::ProfileTable& table, double s0);
 
 // One angle (nominal sign given: the sign of A at c0 for the nominal angle).

@@ -3,11 +3,11 @@
 // Units and conventions: offsets (east, north) arcsec about the problem's
 // reference centre (plus `centre`), angles are tail PAs in degrees. The grid
 // is east_k = centre.east + (k - (n-1)/2) step, same for north, angles
-// tail_pa + (m - (na-1)/2) angle_step. Every angle costs one engine build
-// (one pass over the pixels); every grid point is then one read: through a
-// profile table of the engine (split/profile_table.hpp, the engine's sums up
-// to rounding) while the engine keeps at most 8 pixels per grid point, else
-// the engine's own read.
+// tail_pa + (m - (na-1)/2) angle_step. Every angle costs one build (one
+// pass over the pixels near the grid's window); every grid point is then one
+// read: through a profile table (split/profile_table.hpp, the engine's sums
+// up to rounding) while the window keeps at most 8 pixels per grid point
+// (estimated from the tiles), else through a windowed projection engine.
 //
 // The FITS cube (write_scan_cube) has axis 1 = east offset, axis 2 = north
 // offset, axis 3 = split angle. Axes 1-2 carry a TAN celestial WCS with CRVAL
@@ -17,8 +17,9 @@
 // east, so the grid has the mirrored parity: east to the right). Axis 3 is a
 // linear axis CTYPE3 = 'TAILPA', CUNIT3 = 'deg'.
 //
-// Each angle's engine is built with the window of s covered by the grid
-// (projection_engine.hpp), so only pixels near the grid's lines are binned.
+// Each angle's table or engine is built with the window of s covered by the
+// grid (projection_engine.hpp), so only pixels near the grid's lines are
+// binned.
 // The zero-crossing line nearest the grid centre is found on the same reads;
 // when it lies outside the grid's s-range the window is widened (doubling)
 // until it is found.

@@ -64,10 +64,6 @@ struct EngineOptions {
   // even read: a build costs the tiles that reach the window.
   double window_lo = 1.0;
   double window_hi = -1.0;
-  // Keep the blocks' running moments that trailing() reads. false: only the
-  // sorted bins and the prefix sums, for a split::ProfileTable that answers
-  // the reads instead (the scan); trailing() is then the direct sum (slow).
-  bool block_moments = true;
 };
 
 // Trailing and leading sums at one s (raw pixel sums, BUNIT x pixel) and the
@@ -94,8 +90,6 @@ struct EngineScratch {
   std::vector<std::size_t> fill;
 };
 
-class ProfileTable;
-
 class ProjectionEngine {
  public:
   // An engine of no pixels (every sum 0); rebuild() before use.
@@ -107,11 +101,6 @@ class ProjectionEngine {
   // outlive the engine's queries, as for the constructor.
   void rebuild(const PixelSet& pixels, Angle tail_pa, const EngineOptions& options = {},
                EngineScratch* scratch = nullptr);
-
-  // An engine built without block moments (EngineOptions::block_moments =
-  // false) computes them now: afterwards it is the engine built with them,
-  // bit for bit. Nothing happens when it has them already.
-  void add_block_moments();
 
   Angle tail_pa() const { return tail_pa_; }
   SkyOffset normal() const { return n_; }
@@ -136,7 +125,6 @@ class ProjectionEngine {
   bool in_window(double s) const { return s >= wlo_ && s <= whi_; }
 
  private:
-  friend class ProfileTable;  // reads the sorted bins (split/profile_table.hpp)
   double fallback(double s, int ch) const;
   void sort_into_bins(EngineScratch& w, const PixelSet& pixels, bool with_variance, const double below[2],
                       const double above[2]);
@@ -151,7 +139,6 @@ class ProjectionEngine {
   SkyOffset n_;
   PixelTrapezoid shape_;
   int channels_ = 1;
-  bool moments_ = true;  // EngineOptions::block_moments
   double smin_ = 0.0, smax_ = 0.0, delta_ = 1.0;  // stored (binned) range
   double pmin_ = 0.0, pmax_ = 0.0;                 // all projected centres
   double total_[2] = {0.0, 0.0};
@@ -159,7 +146,7 @@ class ProjectionEngine {
   std::vector<std::size_t> start_;  // nbins+1: pixel range of each bin
   std::vector<double> proj_;        // p_i in bin order
   std::vector<double> val_;         // channel values in bin order, [i*channels + ch]
-  std::vector<double> mom_;         // running sums in blocks: [(k*channels + ch)*3 + m] (M0 per bin only without block_moments)
+  std::vector<double> mom_;         // running sums in blocks: [(k*channels + ch)*3 + m]
   std::vector<double> prefix_;      // [(k)*channels + ch], k = 0..nbins
 };
 
