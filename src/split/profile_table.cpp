@@ -7,6 +7,7 @@
 #include <cmath>
 #include <limits>
 
+#include "fulcrum/core/compensated_sum.hpp"
 #include "fulcrum/core/error.hpp"
 #include "fulcrum/split/projection_engine.hpp"
 
@@ -20,21 +21,6 @@ constexpr double kQuadraticConditioning = 64.0;
 // Kept pixels per bin aimed at (from the tiles' estimate): a read walks
 // about half a bin per cut, a build pays for the bins' fill pointers.
 constexpr double kPixelsPerBin = 1.5;
-
-// Neumaier-compensated running sum (the engine's: its prefix sums run over up
-// to 1e7 terms).
-struct TableSum {
-  double sum = 0.0, comp = 0.0;
-  void add(double v) {
-    const double t = sum + v;
-    if (std::abs(sum) >= std::abs(v))
-      comp += (sum - t) + v;
-    else
-      comp += (v - t) + sum;
-    sum = t;
-  }
-  double value() const { return sum + comp; }
-};
 
 // The window as a windowed engine pads it (projection_engine.cpp), and the
 // range of p it keeps: pixels within w1 (and a rounding margin) of it.
@@ -262,7 +248,7 @@ void ProfileTable::sort_kept() {
 void ProfileTable::make_segments() {
   const std::size_t m = m_;
   const double above = top_;
-  TableSum acc;
+  CompensatedSum acc;
   acc.add(below_);
   below_ = acc.value();
   const double w1 = shape_.w1;

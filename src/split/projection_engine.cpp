@@ -7,25 +7,10 @@
 #include <cmath>
 #include <limits>
 
+#include "fulcrum/core/compensated_sum.hpp"
 #include "fulcrum/core/error.hpp"
 
 namespace fulcrum::split {
-
-namespace {
-// Neumaier-compensated running sum (the prefix sums run over up to 1e7 bins).
-struct CompensatedSum {
-  double sum = 0.0, comp = 0.0;
-  void add(double v) {
-    const double t = sum + v;
-    if (std::abs(sum) >= std::abs(v))
-      comp += (sum - t) + v;
-    else
-      comp += (v - t) + sum;
-    sum = t;
-  }
-  double value() const { return sum + comp; }
-};
-}  // namespace
 
 ProjectionEngine::ProjectionEngine(const PixelSet& px, Angle tail_pa, const EngineOptions& opt) {
   rebuild(px, tail_pa, opt);
