@@ -60,12 +60,10 @@ const ZigguratTable& ziggurat_table() {
   return table;
 }
 
-}  // namespace
-
-double Random::normal_ziggurat() {
-  const ZigguratTable& t = ziggurat_table();
-  for (;;) {
-    const std::uint64_t b = engine_();
+// One deviate from the engine output b (the first try) and, when that try
+// is rejected, further outputs of r: normal_ziggurat()'s loop.
+double ziggurat_from(std::uint64_t b, const ZigguratTable& t, Random& r) {
+  for (;; b = r.bits()) {
     const int i = static_cast<int>(b & 0xFF);
     const double sign = (b & 0x100) ? -1.0 : 1.0;
     const double u = static_cast<double>(b >> 11) * 0x1.0p-53;  // [0, 1)
@@ -75,13 +73,29 @@ double Random::normal_ziggurat() {
       // The tail beyond r: r + a with a exponential of rate r, accepted
       // with probability exp(-a^2 / 2) (Marsaglia 1964).
       for (;;) {
-        const double a = -std::log(uniform()) / ZigguratTable::kR;
-        const double e = -std::log(uniform());
+        const double a = -std::log(r.uniform()) / ZigguratTable::kR;
+        const double e = -std::log(r.uniform());
         if (2.0 * e > a * a) return sign * (ZigguratTable::kR + a);
       }
     }
     // The wedge between the rectangle and the curve.
-    if (t.f[i] + uniform() * (t.f[i + 1] - t.f[i]) < std::exp(-0.5 * z * z)) return sign * z;
+    if (t.f[i] + r.uniform() * (t.f[i + 1] - t.f[i]) < std::exp(-0.5 * z * z)) return sign * z;
+  }
+}
+
+}  // namespace
+
+double Random::normal_ziggurat() { return ziggurat_from(engine_(), ziggurat_table(), *this); }
+
+void Random::normal_ziggurat(double* out, std::size_t n) {
+  const ZigguratTable& t = ziggurat_table();
+  for (std::size_t k = 0; k < n; ++k) {
+    // The first try inline (it is accepted ~99% of the time), as in
+    // ziggurat_from; any other outcome goes there with the same bits.
+    const std::uint64_t b = engine_();
+    const int i = static_cast<int>(b & 0xFF);
+    const double z = static_cast<double>(b >> 11) * 0x1.0p-53 * t.x[i];
+    out[k] = z < t.x[i + 1] ? ((b & 0x100) ? -1.0 : 1.0) * z : ziggurat_from(b, t, *this);
   }
 }
 

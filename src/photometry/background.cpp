@@ -41,7 +41,8 @@ BackgroundSummary estimate_background(const std::vector<double>& values,
   }
   s.n_input = kept.size();
   if (kept.empty()) return s;
-  double med = median_of(kept), sd = 0.0;
+  double med = 0.0, sd = 0.0;
+  bool med_current = false;  // med is the median of `kept` as it is now
   for (int it = 0; it < options.max_iterations; ++it) {
     s.iterations = it + 1;
     med = median_of(kept);
@@ -58,12 +59,13 @@ BackgroundSummary estimate_background(const std::vector<double>& values,
       if (std::abs(v - med) <= cut) next.push_back(v);
     const bool same = next.size() == kept.size();
     kept.swap(next);
+    med_current = same;  // nothing clipped: the same values in the same order
     if (same || kept.size() < 3) {
       s.converged = same;
       break;
     }
   }
-  s.level = median_of(kept);
+  s.level = med_current ? med : median_of(kept);
   double mean = 0.0;
   for (double v : kept) mean += v;
   mean /= static_cast<double>(std::max<std::size_t>(kept.size(), 1));

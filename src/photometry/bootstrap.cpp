@@ -43,18 +43,25 @@ BootstrapSummary bootstrap_centre(const PreparedImage& p, const Estimator& estim
 #pragma omp parallel
   {
     std::vector<double> d = p.data;  // this thread's working copy
+    std::vector<double> deviates(static_cast<std::size_t>(w.x1 - w.x0 + 1));
 #pragma omp for schedule(dynamic)
     for (int k = 0; k < o.draws; ++k) {
       // The project's own normal deviates (the ziggurat on mt19937_64), not
       // std::normal_distribution, whose algorithm differs between standard
-      // libraries: the same seed gives the same centres everywhere.
+      // libraries: the same seed gives the same centres everywhere. One
+      // deviate per finite pixel in row order, drawn a row at a time.
       Random rng(mix_seed(o.seed, tag, static_cast<std::uint64_t>(k)));
-      for (int y = w.y0; y <= w.y1; ++y)
+      for (int y = w.y0; y <= w.y1; ++y) {
+        const std::size_t row = static_cast<std::size_t>(p.nx) * y;
+        std::size_t finite = 0;
+        for (int x = w.x0; x <= w.x1; ++x) finite += std::isfinite(p.data[row + x]) ? 1 : 0;
+        rng.normal_ziggurat(deviates.data(), finite);
+        std::size_t j = 0;
         for (int x = w.x0; x <= w.x1; ++x) {
-          const std::size_t i = static_cast<std::size_t>(x) + static_cast<std::size_t>(p.nx) * y;
-          const double v = p.data[i];
-          d[i] = std::isfinite(v) ? v + noise_rms * rng.normal_ziggurat() : v;
+          const double v = p.data[row + x];
+          d[row + x] = std::isfinite(v) ? v + noise_rms * deviates[j++] : v;
         }
+      }
       results[static_cast<std::size_t>(k)] = estimator(d);
     }
   }

@@ -313,7 +313,12 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
     SymmetryOptions sd = so;
     sd.tolerance_pixels = std::max(so.tolerance_pixels, kSymmetryDrawTolerancePixels);
     if (e.ok) sd.aperture_centre = e.centre;
-    auto est = [&](const std::vector<double>& d) { return estimate_symmetry_centre(p, d, sd); };
+    // Every draw has the usable pixels of p.data, so the aperture's pixels
+    // are found once (SymmetryDraws: the same centres as
+    // estimate_symmetry_centre).
+    std::optional<SymmetryDraws> draws;
+    if (e.ok) draws.emplace(p, sd);
+    auto est = [&](const std::vector<double>& d) { return draws->estimate(d); };
     attach_bootstrap(c, p, est, o, window);
     s.centres.push_back(std::move(c));
   }

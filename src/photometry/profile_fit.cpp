@@ -63,7 +63,7 @@ class SersicRenderer {
   // params: x0, y0, ln Ie, ln re, n, e1, e2. out: w*h values (no background).
   void render(const double* q, std::vector<double>& out) const {
     const Shape sh(q, jac_);
-    raw_.assign(static_cast<std::size_t>(rw_ * rh_), 0.0);
+    raw_.resize(static_cast<std::size_t>(rw_ * rh_));  // every element written below
     for (int y = 0; y < rh_; ++y)
       for (int x = 0; x < rw_; ++x) {
         const double px = x - m_ + x0_ - sh.cx, py = y - m_ + y0_ - sh.cy;
@@ -91,8 +91,8 @@ class SersicRenderer {
                                std::array<std::vector<double>, 7>& d) const {
     const Shape sh(q, jac_);
     const std::size_t nr = static_cast<std::size_t>(rw_ * rh_);
-    raw_.assign(nr, 0.0);
-    for (auto& r : rawd_) r.assign(nr, 0.0);
+    raw_.resize(nr);  // every element written below
+    for (auto& r : rawd_) r.resize(nr);
     double g[7];
     for (int y = 0; y < rh_; ++y)
       for (int x = 0; x < rw_; ++x) {
@@ -208,10 +208,10 @@ class SersicRenderer {
   };
 
   void convolve(const std::vector<double>& raw, std::vector<double>& out) const {
-    out.assign(static_cast<std::size_t>(w_ * h_), 0.0);
+    out.resize(static_cast<std::size_t>(w_ * h_));  // every element written below
     if (separable_) {
       // Along x on rows that cover the output plus the y margin, then along y.
-      tmp_.assign(static_cast<std::size_t>(w_ * rh_), 0.0);
+      tmp_.resize(static_cast<std::size_t>(w_ * rh_));
       for (int y = 0; y < rh_; ++y)
         for (int x = 0; x < w_; ++x) {
           double acc = 0;

@@ -19,6 +19,7 @@ std::vector<double> smooth_to_fwhm(const std::vector<double>& data, int nx, int 
   SmoothOptions opt;
   opt.normalise_missing = true;
   opt.fill_missing = false;
+  opt.separable = true;  // a round kernel: along x, then y, on square pixels
   return convolve_gaussian(data, nx, ny, cov, opt);
 }
 

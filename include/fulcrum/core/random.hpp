@@ -41,6 +41,7 @@
 // docs/conventions.md lists the stream ids in use.
 #pragma once
 
+#include <cstddef>
 #include <cstdint>
 #include <random>
 
@@ -71,6 +72,9 @@ class Random {
   double normal();
   // Standard normal deviate (ziggurat; see above).
   double normal_ziggurat();
+  // n of them into out[0 .. n - 1]: the same numbers as n calls of
+  // normal_ziggurat(), without a call per deviate.
+  void normal_ziggurat(double* out, std::size_t n);
   // Uniform whole number in [0, n), n > 0.
   std::uint64_t below(std::uint64_t n);
   // The raw engine output (64 random bits).

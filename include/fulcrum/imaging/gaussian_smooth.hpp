@@ -27,6 +27,14 @@ struct SmoothOptions {
   bool normalise_missing = true;
   bool fill_missing = false;
   double truncate_sigma = 4.0;  // kernel radius in units of its sigma
+  // When the pixel covariance has no x-y term (an axis-aligned kernel, e.g.
+  // a round one on square pixels, rotated or not; a term below 1e-14 of the
+  // trace, which rounding leaves, counts as none): sum along x on every row, then
+  // along y, (2hx + 1) + (2hy + 1) taps per pixel instead of (2hx + 1)(2hy +
+  // 1). The same result as the direct sum to round-off (not bit for bit:
+  // another order of additions). A rotated kernel always takes the direct
+  // sum.
+  bool separable = false;
 };
 
 // A Gaussian sampled at integer pixel lags (dx, dy) in [-hx, hx] x [-hy, hy]

@@ -93,7 +93,8 @@ SourceMaskSummary find_and_mask_sources(const std::vector<double>& data, int nx,
                                         const SourceMaskOptions& options = {});
 
 // Gaussian smoothing of `data` (NaN = missing, normalised convolution) with a
-// circular sky Gaussian of FWHM `fwhm_arcsec`.
+// circular sky Gaussian of FWHM `fwhm_arcsec`; separable (SmoothOptions::
+// separable) on square pixels.
 std::vector<double> smooth_to_fwhm(const std::vector<double>& data, int nx, int ny,
                                    const Eigen::Matrix2d& jacobian, double fwhm_arcsec);
 

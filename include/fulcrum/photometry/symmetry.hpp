@@ -21,6 +21,7 @@
 // No covariance of its own: the uncertainty is the noise bootstrap.
 #pragma once
 
+#include <memory>
 #include <optional>
 #include <vector>
 
@@ -46,5 +47,23 @@ double rotational_asymmetry(const PreparedImage& p, const std::vector<double>& d
 
 PixelEstimate estimate_symmetry_centre(const PreparedImage& p, const std::vector<double>& data,
                                        const SymmetryOptions& options = {});
+
+// The symmetry centre of many images whose usable (finite) pixels are those
+// of p.data, such as the noise bootstrap's draws (noise is added to finite
+// pixels only): estimate(data) gives what estimate_symmetry_centre(p, data,
+// options) gives, bit for bit, with the aperture's pixels and the
+// finiteness flags found once here. options.aperture_centre must be set
+// (one search round); `p` must outlive this object.
+class SymmetryDraws {
+ public:
+  SymmetryDraws(const PreparedImage& p, const SymmetryOptions& options);
+  PixelEstimate estimate(const std::vector<double>& data) const;
+
+ private:
+  struct Shared;
+  const PreparedImage& p_;
+  SymmetryOptions o_;
+  std::shared_ptr<const Shared> shared_;
+};
 
 }  // namespace fulcrum::photometry
