@@ -21,7 +21,8 @@ temporary folder, and prints one table row per preset:
 
 usage:
   /usr/bin/python3 tools/coverage_study.py --fulcrum build/fulcrum --n 40 --jobs 2 \
-      [--presets bright,faint,null,centre-trap] [--kinematics-only] [--clip-snr 3] [--set scatter_kms=8] [--json OUT.json]
+      [--presets bright,faint,null,centre-trap] [--kinematics-only] [--clip-snr 3] [--set scatter_kms=8]
+      [--no-velocity-error] [--json OUT.json]
 
 The mocks are made by tests/python/mockgen.py (numpy/scipy/astropy), not by
 fulcrum. Nothing here is timed; it is a benchmark-sized study (minutes), and
@@ -124,7 +125,7 @@ def drop_islands(d, min_pixels):
 
 def one_realisation(args):
     """Generate, fit and analyse one realisation; returns a result dict."""
-    preset, seed, fulcrum, kin_only, draws, keep, islands, clip_snr, tail_err, overrides = args
+    preset, seed, fulcrum, kin_only, draws, keep, islands, clip_snr, tail_err, overrides, no_verr = args
     d = tempfile.mkdtemp(prefix=f"cov_{preset}_{seed}_")
     try:
         truth = mockgen.generate(preset, seed, d, **overrides)
@@ -133,16 +134,19 @@ def one_realisation(args):
         log = os.path.join(d, "log.txt")
         res = {"preset": preset, "seed": seed, "A_expected": truth["A_expected"]}
         kj = os.path.join(d, "kin.json")
-        run([fulcrum, "--quiet", "kinematics", "--velocity", f"{d}/velocity.fits", "--velocity-error",
-             f"{d}/velocity_error.fits", "--intensity", f"{d}/intensity.fits", "--json", kj], log)
+        # The velocity error map, unless the study runs without one (as many
+        # delivered velocity fields come).
+        verr = [] if no_verr else ["--velocity-error", f"{d}/velocity_error.fits"]
+        run([fulcrum, "--quiet", "kinematics", "--velocity", f"{d}/velocity.fits", *verr,
+             "--intensity", f"{d}/intensity.fits", "--json", kj], log)
         if os.path.exists(kj):
             res.update(kinematics_result(json.load(open(kj)), truth))
         else:
             res["status"] = "no output"
         if not kin_only:
             out = os.path.join(d, "analysis")
-            cmd = [fulcrum, "--quiet", "analyse", "--velocity", f"{d}/velocity.fits", "--velocity-error",
-                   f"{d}/velocity_error.fits", "--intensity", f"{d}/intensity.fits", "--intensity-error",
+            cmd = [fulcrum, "--quiet", "analyse", "--velocity", f"{d}/velocity.fits", *verr,
+                   "--intensity", f"{d}/intensity.fits", "--intensity-error",
                    f"{d}/intensity_error.fits", "--tail-pa", str(truth["tail_pa_deg"]), "--tail-pa-err", str(tail_err),
                    "--seed", str(seed), "--draws", str(draws), "--no-figures", "--out", out]
             if preset == "centre-trap":
@@ -248,6 +252,8 @@ def main(argv):
                          "interval of A is compared with A_expected at that angle)")
     ap.add_argument("--set", action="append", default=[], metavar="KEY=VALUE",
                     help="override a mockgen.py parameter of every preset (numbers), e.g. scatter_kms=8")
+    ap.add_argument("--no-velocity-error", action="store_true",
+                    help="give fulcrum no velocity error map (the fit then takes its noise from the residuals)")
     ap.add_argument("--json", help="write the per-run results and the summary here")
     a = ap.parse_args(argv)
     if not os.access(a.fulcrum, os.X_OK):
@@ -270,7 +276,7 @@ def main(argv):
             print(f"coverage_study.py: --set: '{kv}': the value is not a number", file=sys.stderr)
             return 2
     tasks = [(p, a.first_seed + i, os.path.abspath(a.fulcrum), a.kinematics_only, a.draws, a.keep, a.drop_islands,
-              a.clip_snr, a.tail_pa_err, overrides) for p in presets for i in range(a.n)]
+              a.clip_snr, a.tail_pa_err, overrides, a.no_velocity_error) for p in presets for i in range(a.n)]
     with cf.ProcessPoolExecutor(max_workers=max(1, a.jobs)) as ex:
         results = list(ex.map(one_realisation, tasks))
     summary = {p: summarise([r for r in results if r["preset"] == p]) for p in presets}

@@ -92,7 +92,7 @@ void run_calibrate(CalibrateArgs& a, CLI::App* cmd) {
     co.n_draws = mock_draws;
     co.refit_centre = !a.no_refit;
     co.refit_every = refit_every;
-    co.chain.bootstrap_estimates = summary.bootstrap_from_estimates;
+    pipeline::take_summary_settings(summary, co);
     auto s = calibration::calibrate(mi, co);
     nlohmann::json j = calibration::to_json(s, a.per_mock);
     j["galaxy"] = s.galaxy;

@@ -89,7 +89,12 @@ void read_kinematics(const Fields& k, GalaxySummary& s) {
   r.fit.inc_deg = k.number("inc_deg");
   r.fit.vsys_kms = k.number("vsys_kms");
   // What the calibration's mocks take from the fit (calibrate --from): the
-  // velocity scatter beyond the error map and the centre re-fit factor.
+  // residual rms (their velocity noise without an error map), the velocity
+  // scatter beyond the error map and the centre re-fit factor.
+  if (k.has("diagnostics") && k.at("diagnostics").is_object()) {
+    const Fields d = k.sub("diagnostics");
+    if (d.has("residual_rms_kms")) r.fit.diagnostics.residual_rms_kms = d.number("residual_rms_kms");
+  }
   if (k.has("velocity_scatter") && k.at("velocity_scatter").is_object()) {
     const Fields vs = k.sub("velocity_scatter");
     if (vs.has("scatter_kms")) r.fit.scatter.scatter_kms = vs.number("scatter_kms");

@@ -14,12 +14,16 @@ namespace {
 constexpr std::uint64_t kCentreBootstrapStream = 0x63656e7472656669ull;  // "centrefi"
 
 // What the mocks take from the kinematic fit besides its centre and rings:
-// the disc's orientation and vsys, the extra velocity scatter, and the
-// residual scale's expectation (shared by every re-fit).
+// the disc's orientation and vsys, the extra velocity scatter, the residual
+// scale's expectation (shared by every re-fit), and the velocity noise for a
+// map without an error map: the fit's residual rms, which is then the data's
+// only measure of its noise (as in the fit's own errors), instead of a fixed
+// guess.
 void put_fitted_geometry(const kinematics::KinematicFit& fit, calibration::MatchedInputs& in) {
   in.pa_deg = fit.pa_deg;
   in.inc_deg = fit.inc_deg;
   in.vsys_kms = fit.vsys_kms;
+  if (fit.diagnostics.residual_rms_kms > 0.0) in.velocity_noise_kms = fit.diagnostics.residual_rms_kms;
   in.velocity_scatter_kms = fit.scatter.scatter_kms;
   in.expected_residual_fraction = fit.centre_errors.expected_residual_fraction;
 }
@@ -81,6 +85,11 @@ calibration::MatchedInputs matched_inputs(const GalaxySummary& s, const GalaxyMa
   for (const auto& c : s.centres)
     if (c.ok() && c.method != CentreMethod::kinematic_rings) in.estimates.push_back(c);
   return in;
+}
+
+void take_summary_settings(const GalaxySummary& s, calibration::CalibrationOptions& co) {
+  co.chain.bootstrap_estimates = s.bootstrap_from_estimates;
+  if (s.centre_bootstrap && s.centre_bootstrap->applied) co.centre_covariance_scale2 = s.centre_bootstrap->scale2;
 }
 
 CalibrationResult calibrate_verdict(const GalaxySummary& s, const GalaxyMaps& maps, const AnalysisOptions& opt) {

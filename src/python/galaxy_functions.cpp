@@ -213,7 +213,7 @@ py::dict calibrate(const GalaxyArguments& a, const Summary* from, const py::obje
       summary = pipeline::analyse_galaxy(in, maps, o).summary;
     }
     co.seed = summary.robustness && !given_seed ? summary.seed : given_seed.value_or(1);
-    co.chain.bootstrap_estimates = summary.bootstrap_from_estimates;
+    pipeline::take_summary_settings(summary, co);
     const calibration::MatchedInputs mi = pipeline::matched_inputs(summary, maps);
     return Out{calibration::calibrate(mi, co), summary.verdict};
   });

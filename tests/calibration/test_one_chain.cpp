@@ -69,6 +69,11 @@ TEST_CASE("one mock through the single-galaxy analysis and the calibration's per
 
   const auto maps = pipeline::load_galaxy_maps(in);
   const auto mi = pipeline::matched_inputs(s, maps);
+  // No velocity error map: the mocks' velocity noise is the data fit's
+  // residual rms (not a fixed guess).
+  REQUIRE(s.kinematics);
+  CHECK(s.kinematics->fit.diagnostics.residual_rms_kms > 0.0);
+  CHECK(mi.velocity_noise_kms == s.kinematics->fit.diagnostics.residual_rms_kms);
   calibration::CalibrationOptions co;
   co.seed = opt.seed;
   co.n_draws = static_cast<std::size_t>(opt.draws);
@@ -101,5 +106,6 @@ TEST_CASE("one mock through the single-galaxy analysis and the calibration's per
     CHECK(mi2.ring_vrot_kms == mi.ring_vrot_kms);
     CHECK(mi2.centre.position.dec_deg == mi.centre.position.dec_deg);
     CHECK(mi2.velocity_scatter_kms == mi.velocity_scatter_kms);
+    CHECK(mi2.velocity_noise_kms == mi.velocity_noise_kms);
   }
 }

@@ -73,7 +73,9 @@ struct MatchedInputs {
   double rms = 0.0;
   const Image* velocity = nullptr;         // optional: the real velocity map (grid and blanks)
   const Image* velocity_error = nullptr;   // optional per-pixel 1-sigma (km/s)
-  double velocity_noise_kms = 5.0;         // used when no velocity error map is given
+  // 1-sigma velocity noise (km/s) of every pixel when no velocity error map
+  // is given; the pipeline puts the data fit's residual rms here.
+  double velocity_noise_kms = 5.0;
   // The velocity scatter the error map does not describe, as the real fit
   // measured it (kinematics/velocity_scatter.hpp; km/s): added to the mock
   // velocities as a field of its own with the noise's beam correlation, so

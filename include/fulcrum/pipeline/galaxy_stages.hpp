@@ -51,6 +51,11 @@ std::optional<MolecularGasResult> molecular_gas(const GalaxyInput& input, const 
 // calibration: matched mocks of this galaxy (calibration/calibration.hpp)
 // from the typed summary and the already-loaded maps.
 calibration::MatchedInputs matched_inputs(const GalaxySummary& summary, const GalaxyMaps& maps);
+// What a calibration asked for by name (`fulcrum calibrate`, the Python
+// calibrate) takes from a finished analysis: whether its bootstrap drew the
+// other estimates, and its centre re-fit bootstrap's covariance factor (the
+// re-fitted mocks' covariances get the data's factor).
+void take_summary_settings(const GalaxySummary& summary, calibration::CalibrationOptions& options);
 CalibrationResult calibrate_verdict(const GalaxySummary& summary, const GalaxyMaps& maps,
                                     const AnalysisOptions& options);
 // The parametric bootstrap of the tilted-ring centre's covariance
