@@ -86,6 +86,17 @@ robustness::AnalysisOptions direct_options(const calibration::MatchedInputs& in,
   return ao;
 }
 
+// Options of the small checks: n mocks per set, seed 3, `draws` draws per
+// mock, no progress line.
+calibration::CalibrationOptions quick_options(std::size_t n, std::size_t draws = 200) {
+  calibration::CalibrationOptions co;
+  co.n_mocks = n;
+  co.seed = 3;
+  co.n_draws = draws;
+  co.progress = false;
+  return co;
+}
+
 // A fixed mask: blank a disc of 3 arcsec radius on the receding major axis
 // plus the corner pixels, the same for every mock.
 Image masked(const Image& m) {
@@ -182,13 +193,9 @@ TEST_CASE("calibration: same seed gives the same numbers, any thread count, and 
   const auto p = synth::make_mock(g);
   const Image map = p.intensity;
   auto in = inputs_for(g, p, map, 0.1);
-  calibration::CalibrationOptions co;
-  co.n_mocks = 12;
-  co.seed = 3;
-  co.n_draws = 200;
+  auto co = quick_options(12);
   co.refit_centre = true;
   co.refit_every = 1;  // every mock (the default re-fits every 4th)
-  co.progress = false;
   auto a = calibration::calibrate(in, co);
 #ifdef _OPENMP
   const int nt = omp_get_max_threads();
@@ -213,11 +220,7 @@ TEST_CASE("calibration with shared re-fits: the mocks adopt the successful ones 
   const auto p = synth::make_mock(g);
   const Image map = p.intensity;
   auto in = inputs_for(g, p, map, 0.1);
-  calibration::CalibrationOptions co;
-  co.n_mocks = 5;
-  co.seed = 3;
-  co.n_draws = 200;
-  co.progress = false;
+  auto co = quick_options(5);
   co.centre_covariance_scale2 = 1.5;
   // Three re-fits as a centre bootstrap would leave them: m^2 = d^T C^-1 d
   // of the truth, 0.5^2 / 0.04 = 6.25 and 0.3^2 / 0.09 = 1, one failed.
@@ -260,12 +263,8 @@ TEST_CASE("calibration says so when the amplitude tuning cannot reach the measur
   const auto g = small_galaxy(0.0, 23);
   const auto p = synth::make_mock(g);
   auto in = inputs_for(g, p, p.intensity, 0.95);
-  calibration::CalibrationOptions co;
-  co.n_mocks = 2;
-  co.seed = 3;
-  co.n_draws = 100;
+  auto co = quick_options(2, 100);
   co.refit_centre = false;
-  co.progress = false;
   const auto s = calibration::calibrate(in, co);
   INFO(s.statement);
   CHECK_FALSE(s.tuning_converged);
