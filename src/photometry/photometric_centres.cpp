@@ -318,7 +318,9 @@ PhotometrySummary measure_photometric_centres(const Image& optical, const Image*
     // estimate_symmetry_centre).
     std::optional<SymmetryDraws> draws;
     if (e.ok) draws.emplace(p, sd);
-    auto est = [&](const std::vector<double>& d) { return draws->estimate(d); };
+    auto est = [&](const std::vector<double>& d) {
+      return draws ? draws->estimate(d) : PixelEstimate::failure("no symmetry centre to draw about");
+    };
     attach_bootstrap(c, p, est, o, window);
     s.centres.push_back(std::move(c));
   }

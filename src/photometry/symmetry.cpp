@@ -59,10 +59,16 @@ struct FiniteImage {
   std::vector<double> zeroed, usable;
 };
 
+// `data` with its non-finite values set to 0.
+std::vector<double> zeroed_copy(const std::vector<double>& data) {
+  std::vector<double> z(data.size());
+  for (std::size_t i = 0; i < data.size(); ++i) z[i] = std::isfinite(data[i]) ? data[i] : 0.0;
+  return z;
+}
+
 FiniteImage finite_image(const PreparedImage& p, const std::vector<double>& data) {
   FiniteImage fi;
-  fi.zeroed.resize(data.size());
-  for (std::size_t i = 0; i < data.size(); ++i) fi.zeroed[i] = std::isfinite(data[i]) ? data[i] : 0.0;
+  fi.zeroed = zeroed_copy(data);
   fi.usable.assign(data.size(), 0.0);
   for (int y = 0; y + 1 < p.ny; ++y)
     for (int x = 0; x + 1 < p.nx; ++x) {
@@ -407,8 +413,7 @@ PixelEstimate SymmetryDraws::estimate(const std::vector<double>& data) const {
   // non-finite values set to 0 (the same pixels as in p.data).
   ApertureValues v;
   read_values(shared_->aperture, data, v);
-  std::vector<double> zeroed(data.size());
-  for (std::size_t i = 0; i < data.size(); ++i) zeroed[i] = std::isfinite(data[i]) ? data[i] : 0.0;
+  const std::vector<double> zeroed = zeroed_copy(data);
   PixelCoord c = o_.start.value_or(p_.guess);
   Minimum m;
   int evaluations = 0;

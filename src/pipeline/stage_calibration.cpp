@@ -99,11 +99,9 @@ CalibrationResult calibrate_verdict(const GalaxySummary& s, const GalaxyMaps& ma
     co.n_mocks = static_cast<std::size_t>(opt.calibrate);
     co.seed = opt.seed;
     co.chain = chain_settings(opt);
+    take_summary_settings(s, co);
     // The centre bootstrap's re-fits serve the mocks too (their centres).
-    if (s.centre_bootstrap && s.centre_bootstrap->applied) {
-      co.centre_covariance_scale2 = s.centre_bootstrap->scale2;
-      co.shared_refits = s.centre_bootstrap->outcomes;
-    }
+    if (s.centre_bootstrap && s.centre_bootstrap->applied) co.shared_refits = s.centre_bootstrap->outcomes;
     r.summary = calibration::calibrate(matched_inputs(s, maps), co);
   } catch (const InputError& e) {
     r.failure = e.what();
