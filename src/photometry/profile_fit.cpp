@@ -10,6 +10,7 @@
 #include <memory>
 #include <numbers>
 
+#include "fulcrum/core/jacobian_covariance.hpp"
 #include "fulcrum/imaging/gaussian_smooth.hpp"
 #include "fulcrum/io/beam.hpp"
 #include "fulcrum/photometry/centroid.hpp"
@@ -412,21 +413,22 @@ PixelEstimate fit_sersic_profile(const PreparedImage& p, const std::vector<doubl
       by1 - q[1] < edge_tol)
     return PixelEstimate::failure("the profile fit's centre ran to the edge of the fit box");
 
-  ceres::Covariance::Options co;
-  co.algorithm_type = ceres::DENSE_SVD;
-  co.null_space_rank = -1;
-  co.num_threads = 1;
-  ceres::Covariance cov(co);
-  std::vector<std::pair<const double*, const double*>> blocks{{q, q}};
-  if (!cov.Compute(blocks, &problem))
+  // The covariance from the Jacobian at the solution (the same pseudo-inverse
+  // as Ceres's DENSE_SVD covariance, without forming the residual basis).
+  Eigen::Matrix<double, Eigen::Dynamic, 8, Eigen::RowMajor> jac(index.size(), 8);
+  std::vector<double> resid(index.size());
+  const double* qp = q;
+  double* jp = jac.data();
+  if (!cost->Evaluate(&qp, resid.data(), &jp))
     return PixelEstimate::failure("the covariance of the profile fit could not be computed");
-  double c8[64];
-  cov.GetCovarianceBlock(q, q, c8);
+  const JacobianCovariance jc = covariance_from_jacobian(jac);
+  if (!jc.ok) return PixelEstimate::failure("the covariance of the profile fit could not be computed");
+  const Eigen::MatrixXd& c8 = jc.cov;
   const int dof = static_cast<int>(index.size()) - npar;
   const double chi2_red = 2.0 * sum.final_cost / std::max(dof, 1);
   const double scale = o.scale_covariance_by_chi2 ? chi2_red : 1.0;
   Eigen::Matrix2d cp;
-  cp << c8[0], c8[1], c8[8], c8[9];
+  cp << c8(0, 0), c8(0, 1), c8(1, 0), c8(1, 1);
   cp *= scale;
 
   const double eps = std::min(std::hypot(q[5], q[6]), 0.95);
@@ -435,7 +437,7 @@ PixelEstimate fit_sersic_profile(const PreparedImage& p, const std::vector<doubl
   e.centre = {q[0], q[1]};
   e.cov_pixels = cp;
   e.details = {{"sersic_n", q[4]},
-               {"sersic_n_sigma", std::sqrt(std::max(c8[4 * 8 + 4] * scale, 0.0))},
+               {"sersic_n_sigma", std::sqrt(std::max(c8(4, 4) * scale, 0.0))},
                {"re_arcsec", std::exp(q[3])},
                {"axis_ratio", (1.0 - eps) / (1.0 + eps)},
                {"pa_deg", std::fmod(0.5 * std::atan2(q[6], q[5]) * 180.0 / std::numbers::pi + 360.0, 180.0)},
