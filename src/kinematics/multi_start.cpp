@@ -60,10 +60,19 @@ std::vector<DiscGeometry> start_grid(const VelocitySamples& s, const FirstGuess&
     if (std::hypot(m.east - g.centre.east, m.north - g.centre.north) > 0.25 * fit.ring_width_arcsec)
       centres.push_back(m);
   }
+  // PA + 180 deg with the speeds' signs swapped is the same model (and the
+  // node speeds are guessed from the data, so they swap with it): a start
+  // whose flip is already in the grid would repeat that scout's fit (not so
+  // when the speeds are given: then the flip starts them counter-rotating).
   std::vector<double> pas{g.pa_deg};
   if (!o.pa_given && !fit.fix_pa)
-    for (int k = 1; k < std::max(1, o.pa_starts); ++k)
-      pas.push_back(wrap_pa_deg(g.pa_deg + 360.0 * k / o.pa_starts));
+    for (int k = 1; k < std::max(1, o.pa_starts); ++k) {
+      const double pa = wrap_pa_deg(g.pa_deg + 360.0 * k / o.pa_starts);
+      const bool flip_present = std::any_of(pas.begin(), pas.end(), [pa](double q) {
+        return std::abs(std::abs(angle_diff_deg(pa, q)) - 180.0) < 1e-6;
+      });
+      if (!flip_present || !fit.start_vrot.empty()) pas.push_back(pa);
+    }
   std::vector<DiscGeometry> starts;
   for (const auto& c : centres)
     for (double pa : pas) starts.push_back(DiscGeometry{c, pa, g.inc_deg, g.vsys_kms});

@@ -7,8 +7,9 @@
 // fit of global_fit.hpp on a thinned set of at most `scout_samples` pixels,
 // `scout_passes` passes) from a grid of starts:
 //   * PA: the first-guess (velocity-gradient) PA plus every 360/`pa_starts`
-//     deg (8: every 45 deg, which includes the flipped PA), or only the PA the
-//     user gave;
+//     deg, or only the PA the user gave. PA + 180 deg is the same model with
+//     the speeds' signs swapped, so a start whose flip is already in the grid
+//     is not run again (8: four scouts, every 45 deg over half a turn);
 //   * centre: the first-guess centre (footprint centroid) and the coordinate-
 //     wise median of the footprint when the two differ by more than a
 //     quarter of the ring width, or only the centre the user gave;
