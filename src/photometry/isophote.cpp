@@ -7,6 +7,7 @@
 #include <array>
 #include <cmath>
 #include <numbers>
+#include <unordered_map>
 
 namespace fulcrum::photometry {
 
@@ -26,17 +27,19 @@ struct Harmonics {
 };
 
 // cos E, sin E, sin 2E, cos 2E at E_k = 2 pi (k + 1/2) / n, k < n: the same
-// for every ellipse with n samples, so kept per thread for the last n used.
+// for every ellipse with n samples, so kept per thread for each n met (n
+// follows the ellipse's circumference, which changes from step to step of
+// the iteration; at most 256 tables are kept, cleared when full).
 const std::vector<std::array<double, 4>>& anomaly_table(int n) {
-  thread_local std::vector<std::array<double, 4>> table;
-  thread_local int table_n = -1;
-  if (table_n != n) {
-    table.resize(static_cast<std::size_t>(n));
-    for (int k = 0; k < n; ++k) {
-      const double e = 2.0 * std::numbers::pi * (k + 0.5) / n;
-      table[static_cast<std::size_t>(k)] = {std::cos(e), std::sin(e), std::sin(2 * e), std::cos(2 * e)};
-    }
-    table_n = n;
+  thread_local std::unordered_map<int, std::vector<std::array<double, 4>>> tables;
+  const auto found = tables.find(n);
+  if (found != tables.end()) return found->second;
+  if (tables.size() >= 256) tables.clear();
+  std::vector<std::array<double, 4>>& table = tables[n];
+  table.resize(static_cast<std::size_t>(n));
+  for (int k = 0; k < n; ++k) {
+    const double e = 2.0 * std::numbers::pi * (k + 0.5) / n;
+    table[static_cast<std::size_t>(k)] = {std::cos(e), std::sin(e), std::sin(2 * e), std::cos(2 * e)};
   }
   return table;
 }
