@@ -7,6 +7,7 @@
 #include <wcslib/wcshdr.h>
 #include <wcslib/wcsutil.h>
 #include <wcslib/wcsmath.h>
+#include <wcslib/sph.h>
 
 #include <algorithm>
 #include <cmath>
@@ -451,6 +452,37 @@ std::string CelestialWcs::header_cards() const {
 std::string CelestialWcs::projection() const {
   if (!wcs_) return {};
   return std::string(wcs_->cel.prj.code);
+}
+
+std::optional<ZenithalChain> CelestialWcs::zenithal_chain() const {
+  if (!wcs_ || wcs_->naxis != 2 || wcs_->lng < 0 || wcs_->lat < 0) return std::nullopt;
+  const std::string code(wcs_->cel.prj.code);
+  if (code != "TAN" && code != "SIN") return std::nullopt;
+  if (wcs_->cel.offset || wcs_->lin.dispre || wcs_->lin.disseq) return std::nullopt;
+  if (code == "SIN" && (wcs_->cel.prj.pv[1] != 0.0 || wcs_->cel.prj.pv[2] != 0.0)) return std::nullopt;
+  if (!(wcs_->cel.prj.r0 > 0.0)) return std::nullopt;
+  ZenithalChain c;
+  c.sine = code == "SIN";
+  c.r0 = wcs_->cel.prj.r0;
+  for (int j = 0; j < 2; ++j) c.crpix[j] = wcs_->crpix[j] - 1.0;
+  const int rows[2] = {wcs_->lng, wcs_->lat};
+  // wcslib forms the CDELT x PC product only when PC is not the identity.
+  if (!wcs_->lin.unity && !wcs_->lin.piximg) return std::nullopt;
+  for (int i = 0; i < 2; ++i)
+    for (int j = 0; j < 2; ++j)
+      c.linear[i][j] = wcs_->lin.unity ? (j == rows[i] ? wcs_->lin.cdelt[j] : 0.0)
+                                       : wcs_->lin.piximg[rows[i] * 2 + j];
+  // The native basis through wcslib's own rotation of the sphere.
+  const double phi[3] = {0.0, 90.0, 0.0}, theta[3] = {0.0, 0.0, 90.0};
+  for (int k = 0; k < 3; ++k) {
+    double lng = 0.0, lat = 0.0;
+    if (sphx2s(wcs_->cel.euler, 1, 1, 1, 1, &phi[k], &theta[k], &lng, &lat) != 0) return std::nullopt;
+    const double a = lng * D2R, d = lat * D2R;
+    c.rotation[0][k] = std::cos(d) * std::cos(a);
+    c.rotation[1][k] = std::cos(d) * std::sin(a);
+    c.rotation[2][k] = std::sin(d);
+  }
+  return c;
 }
 
 }  // namespace fulcrum

@@ -8,10 +8,6 @@
 
 namespace fulcrum {
 
-namespace {
-constexpr double kArcsecPerRad = 180.0 / std::numbers::pi * 3600.0;
-}  // namespace
-
 SkyOffset OffsetFrame::to_offset(WorldCoord w) const {
   const double a0 = ref_.ra_deg * kRadPerDeg, d0 = ref_.dec_deg * kRadPerDeg;
   const double a = w.ra_deg * kRadPerDeg, d = w.dec_deg * kRadPerDeg;

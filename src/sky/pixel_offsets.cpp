@@ -6,6 +6,7 @@
 #include <cmath>
 
 #include "fulcrum/sky/angle.hpp"
+#include "fulcrum/sky/zenithal_offsets.hpp"
 #include "fulcrum/core/error.hpp"
 
 namespace fulcrum {
@@ -30,6 +31,10 @@ void grid_row_offsets(const CelestialWcs& wcs, const OffsetFrame& frame, int nx,
   // The world positions of the pixel centres: kept by the WCS when a caller
   // asked for it (CelestialWcs::keep_grid_world: the same numbers), else
   // through wcslib now, a chunk at a time.
+  // TAN and SIN maps: the offsets as rotations, without trigonometry
+  // (zenithal_offsets.hpp; the same numbers to round-off).
+  if (const auto fast = ZenithalOffsets::make(wcs, frame, nx, ny); fast && fast->rows(nx, y0, y1, east, north))
+    return;
   const std::shared_ptr<const std::vector<WorldCoord>> kept = wcs.kept_grid_world(nx, ny);
   if (kept) {
     for (std::size_t i = 0; i < n; ++i) {

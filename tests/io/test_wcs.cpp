@@ -73,9 +73,22 @@ TEST_CASE("pixel<->world, offsets and PAs agree with astropy", "[io][wcs][python
                      {"sep", separation_arcsec(prev, w)}});
       prev = w;
     }
+    // The offsets a whole grid holds (for TAN and SIN maps computed as
+    // rotations, sky/zenithal_offsets.hpp) about a reference off CRVAL.
+    const WorldCoord grid_ref{c.crval.ra_deg + 0.004, c.crval.dec_deg - 0.003};
+    const PixelOffsets held(back, grid_ref);
+    std::uniform_int_distribution<int> gx(0, back.nx - 1), gy(0, back.ny - 1);
+    nlohmann::json grid_pts = nlohmann::json::array();
+    for (int i = 0; i < 60; ++i) {
+      const int x = gx(rng), y = gy(rng);
+      const SkyOffset o = held.at(x, y);
+      grid_pts.push_back({{"x", x}, {"y", y}, {"east", o.east}, {"north", o.north}});
+    }
     GridOrientation g = grid_orientation(back.wcs, {100, 90});
     all.push_back({{"file", file}, {"ref_ra", c.crval.ra_deg}, {"ref_dec", c.crval.dec_deg},
-                   {"points", pts}, {"pas", pas}, {"pa_plus_y", g.north_pa_of_plus_y_deg}});
+                   {"points", pts}, {"pas", pas}, {"pa_plus_y", g.north_pa_of_plus_y_deg},
+                   {"grid_ref_ra", grid_ref.ra_deg}, {"grid_ref_dec", grid_ref.dec_deg},
+                   {"grid_points", grid_pts}});
   }
   std::string json = (dir / "points.json").string();
   std::ofstream(json) << all.dump();

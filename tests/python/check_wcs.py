@@ -32,14 +32,27 @@ for c in cases:
     worst["pix"] = max(worst["pix"], np.abs(px - x).max(), np.abs(py - y).max())
     # Tangent-plane offsets: a TAN WCS centred on the reference, 1 arcsec pixels,
     # x increasing to the west, so east = -x, north = y.
-    t = WCS(naxis=2)
-    t.wcs.ctype = ["RA---TAN", "DEC--TAN"]
-    t.wcs.crval = [c["ref_ra"], c["ref_dec"]]
-    t.wcs.crpix = [1, 1]  # FITS 1-based: the reference is 0-based pixel (0, 0)
-    t.wcs.cdelt = [-1 / 3600.0, 1 / 3600.0]
-    ox, oy = t.all_world2pix(np.array([p["ra"] for p in pts]), np.array([p["dec"] for p in pts]), 0)
-    worst["off"] = max(worst["off"], np.abs(-ox - np.array([p["east"] for p in pts])).max(),
-                       np.abs(oy - np.array([p["north"] for p in pts])).max())
+    def tangent_offsets(ref_ra, ref_dec, ra_deg, dec_deg):
+        t = WCS(naxis=2)
+        t.wcs.ctype = ["RA---TAN", "DEC--TAN"]
+        t.wcs.crval = [ref_ra, ref_dec]
+        t.wcs.crpix = [1, 1]  # FITS 1-based: the reference is 0-based pixel (0, 0)
+        t.wcs.cdelt = [-1 / 3600.0, 1 / 3600.0]
+        ox, oy = t.all_world2pix(ra_deg, dec_deg, 0)
+        return -ox, oy
+
+    east, north = tangent_offsets(c["ref_ra"], c["ref_dec"], np.array([p["ra"] for p in pts]),
+                                  np.array([p["dec"] for p in pts]))
+    worst["off"] = max(worst["off"], np.abs(east - np.array([p["east"] for p in pts])).max(),
+                       np.abs(north - np.array([p["north"] for p in pts])).max())
+    # The offsets a whole grid holds (TAN and SIN maps: computed as rotations
+    # of unit vectors, not through wcslib per pixel), from astropy's pixel
+    # positions and the TAN projection about the grid's reference.
+    g = c["grid_points"]
+    gra, gdec = w.all_pix2world(np.array([p["x"] for p in g], float), np.array([p["y"] for p in g], float), 0)
+    east, north = tangent_offsets(c["grid_ref_ra"], c["grid_ref_dec"], gra, gdec)
+    worst["grid_off"] = max(worst.get("grid_off", 0.0), np.abs(east - np.array([p["east"] for p in g])).max(),
+                            np.abs(north - np.array([p["north"] for p in g])).max())
     for q in c["pas"]:
         a = SkyCoord(q["ra1"] * u.deg, q["dec1"] * u.deg)
         b = SkyCoord(q["ra2"] * u.deg, q["dec2"] * u.deg)
@@ -48,5 +61,6 @@ for c in cases:
         worst["pa"] = max(worst["pa"], d)
         worst["sep"] = max(worst["sep"], abs(a.separation(b).arcsec - q["sep"]))
 print("worst differences:", worst)
-ok = worst["world"] < 1e-9 and worst["pix"] < 1e-6 and worst["pa"] < 1e-6 and worst["off"] < 1e-6 and worst["sep"] < 1e-6
+ok = (worst["world"] < 1e-9 and worst["pix"] < 1e-6 and worst["pa"] < 1e-6 and worst["off"] < 1e-6 and worst["sep"] < 1e-6
+      and worst["grid_off"] < 1e-6)
 sys.exit(0 if ok else 1)

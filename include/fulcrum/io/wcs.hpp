@@ -16,6 +16,7 @@
 
 #include <cstddef>
 #include <memory>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -35,6 +36,26 @@ struct PixelCoord {
 
 inline double fits_pixel(double zero_based) { return zero_based + 1.0; }
 inline double zero_based_pixel(double fits) { return fits - 1.0; }
+
+// The pixel-to-sky chain of a zenithal TAN or SIN projection (no
+// distortion, no SIN obliqueness, no fiducial offset) as plain numbers, for
+// code that maps whole grids without wcslib's per-pixel trigonometry
+// (sky/zenithal_offsets.hpp). Calabretta & Greisen 2002 (A&A 395, 1077),
+// the zenithal projections (x = R sin phi, y = -R cos phi; TAN R = r0 cot
+// theta, SIN R = r0 cos theta; recalled from memory): intermediate
+// coordinates (x, y) = linear (pixel - crpix) in degrees; native direction
+// for TAN (-y, x, r0) / |.|, for SIN (-y / r0, x / r0, sqrt(1 - (x^2 + y^2)
+// / r0^2)) in the native basis below; celestial unit vector = rotation x
+// native vector.
+struct ZenithalChain {
+  bool sine = false;           // SIN; else TAN
+  double crpix[2] = {0, 0};    // reference pixel, 0-based
+  double linear[2][2] = {};    // rows: x, y (deg); columns: pixel x, y
+  double r0 = 0.0;             // the projection's sphere radius (deg)
+  // Columns: the celestial unit vectors (x toward RA 0, z toward Dec 90) of
+  // the native directions (phi, theta) = (0, 0), (90, 0) and theta = 90.
+  double rotation[3][3] = {};
+};
 
 class CelestialWcs {
  public:
@@ -76,6 +97,8 @@ class CelestialWcs {
   std::string header_cards() const;
   // Projection code, e.g. "SIN".
   std::string projection() const;
+  // The chain above when this WCS is such a projection, else nullopt.
+  std::optional<ZenithalChain> zenithal_chain() const;
   const std::string& source() const { return source_; }
 
  private:

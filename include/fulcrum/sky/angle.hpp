@@ -15,6 +15,8 @@ namespace fulcrum {
 // pi / 180: a plain number for code that works in radians (Ceres functors,
 // trigonometry on raw parameters); interfaces use Angle.
 inline constexpr double kRadPerDeg = std::numbers::pi / 180.0;
+// Arcseconds per radian, for offsets on the sky from radians.
+inline constexpr double kArcsecPerRad = 180.0 / std::numbers::pi * 3600.0;
 
 class Angle {
  public:

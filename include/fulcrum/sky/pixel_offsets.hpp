@@ -74,10 +74,13 @@ class PixelOffsets {
 
 // The offsets (arcsec) about `frame` of the pixel centres of rows [y0, y1)
 // of an nx x ny grid, row by row: east[x + nx (y - y0)]. The same numbers,
-// bit for bit, as PixelOffsets holds (it fills itself with this function);
-// the grid's kept world positions are used when the WCS keeps them
-// (CelestialWcs::keep_grid_world), else wcslib in chunks of a few thousand
-// pixels, so that the working memory does not grow with the grid.
+// bit for bit, as PixelOffsets holds (it fills itself with this function).
+// TAN and SIN grids are computed as rotations of unit vectors
+// (zenithal_offsets.hpp: wcslib's numbers to round-off, without per-pixel
+// trigonometry); other projections use the grid's kept world positions when
+// the WCS keeps them (CelestialWcs::keep_grid_world), else wcslib in chunks
+// of a few thousand pixels, so that the working memory does not grow with
+// the grid.
 void grid_row_offsets(const CelestialWcs& wcs, const OffsetFrame& frame, int nx, int ny, int y0,
                       int y1, double* east, double* north);
 
