@@ -5,6 +5,7 @@
 #include <Eigen/QR>
 #include <Eigen/SVD>
 #include <cmath>
+#include <limits>
 
 namespace fulcrum {
 
@@ -25,6 +26,10 @@ JacobianCovariance covariance_from_jacobian(const Eigen::Ref<const Eigen::Matrix
     ++out.rank;
   }
   out.cov = svd.matrixV() * inv_s2.asDiagonal() * svd.matrixV().transpose();
+  out.singular_values = s;
+  const double tol = 20.0 * static_cast<double>(jacobian.rows() + n) * std::numeric_limits<double>::epsilon() *
+                     jacobian.colwise().norm().maxCoeff();
+  out.full_rank_by_default_tolerance = s[n - 1] > tol;
   out.ok = true;
   return out;
 }

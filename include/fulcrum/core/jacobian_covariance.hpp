@@ -19,6 +19,12 @@ struct JacobianCovariance {
   bool ok = false;       // false when J has no rows, fewer rows than columns or a non-finite entry
   Eigen::MatrixXd cov;   // columns x columns
   int rank = 0;          // directions kept
+  Eigen::VectorXd singular_values;  // of J, decreasing
+  // Whether J has full column rank by SuiteSparseQR's default rule (its
+  // rank tolerance 20 (rows + columns) x machine epsilon x the largest column
+  // norm of J, applied here to the smallest singular value): the test behind
+  // Ceres's SPARSE_QR covariance, which refuses a rank-deficient problem.
+  bool full_rank_by_default_tolerance = false;
 };
 
 JacobianCovariance covariance_from_jacobian(const Eigen::Ref<const Eigen::MatrixXd>& jacobian,
