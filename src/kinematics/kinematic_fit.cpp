@@ -600,7 +600,7 @@ double geometry_change_sigma(const GlobalFitSummary& next, const GlobalFitSummar
 
 // Beam-smearing correction (beam_smearing.hpp): refit to v_obs - Delta,
 // Delta = what the beam does to the current model, until the geometry
-// settles. The adopted covariance is Ceres' one of the last refit, scaled as
+// settles. The adopted covariance is the formal one of the last refit, scaled as
 // every global fit is (covariance_scaling.hpp). Returns the corrected
 // samples when the correction was applied.
 std::optional<VelocitySamples> correct_smearing(KinematicFit& fit, const VelocitySamples& s,

@@ -1,8 +1,10 @@
 // The residual-based centre covariance (kinematics/centre_covariance.hpp,
 // residual_correlation.hpp, method_spread.hpp, centre_error_terms.hpp):
-//  * the normal matrix built here reproduces Ceres' formal covariance of the
-//    global fit (scaled by the same reduced chi^2 and eta) - two independent
-//    evaluations of (J^T W J)^-1;
+//  * the normal matrix built here reproduces the global fit's formal
+//    covariance (from the Jacobian Ceres evaluates for its problem, scaled by
+//    the same reduced chi^2 and eta) - two independent evaluations of
+//    (J^T W J)^-1 (the Jacobian covariance itself is checked against Ceres's
+//    own covariance in tests/core/test_jacobian_covariance.cpp);
 //  * the neighbour sum equals a brute-force double loop over all pairs;
 //  * the residual correlation of noise white before a beam is measured as the
 //    beam's autocorrelation (scale sqrt 2: docs/uncertainties.md §1, checked
