@@ -545,6 +545,8 @@ GlobalFitSummary fit_global_rings(const VelocitySamples& s, const DiscGeometry& 
 
   out.message = last_summary.message;
   out.converged = last_summary.IsSolutionUsable() && last_summary.termination_type == ceres::CONVERGENCE;
+  out.stopped_at_iteration_limit =
+      last_summary.IsSolutionUsable() && last_summary.termination_type == ceres::NO_CONVERGENCE && out.n_used > 0;
   out.chi2 = 2.0 * last_summary.final_cost;
   fill_solution(out, s, p, *problem, opt, node_r, sel.bracket);
 

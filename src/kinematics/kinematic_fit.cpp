@@ -616,7 +616,8 @@ std::optional<VelocitySamples> correct_smearing(KinematicFit& fit, const Velocit
   VelocitySamples corrected = s;
   GlobalFitSummary current = fit.global;
   std::vector<double> delta;
-  for (int it = 0; it < std::max(1, opt.smearing_max_refits); ++it) {
+  const int refits = std::max(1, opt.smearing_max_refits);
+  for (int it = 0; it < refits; ++it) {
     delta = smearing_correction(smearing, current);
     for (std::size_t i = 0; i < s.size(); ++i) corrected.velocity[i] = s.velocity[i] - delta[i];
     ro.start_vrot.clear();
@@ -627,6 +628,15 @@ std::optional<VelocitySamples> correct_smearing(KinematicFit& fit, const Velocit
     }
     GlobalFitSummary next = fit_global_rings(corrected, current.geometry, ro);
     ++bs.refits;
+    // A refit that ran out of iterations is carried on by the next one, which
+    // starts where it stopped; only the refit that ends the correction must
+    // have converged. (Dropping the whole correction there made the outcome
+    // hang on whether a slow, ill-conditioned refit happened to finish
+    // within the cap: round-off could decide it.)
+    if (next.stopped_at_iteration_limit && it + 1 < refits) {
+      current = std::move(next);
+      continue;
+    }
     if (!next.converged || !next.covariance_ok) {
       bs.reason = "the refit with the correction " +
                   std::string(next.converged ? "has a singular covariance" : "did not converge") +

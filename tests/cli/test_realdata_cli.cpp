@@ -83,11 +83,12 @@ TEST_CASE("real velocity fields as delivered: geometry near the published one", 
     CHECK(std::abs(dpa) < 3.0 * j["pa_err_deg"].get<double>());
     CHECK(std::abs(dinc) < 3.0 * j["inc_err_deg"].get<double>());
     // The published centre through fulcrum's 2x2 covariance (sqrt of the
-    // Mahalanobis distance) within 3 sigma: 1.4 (NGC4310) and 2.2 (NGC5692)
+    // Mahalanobis distance) within 3 sigma: 1.3 (NGC4310) and 2.2 (NGC5692)
     // today (docs/validation.md), with the centre errors widened by the
-    // re-fit bootstrap (x1.62, x1.73; docs/uncertainties.md section 4b).
-    // NGC4310 was at 2.4 before a round-off change let its beam-smearing
-    // refit converge (docs/performance.md, "analyse, sixth pass").
+    // re-fit bootstrap (x1.71, x1.73; docs/uncertainties.md section 4b).
+    // NGC4310 was at 2.4 while a beam-smearing refit stopped at the
+    // iteration cap dropped the correction (docs/performance.md, "analyse,
+    // sixth pass").
     CHECK(j["centre_bootstrap"]["applied"].get<bool>());
     const OffsetFrame frame(WorldCoord{j["centre"]["ra_deg"].get<double>(), j["centre"]["dec_deg"].get<double>()});
     const SkyOffset d = frame.to_offset({g.ra, g.dec});

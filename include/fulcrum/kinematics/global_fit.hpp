@@ -106,6 +106,9 @@ struct RingNode {
 
 struct GlobalFitSummary {
   bool converged = false;
+  // The last pass ran out of iterations: its solution is usable but not
+  // converged (a later fit started from it carries on from there).
+  bool stopped_at_iteration_limit = false;
   bool covariance_ok = false;
   std::string message;        // Ceres' termination message of the last pass
   DiscGeometry geometry;
