@@ -2,6 +2,8 @@
 // (J = Q R, so J and R have the same singular values and right vectors).
 #include "fulcrum/core/jacobian_covariance.hpp"
 
+#include <ceres/ceres.h>
+
 #include <Eigen/QR>
 #include <Eigen/SVD>
 #include <cmath>
@@ -32,6 +34,19 @@ JacobianCovariance covariance_from_jacobian(const Eigen::Ref<const Eigen::Matrix
   out.full_rank_by_default_tolerance = s[n - 1] > tol;
   out.ok = true;
   return out;
+}
+
+Eigen::MatrixXd problem_jacobian(ceres::Problem& problem, const std::vector<double*>& blocks) {
+  ceres::Problem::EvaluateOptions eo;
+  eo.parameter_blocks = blocks;
+  eo.num_threads = 1;
+  ceres::CRSMatrix crs;
+  double cost = 0.0;
+  if (!problem.Evaluate(eo, &cost, nullptr, nullptr, &crs)) return {};
+  Eigen::MatrixXd jac = Eigen::MatrixXd::Zero(crs.num_rows, crs.num_cols);
+  for (int r = 0; r < crs.num_rows; ++r)
+    for (int k = crs.rows[r]; k < crs.rows[r + 1]; ++k) jac(r, crs.cols[k]) = crs.values[k];
+  return jac;
 }
 
 }  // namespace fulcrum

@@ -317,22 +317,15 @@ bool block_covariance(ceres::Problem& problem, const std::vector<const double*>&
     }
   std::fill(full.begin(), full.end(), 0.0);
   if (free.empty()) return true;
-  ceres::Problem::EvaluateOptions eo;
-  eo.parameter_blocks = free;
-  eo.num_threads = 1;
-  ceres::CRSMatrix crs;
-  double cost = 0.0;
-  if (!problem.Evaluate(eo, &cost, nullptr, nullptr, &crs)) return false;
-  Eigen::MatrixXd jac = Eigen::MatrixXd::Zero(crs.num_rows, crs.num_cols);
-  for (int r = 0; r < crs.num_rows; ++r)
-    for (int k = crs.rows[r]; k < crs.rows[r + 1]; ++k) jac(r, crs.cols[k]) = crs.values[k];
+  const Eigen::MatrixXd jac = problem_jacobian(problem, free);
   const JacobianCovariance jc = covariance_from_jacobian(jac, 0.0);
   if (!jc.ok || !jc.full_rank_by_default_tolerance) return false;
-  std::vector<int> column_of(static_cast<std::size_t>(crs.num_cols));  // full's index of each column
+  const auto cols = static_cast<int>(jac.cols());
+  std::vector<int> column_of(static_cast<std::size_t>(cols));  // full's index of each column
   for (std::size_t f = 0, c = 0; f < free.size(); ++f)
     for (int i = 0; i < problem.ParameterBlockSize(free[f]); ++i, ++c) column_of[c] = free_offset[f] + i;
-  for (int i = 0; i < crs.num_cols; ++i)
-    for (int j = 0; j < crs.num_cols; ++j)
+  for (int i = 0; i < cols; ++i)
+    for (int j = 0; j < cols; ++j)
       full[static_cast<std::size_t>(column_of[i]) * dim + column_of[j]] = jc.cov(i, j);
   return true;
 }

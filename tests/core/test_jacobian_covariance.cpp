@@ -92,12 +92,9 @@ TEST_CASE("Jacobian covariance of a non-linear fit equals Ceres's covariance", "
   so.logging_type = ceres::SILENT;
   ceres::Solver::Summary sum;
   ceres::Solve(so, &problem, &sum);
-  ceres::CRSMatrix crs;
-  double cost = 0.0;
-  REQUIRE(problem.Evaluate(ceres::Problem::EvaluateOptions(), &cost, nullptr, nullptr, &crs));
-  Eigen::MatrixXd j = Eigen::MatrixXd::Zero(crs.num_rows, crs.num_cols);
-  for (int r = 0; r < crs.num_rows; ++r)
-    for (int k = crs.rows[r]; k < crs.rows[r + 1]; ++k) j(r, crs.cols[k]) = crs.values[k];
+  const Eigen::MatrixXd j = problem_jacobian(problem, {q});
+  REQUIRE(j.rows() == 25);
+  REQUIRE(j.cols() == 3);
   const JacobianCovariance c = covariance_from_jacobian(j);
   REQUIRE(c.ok);
   CHECK(c.full_rank_by_default_tolerance);

@@ -12,6 +12,11 @@
 #pragma once
 
 #include <Eigen/Core>
+#include <vector>
+
+namespace ceres {
+class Problem;
+}
 
 namespace fulcrum {
 
@@ -29,5 +34,10 @@ struct JacobianCovariance {
 
 JacobianCovariance covariance_from_jacobian(const Eigen::Ref<const Eigen::MatrixXd>& jacobian,
                                             double min_reciprocal_condition = 1e-14);
+
+// The Jacobian of a Ceres problem's residuals at its current parameters with
+// respect to `blocks` (their columns in that order), dense; empty when the
+// problem cannot be evaluated there.
+Eigen::MatrixXd problem_jacobian(ceres::Problem& problem, const std::vector<double*>& blocks);
 
 }  // namespace fulcrum
