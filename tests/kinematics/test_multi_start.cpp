@@ -18,18 +18,30 @@
 using namespace fulcrum;
 using namespace fulcrum::kinematics;
 
+namespace {
+// The velocity samples of an in-test mock disc about its true centre.
+VelocitySamples mock_samples(const test::VelocityMockSpec& spec) {
+  const auto m = test::make_velocity_mock(spec);
+  return samples_from_image(m.velocity, &m.velocity_error, m.true_centre);
+}
+// The rings these tests fit: 0.9 arcsec wide out to 12 arcsec.
+GlobalFitOptions test_rings() {
+  GlobalFitOptions go;
+  go.ring_width_arcsec = 0.9;
+  go.max_radius_arcsec = 12.0;
+  return go;
+}
+}  // namespace
+
 TEST_CASE("scouts find the true PA from a first guess pointing the wrong way", "[kinematics][starts]") {
   test::VelocityMockSpec spec;
   spec.pa_deg = 130;
   spec.seed = 3;
-  auto m = test::make_velocity_mock(spec);
-  VelocitySamples s = samples_from_image(m.velocity, &m.velocity_error, m.true_centre);
+  const VelocitySamples s = mock_samples(spec);
   for (double wrong : {spec.pa_deg + 100.0, spec.pa_deg + 180.0, spec.pa_deg - 70.0}) {
     FirstGuess g = first_guess(s);
     g.pa_deg = wrap_pa_deg(wrong);
-    GlobalFitOptions go;
-    go.ring_width_arcsec = 0.9;
-    go.max_radius_arcsec = 12.0;
+    const GlobalFitOptions go = test_rings();
     const MultiStartSummary ms = scout_starts(s, g, go, MultiStartOptions{}, spec.beam.fwhm_arcsec());
     INFO("first guess PA " << wrong << ", best scout PA " << ms.best_start.pa_deg);
     CHECK(ms.starts == static_cast<int>(ms.scouts.size()));
@@ -50,12 +62,9 @@ TEST_CASE("a scout started at PA + 180 deg reaches the same disc as one started 
   test::VelocityMockSpec spec;
   spec.pa_deg = 40;
   spec.seed = 5;
-  auto m = test::make_velocity_mock(spec);
-  VelocitySamples s = samples_from_image(m.velocity, &m.velocity_error, m.true_centre);
+  const VelocitySamples s = mock_samples(spec);
   const FirstGuess g = first_guess(s);
-  GlobalFitOptions go;
-  go.ring_width_arcsec = 0.9;
-  go.max_radius_arcsec = 12.0;
+  GlobalFitOptions go = test_rings();
   go.max_passes = 3;
   const DiscGeometry a{g.centre, g.pa_deg + 30.0, g.inc_deg, g.vsys_kms};
   DiscGeometry b = a;
@@ -75,12 +84,8 @@ TEST_CASE("a scout started at PA + 180 deg reaches the same disc as one started 
 }
 
 TEST_CASE("a user PA is the only PA start", "[kinematics][starts]") {
-  test::VelocityMockSpec spec;
-  auto m = test::make_velocity_mock(spec);
-  VelocitySamples s = samples_from_image(m.velocity, &m.velocity_error, m.true_centre);
-  GlobalFitOptions go;
-  go.ring_width_arcsec = 0.9;
-  go.max_radius_arcsec = 12.0;
+  const VelocitySamples s = mock_samples(test::VelocityMockSpec{});
+  const GlobalFitOptions go = test_rings();
   MultiStartOptions mo;
   mo.pa_given = true;
   mo.centre_given = true;
@@ -208,12 +213,9 @@ TEST_CASE("a fit stopped by its iteration limit is carried on by a fit started w
   test::VelocityMockSpec spec;
   spec.pa_deg = 70;
   spec.seed = 9;
-  auto m = test::make_velocity_mock(spec);
-  VelocitySamples s = samples_from_image(m.velocity, &m.velocity_error, m.true_centre);
+  const VelocitySamples s = mock_samples(spec);
   const FirstGuess g = first_guess(s);
-  GlobalFitOptions go;
-  go.ring_width_arcsec = 0.9;
-  go.max_radius_arcsec = 12.0;  // passes until the selection settles (one pass keeps its start's pixels)
+  const GlobalFitOptions go = test_rings();  // passes until the selection settles (one pass keeps its start's pixels)
   const DiscGeometry start{g.centre, g.pa_deg + 15.0, g.inc_deg - 8.0, g.vsys_kms};
   const GlobalFitSummary full = fit_global_rings(s, start, go);
   REQUIRE(full.converged);
